@@ -1,0 +1,134 @@
+// sheaf: the command line. It only wires commands to the library.
+#include <CLI/CLI.hpp>
+#include <unistd.h>
+
+#include <csignal>
+#include <cstdio>
+#include <iostream>
+
+#include "pipeline/pipeline.h"
+#include "pipeline/runner.h"
+#include "report/run_record.h"
+
+namespace {
+
+using namespace sheaf;
+
+int fail(const Error& e) {
+  std::fprintf(stderr, "sheaf: %s\n", e.describe().c_str());
+  return e.exit_status();
+}
+
+void on_signal(int) { interrupt_requested().store(true); }
+
+std::string thousands(uint64_t v) {
+  std::string s = std::to_string(v);
+  for (int i = static_cast<int>(s.size()) - 3; i > 0; i -= 3) s.insert(static_cast<size_t>(i), ",");
+  return s;
+}
+
+void print_summary(const RunRecord& r, const std::string& out_dir) {
+  std::printf("sheaf: read %s pairs, kept %s, rejected %s\n", thousands(r.read).c_str(), thousands(r.kept).c_str(),
+              thousands(r.rejected).c_str());
+  std::printf("  %-14s %12s %12s  %s\n", "stage", "in", "dropped", "by reason");
+  for (const auto& s : r.stages) {
+    std::string reasons;
+    for (const auto& [k, v] : s.reasons) reasons += (reasons.empty() ? "" : ", ") + k + " " + thousands(v);
+    std::printf("  %-14s %12s %12s  %s\n", s.name.c_str(), thousands(s.in).c_str(), thousands(s.in - s.out).c_str(),
+                reasons.c_str());
+  }
+  if (!r.splits.empty()) {
+    std::string splits;
+    for (const auto& [k, v] : r.splits) splits += (splits.empty() ? "" : ", ") + k + " " + thousands(v);
+    std::printf("  splits: %s\n", splits.c_str());
+  }
+  for (const auto& o : r.overlaps)
+    if (o.keys != 0) std::printf("  WARNING: %s and %s share %s keys\n", o.a.c_str(), o.b.c_str(), thousands(o.keys).c_str());
+  if (!r.stopped_after.empty()) std::printf("  stopped after stage \"%s\" (--until)\n", r.stopped_after.c_str());
+  std::printf("outputs in %s (run record: %s/manifest.json)\n", out_dir.c_str(), out_dir.c_str());
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  CLI::App app{"sheaf: prepares parallel corpora for sequence-to-sequence training"};
+  app.require_subcommand(1);
+  app.set_version_flag("--version", std::string("sheaf ") + SHEAF_VERSION);
+
+  // init
+  auto* init = app.add_subcommand("init", "print a complete pipeline file for a corpus");
+  InitOptions io;
+  init->add_option("--input", io.inputs, "corpus file; give it twice for two line-aligned files")->required();
+  init->add_option("--source-lang", io.source_lang, "ISO 639-1 code of the source side")->required();
+  init->add_option("--target-lang", io.target_lang, "ISO 639-1 code of the target side")->required();
+  init->add_option("--vocab-size", io.vocab_size, "subword vocabulary size")->capture_default_str();
+  init->add_option("--seed", io.seed, "seed of the split")->capture_default_str();
+  init->add_option("--out", io.out_dir, "output directory")->capture_default_str();
+
+  // validate
+  auto* validate = app.add_subcommand("validate", "check a pipeline file and print it with defaults filled in");
+  std::string vfile;
+  std::vector<std::string> vsets;
+  validate->add_option("file", vfile, "pipeline file")->required();
+  validate->add_option("--set", vsets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
+
+  // run
+  auto* run = app.add_subcommand("run", "run a pipeline");
+  std::string rfile;
+  std::vector<std::string> rsets;
+  RunOptions ro;
+  bool quiet = false;
+  run->add_option("file", rfile, "pipeline file")->required();
+  run->add_option("--out", ro.out_dir, "output directory (overrides [output].dir)");
+  run->add_option("--input", ro.inputs, "corpus file(s) (override [corpus].files)");
+  run->add_option("--threads", ro.threads, "worker threads (default: all cores)")->check(CLI::Range(1, 1024));
+  run->add_option("--until", ro.until, "stop after this stage; outputs so far are complete and recorded");
+  run->add_option("--set", rsets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
+  run->add_flag("--force", ro.force, "write into a directory that is not a sheaf run");
+  run->add_flag("--quiet", quiet, "no progress and no summary");
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    int rc = app.exit(e);
+    return rc == 0 ? 0 : 2;
+  }
+
+  auto overrides = [](const std::vector<std::string>& sets) -> Result<std::vector<Override>> {
+    std::vector<Override> out;
+    for (const auto& s : sets) {
+      auto o = parse_override(s);
+      if (!o.ok()) return o.error();
+      out.push_back(o.value());
+    }
+    return out;
+  };
+
+  if (init->parsed()) {
+    if (io.inputs.size() > 2) return fail(Error(ErrorKind::kUsage, "--input takes one file, or two line-aligned files"));
+    std::cout << init_template(io);
+    return 0;
+  }
+  if (validate->parsed()) {
+    auto ov = overrides(vsets);
+    if (!ov.ok()) return fail(ov.error());
+    auto p = load_pipeline(vfile, *ov);
+    if (!p.ok()) return fail(p.error());
+    std::cout << render_pipeline(*p);
+    return 0;
+  }
+  if (run->parsed()) {
+    auto ov = overrides(rsets);
+    if (!ov.ok()) return fail(ov.error());
+    auto p = load_pipeline(rfile, *ov);
+    if (!p.ok()) return fail(p.error());
+    std::signal(SIGINT, on_signal);
+    std::signal(SIGTERM, on_signal);
+    ro.progress = !quiet && ::isatty(STDERR_FILENO);
+    auto rec = run_pipeline(*p, ro);
+    if (!rec.ok()) return fail(rec.error());
+    if (!quiet) print_summary(*rec, ro.out_dir.empty() ? p->resolve(p->output_dir) : ro.out_dir);
+    return 0;
+  }
+  return 2;
+}

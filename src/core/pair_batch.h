@@ -1,0 +1,58 @@
+// PairBatch: the unit of work that flows through the runner.
+//
+// A batch owns the raw input lines it was cut from (`raw`, plus `raw_target`
+// for two-file input) and an arena for rewritten text. Each Pair holds views
+// of its raw line(s) and of the current source and target text; a stage that
+// rewrites a side writes into the arena and moves the view, untouched text is
+// never copied. A pair is dropped by recording the stage index and a reason
+// code; later stages skip it. Batches are numbered in input order (`seq`) so
+// that serial stages and writers see them in that order.
+#pragma once
+
+#include <array>
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "core/arena.h"
+
+namespace sheaf {
+
+enum Side : int { kSource = 0, kTarget = 1 };
+inline const char* side_name(int side) { return side == kSource ? "source" : "target"; }
+
+// Stage index used for drops made while reading (bad TSV, oversize line...).
+inline constexpr int kReadStage = -1;
+inline constexpr int kKept = -2;
+// Drops made by the runner's final check that output fields are valid TSV.
+inline constexpr int kOutputStage = -3;
+
+struct Pair {
+  uint64_t line = 0;             // 1-based input line (pair index for two files)
+  std::string_view raw;          // original line, or the source line (two files)
+  std::string_view raw_target;   // the target line (two files only)
+  std::array<std::string_view, 2> text;  // current source and target text
+  int drop_stage = kKept;
+  std::string reason;            // reason code, optionally "code:detail"
+  std::array<uint64_t, 2> key{};  // scratch: a stage's hash between its two halves
+  int split = 0;                 // split index set by the split stage
+
+  bool kept() const { return drop_stage == kKept; }
+};
+
+struct PairBatch {
+  uint64_t seq = 0;
+  uint64_t input_bytes = 0;      // bytes of input this batch covers
+  std::string raw;               // raw bytes the pairs' raw views point into
+  std::string raw_target;
+  Arena arena;
+  std::vector<Pair> pairs;
+
+  void drop(Pair& p, int stage, std::string reason) {
+    p.drop_stage = stage;
+    p.reason = std::move(reason);
+  }
+};
+
+}  // namespace sheaf

@@ -1,0 +1,40 @@
+// Text primitives shared by stages and the subword code, all built on ICU.
+// Every function takes UTF-8; functions named *_valid expect valid UTF-8.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <string>
+#include <string_view>
+
+namespace sheaf {
+
+bool is_ascii(std::string_view s);
+// True when `s` is well-formed UTF-8 (no overlongs, surrogates, or values
+// above U+10FFFF).
+bool is_valid_utf8(std::string_view s);
+// Appends `s` to `out` with every ill-formed sequence replaced by U+FFFD,
+// one replacement per maximal ill-formed subpart (Unicode 15.0, section 3.9,
+// "U+FFFD Substitution of Maximal Subparts", as ICU's U8_NEXT implements it).
+// Returns the number of replacements.
+size_t repair_utf8(std::string_view s, std::string& out);
+
+size_t count_code_points(std::string_view s);
+
+// Word segmentation by the Unicode word-boundary rules (UAX #29, with ICU's
+// dictionaries for scripts written without spaces). Thread-safe: each thread
+// uses its own break iterator.
+//
+// cut_words calls fn(begin, end, is_word) for every segment between two
+// boundaries; is_word is false for spaces and punctuation. A segment is a
+// "word" when ICU's rule status is a number, letter, kana or ideograph.
+void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn);
+size_t count_words(std::string_view s);
+// Length in code points of the longest word segment.
+size_t longest_word(std::string_view s);
+
+// Collapses runs of ASCII spaces to one and trims both ends, in place.
+void collapse_spaces(std::string& s);
+
+}  // namespace sheaf

@@ -1,0 +1,111 @@
+#include "io/output_file.h"
+
+#include <fcntl.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstdio>
+#include <cstring>
+#include <vector>
+
+namespace sheaf {
+
+namespace {
+Error write_error(const std::string& path, int err) {
+  std::string hint = err == ENOSPC ? "the disk is full; free space or choose another --out"
+                     : err == EDQUOT ? "the disk quota is exhausted"
+                     : err == EFBIG  ? "the file is larger than allowed (ulimit -f?)"
+                                     : "check permissions and space";
+  return Error(ErrorKind::kIo, std::string("cannot write output: ") + std::strerror(err) + "; " + hint,
+               Location{path, 0, 0, {}});
+}
+}  // namespace
+
+OutputFile::~OutputFile() {
+  if (fd_ >= 0) discard();
+  if (xxh_) XXH3_freeState(xxh_);
+}
+
+Status OutputFile::open(const std::string& path) {
+  path_ = path;
+  fd_ = ::open((path + ".partial").c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd_ < 0) return write_error(path, errno);
+  xxh_ = XXH3_createState();
+  XXH3_64bits_reset(xxh_);
+  buf_.reserve(kBuffer);
+  return {};
+}
+
+void OutputFile::flush() {
+  if (buf_.empty() || fd_ < 0) return;
+  XXH3_64bits_update(xxh_, buf_.data(), buf_.size());
+  size_ += buf_.size();
+  if (!error_) {
+    const char* p = buf_.data();
+    size_t left = buf_.size();
+    while (left > 0) {
+      ssize_t w = ::write(fd_, p, left);
+      if (w < 0 && errno == EINTR) continue;
+      if (w < 0) {
+        error_ = write_error(path_, errno);
+        break;
+      }
+      p += w;
+      left -= static_cast<size_t>(w);
+    }
+  }
+  buf_.clear();
+}
+
+Status OutputFile::commit() {
+  flush();
+  if (!error_ && ::fsync(fd_) != 0 && errno != EINVAL) error_ = write_error(path_, errno);
+  if (::close(fd_) != 0 && !error_) error_ = write_error(path_, errno);
+  fd_ = -1;
+  if (error_) {
+    ::unlink((path_ + ".partial").c_str());
+    return *error_;
+  }
+  digest_ = XXH3_64bits_digest(xxh_);
+  if (std::rename((path_ + ".partial").c_str(), path_.c_str()) != 0) return write_error(path_, errno);
+  committed_ = true;
+  return {};
+}
+
+void OutputFile::discard() {
+  if (fd_ >= 0) {
+    ::close(fd_);
+    fd_ = -1;
+  }
+  ::unlink((path_ + ".partial").c_str());
+}
+
+Result<uint64_t> checksum_file(const std::string& path, uint64_t* size) {
+  int fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
+  if (fd < 0)
+    return Error(ErrorKind::kIo, std::string("cannot read: ") + std::strerror(errno), Location{path, 0, 0, {}});
+  XXH3_state_t* st = XXH3_createState();
+  XXH3_64bits_reset(st);
+  std::vector<char> buf(1 << 20);
+  uint64_t total = 0;
+  for (;;) {
+    ssize_t r = ::read(fd, buf.data(), buf.size());
+    if (r < 0 && errno == EINTR) continue;
+    if (r <= 0) break;
+    XXH3_64bits_update(st, buf.data(), static_cast<size_t>(r));
+    total += static_cast<uint64_t>(r);
+  }
+  ::close(fd);
+  uint64_t d = XXH3_64bits_digest(st);
+  XXH3_freeState(st);
+  if (size) *size = total;
+  return d;
+}
+
+std::string hex64(uint64_t v) {
+  char buf[17];
+  std::snprintf(buf, sizeof buf, "%016llx", static_cast<unsigned long long>(v));
+  return buf;
+}
+
+}  // namespace sheaf

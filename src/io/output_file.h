@@ -1,0 +1,61 @@
+// OutputFile: a buffered, checksummed output file written atomically.
+//
+// Bytes go to "<path>.partial"; commit() flushes, fsyncs and renames it to
+// `path`, so a file under its final name is always complete. Size, record
+// count and the XXH3-64 of the content are kept as it is written, so the run
+// record needs no second read. A write error (a full disk) is reported by
+// write()'s caller through status() and by commit().
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <string>
+#include <string_view>
+
+#include <xxhash.h>
+
+#include "core/error.h"
+
+namespace sheaf {
+
+class OutputFile {
+ public:
+  OutputFile() = default;
+  ~OutputFile();
+  OutputFile(const OutputFile&) = delete;
+  OutputFile& operator=(const OutputFile&) = delete;
+
+  Status open(const std::string& path);
+  void write(std::string_view bytes) {
+    if (buf_.size() + bytes.size() > kBuffer) flush();
+    buf_.append(bytes);
+  }
+  void add_record() { ++records_; }
+  Status status() const { return error_ ? Status(*error_) : Status(); }
+  Status commit();
+  // Removes the partial file (after an error or interruption).
+  void discard();
+
+  const std::string& path() const { return path_; }
+  uint64_t size() const { return size_; }
+  uint64_t records() const { return records_; }
+  uint64_t checksum() const { return digest_; }
+  bool committed() const { return committed_; }
+
+ private:
+  static constexpr size_t kBuffer = 1 << 20;
+  void flush();
+  std::string path_;
+  int fd_ = -1;
+  std::string buf_;
+  uint64_t size_ = 0, records_ = 0, digest_ = 0;
+  XXH3_state_t* xxh_ = nullptr;
+  std::optional<Error> error_;
+  bool committed_ = false;
+};
+
+// XXH3-64 of a whole file, streamed.
+Result<uint64_t> checksum_file(const std::string& path, uint64_t* size = nullptr);
+std::string hex64(uint64_t v);
+
+}  // namespace sheaf

@@ -1,0 +1,157 @@
+#include "io/pair_reader.h"
+
+#include <nlohmann/json.hpp>
+
+#include <cstring>
+
+namespace sheaf {
+
+Result<std::unique_ptr<PairReader>> PairReader::open(const CorpusSpec& spec, const std::vector<std::string>& paths) {
+  std::vector<std::unique_ptr<LineReader>> readers;
+  for (const auto& path : paths) {
+    auto src = open_byte_source(path);
+    if (!src.ok()) return src.error();
+    readers.push_back(std::make_unique<LineReader>(std::move(src.value()), spec.max_line_bytes));
+  }
+  return std::unique_ptr<PairReader>(new PairReader(spec, std::move(readers), paths));
+}
+
+std::vector<InputInfo> PairReader::inputs() const {
+  std::vector<InputInfo> out;
+  for (size_t i = 0; i < readers_.size(); ++i) {
+    const auto& r = *readers_[i];
+    out.push_back({paths_[i], r.source().file_bytes(), r.source().checksum(), compression_name(r.compression()),
+                   r.lines()});
+  }
+  return out;
+}
+
+uint64_t PairReader::consumed() const {
+  uint64_t n = 0;
+  for (const auto& r : readers_) n += r->consumed();
+  return n;
+}
+
+Status PairReader::length_mismatch(int shorter) {
+  // Count the rest of the longer file so the message gives both counts.
+  LineReader& longer = *readers_[1 - shorter];
+  Line l;
+  for (;;) {
+    auto more = longer.next(l);
+    if (!more.ok()) return more.error();
+    if (!*more) break;
+  }
+  return Error(ErrorKind::kInput,
+               "the aligned files have different numbers of lines: " + readers_[0]->name() + " has " +
+                   std::to_string(readers_[0]->lines()) + ", " + readers_[1]->name() + " has " +
+                   std::to_string(readers_[1]->lines()) + "; line N of one must translate line N of the other",
+               Location{readers_[shorter]->name(), 0, 0, {}});
+}
+
+namespace {
+
+// Places the raw line into the batch buffer; views are fixed up later since
+// the buffer may move while it grows.
+struct Pending {
+  size_t off, len, off2, len2;
+};
+
+}  // namespace
+
+void PairReader::parse_tsv(PairBatch& b, Pair& p) {
+  const char* tab = static_cast<const char*>(std::memchr(p.raw.data(), '\t', p.raw.size()));
+  if (tab == nullptr) {
+    b.drop(p, kReadStage, "no-tab");
+    return;
+  }
+  size_t at = static_cast<size_t>(tab - p.raw.data());
+  if (std::memchr(tab + 1, '\t', p.raw.size() - at - 1) != nullptr) {
+    b.drop(p, kReadStage, "extra-tab");
+    return;
+  }
+  p.text[0] = p.raw.substr(0, at);
+  p.text[1] = p.raw.substr(at + 1);
+}
+
+void PairReader::parse_jsonl(PairBatch& b, Pair& p) {
+  auto j = nlohmann::json::parse(p.raw.begin(), p.raw.end(), nullptr, false);
+  if (j.is_discarded() || !j.is_object()) {
+    b.drop(p, kReadStage, "bad-json");
+    return;
+  }
+  const std::string* field[2] = {&spec_.source_field, &spec_.target_field};
+  for (int s = 0; s < 2; ++s) {
+    auto it = j.find(*field[s]);
+    if (it == j.end()) {
+      b.drop(p, kReadStage, "missing-field:" + *field[s]);
+      return;
+    }
+    if (!it->is_string()) {
+      b.drop(p, kReadStage, "not-a-string:" + *field[s]);
+      return;
+    }
+    p.text[s] = b.arena.copy(it->get_ref<const std::string&>());
+  }
+}
+
+Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) {
+  std::vector<Pending> pend;
+  pend.reserve(max_pairs);
+  std::vector<std::string> oversize_reason;
+  uint64_t start = consumed();
+  bool aligned = readers_.size() == 2;
+  Line a, t;
+  while (pend.size() < max_pairs && b.raw.size() + b.raw_target.size() < max_bytes) {
+    auto more = readers_[0]->next(a);
+    if (!more.ok()) return more.error();
+    if (aligned) {
+      auto more2 = readers_[1]->next(t);
+      if (!more2.ok()) return more2.error();
+      if (*more != *more2) {
+        Status st = length_mismatch(*more ? 1 : 0);
+        return st.error();
+      }
+    }
+    if (!*more) break;
+    Pending pd{b.raw.size(), a.text.size(), b.raw_target.size(), 0};
+    b.raw.append(a.text);
+    std::string reason;
+    if (a.oversize) reason = "line-too-long:" + std::to_string(a.length);
+    if (aligned) {
+      pd.len2 = t.text.size();
+      b.raw_target.append(t.text);
+      if (t.oversize && reason.empty()) reason = "line-too-long:" + std::to_string(t.length);
+    }
+    pend.push_back(pd);
+    oversize_reason.push_back(std::move(reason));
+  }
+  if (pend.empty()) return false;
+  b.pairs.resize(pend.size());
+  uint64_t first = readers_[0]->lines() - pend.size() + 1;
+  for (size_t i = 0; i < pend.size(); ++i) {
+    Pair& p = b.pairs[i];
+    p.line = first + i;
+    p.raw = std::string_view(b.raw).substr(pend[i].off, pend[i].len);
+    if (aligned) p.raw_target = std::string_view(b.raw_target).substr(pend[i].off2, pend[i].len2);
+    if (!oversize_reason[i].empty()) {
+      b.drop(p, kReadStage, std::move(oversize_reason[i]));
+      continue;
+    }
+    if (std::memchr(p.raw.data(), 0, p.raw.size()) || std::memchr(p.raw_target.data(), 0, p.raw_target.size())) {
+      b.drop(p, kReadStage, "nul-byte");
+      continue;
+    }
+    switch (spec_.layout) {
+      case Layout::kTsv: parse_tsv(b, p); break;
+      case Layout::kAligned:
+        p.text[0] = p.raw;
+        p.text[1] = p.raw_target;
+        break;
+      case Layout::kJsonl: parse_jsonl(b, p); break;
+    }
+  }
+  b.input_bytes = consumed() - start;
+  return true;
+}
+
+}  // namespace sheaf

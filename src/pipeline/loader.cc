@@ -1,0 +1,392 @@
+// Loading a pipeline file: TOML -> Pipeline, with every check done up front.
+#include <toml++/toml.h>
+
+#include <algorithm>
+#include <filesystem>
+#include <set>
+#include <sstream>
+
+#include "pipeline/pipeline.h"
+
+namespace sheaf {
+
+namespace {
+
+struct Ctx {
+  std::string file;
+  Location at(const toml::source_region& r) const {
+    return Location{file, r.begin.line, r.begin.column, {}};
+  }
+  Location at(const toml::node& n) const { return n.source().begin ? at(n.source()) : Location{file, 0, 0, {}}; }
+};
+
+Error pipeline_error(std::string msg, Location where) {
+  return Error(ErrorKind::kPipeline, std::move(msg), std::move(where));
+}
+
+std::string type_word(FieldType t) {
+  switch (t) {
+    case FieldType::kBool: return "true or false";
+    case FieldType::kInt: return "an integer";
+    case FieldType::kNumber: return "a number";
+    case FieldType::kString: return "a string";
+    case FieldType::kChoice: return "a string";
+    case FieldType::kStringList: return "an array of strings";
+    case FieldType::kFractionOrCount: return "a fraction (0.01) or a count of pairs (2000)";
+    case FieldType::kTableList: return "an array of tables";
+  }
+  return "a value";
+}
+
+std::string range_text(const FieldSpec& f) {
+  std::ostringstream s;
+  bool lo = f.min != -std::numeric_limits<double>::infinity();
+  bool hi = f.max != std::numeric_limits<double>::infinity();
+  if (lo && hi) s << "from " << f.min << " to " << f.max;
+  else if (lo) s << "at least " << f.min;
+  else if (hi) s << "at most " << f.max;
+  return s.str();
+}
+
+Result<Params> check_table(const toml::table& t, const FieldList& fields, const Ctx& ctx, const std::string& what,
+                           const std::set<std::string>& extra_keys = {});
+
+Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ctx, const std::string& what) {
+  auto bad_type = [&]() {
+    return pipeline_error(what + "." + f.key + " must be " + type_word(f.type), ctx.at(n));
+  };
+  auto in_range = [&](double v) -> Status {
+    if (v < f.min || v > f.max)
+      return pipeline_error(what + "." + f.key + " must be " + range_text(f) + ", not " + std::to_string(v), ctx.at(n));
+    return {};
+  };
+  switch (f.type) {
+    case FieldType::kBool:
+      if (!n.is_boolean()) return bad_type();
+      return Value(n.as_boolean()->get());
+    case FieldType::kInt: {
+      if (!n.is_integer()) return bad_type();
+      int64_t v = n.as_integer()->get();
+      if (auto st = in_range(static_cast<double>(v)); !st) return st.error();
+      return Value(v);
+    }
+    case FieldType::kNumber: {
+      double v;
+      if (n.is_integer()) v = static_cast<double>(n.as_integer()->get());
+      else if (n.is_floating_point()) v = n.as_floating_point()->get();
+      else return bad_type();
+      if (auto st = in_range(v); !st) return st.error();
+      return Value(v);
+    }
+    case FieldType::kFractionOrCount: {
+      if (n.is_integer()) {
+        int64_t v = n.as_integer()->get();
+        if (v < 0) return pipeline_error(what + "." + f.key + " must not be negative", ctx.at(n));
+        return Value(v);
+      }
+      if (n.is_floating_point()) {
+        double v = n.as_floating_point()->get();
+        if (!(v >= 0.0 && v < 1.0))
+          return pipeline_error(what + "." + f.key + " is a fraction and must be at least 0 and below 1, not " +
+                                    std::to_string(v) + " (write a whole number for a count of pairs)",
+                                ctx.at(n));
+        return Value(v);
+      }
+      return bad_type();
+    }
+    case FieldType::kString:
+      if (!n.is_string()) return bad_type();
+      return Value(std::string(n.as_string()->get()));
+    case FieldType::kChoice: {
+      if (!n.is_string()) return bad_type();
+      std::string v(n.as_string()->get());
+      for (const auto& c : f.choices)
+        if (c == v) return Value(v);
+      std::string all;
+      for (const auto& c : f.choices) all += (all.empty() ? "" : ", ") + ("\"" + c + "\"");
+      std::string hint = closest_name(v, f.choices);
+      return pipeline_error(what + "." + f.key + " is \"" + v + "\"; it must be one of " + all +
+                                (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
+                            ctx.at(n));
+    }
+    case FieldType::kStringList: {
+      const toml::array* a = n.as_array();
+      if (a == nullptr) return bad_type();
+      std::vector<std::string> out;
+      for (const auto& e : *a) {
+        if (!e.is_string()) return pipeline_error(what + "." + f.key + " must hold only strings", ctx.at(e));
+        out.emplace_back(e.as_string()->get());
+      }
+      return Value(std::move(out));
+    }
+    case FieldType::kTableList: {
+      const toml::array* a = n.as_array();
+      if (a == nullptr) return bad_type();
+      std::vector<Params> out;
+      for (size_t i = 0; i < a->size(); ++i) {
+        const toml::table* t = (*a)[i].as_table();
+        if (t == nullptr) return pipeline_error(what + "." + f.key + " must hold only tables", ctx.at((*a)[i]));
+        auto p = check_table(*t, *f.sub, ctx, what + "." + f.key + "[" + std::to_string(i) + "]");
+        if (!p.ok()) return p.error();
+        out.push_back(std::move(p.value()));
+      }
+      return Value(std::move(out));
+    }
+  }
+  return bad_type();
+}
+
+Result<Params> check_table(const toml::table& t, const FieldList& fields, const Ctx& ctx, const std::string& what,
+                           const std::set<std::string>& extra_keys) {
+  std::vector<std::string> names;
+  for (const auto& f : fields) names.push_back(f.key);
+  for (auto&& [k, v] : t) {
+    std::string key(k.str());
+    if (extra_keys.count(key)) continue;
+    bool known = false;
+    for (const auto& f : fields) known |= f.key == key;
+    if (!known) {
+      std::string hint = closest_name(key, names);
+      Location where = k.source().begin ? ctx.at(k.source()) : ctx.at(v);
+      return pipeline_error("unknown key \"" + key + "\" in " + what +
+                                (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
+                            where);
+    }
+  }
+  Params out;
+  for (const auto& f : fields) {
+    const toml::node* n = t.get(f.key);
+    if (n == nullptr) {
+      out.set(f.key, f.fallback, {}, true);
+      continue;
+    }
+    auto v = check_value(*n, f, ctx, what);
+    if (!v.ok()) return v.error();
+    out.set(f.key, std::move(v.value()), ctx.at(*n), false);
+  }
+  return out;
+}
+
+Status apply_override(toml::table& root, const Override& o) {
+  toml::table parsed;
+  try {
+    parsed = toml::parse("v = " + o.toml_value);
+  } catch (const toml::parse_error& e) {
+    return pipeline_error("--set " + o.target + "." + o.key + ": \"" + o.toml_value +
+                              "\" is not a TOML value (quote strings: " + o.key + "='\"text\"')",
+                          Location{"--set", 0, 0, {}});
+  }
+  toml::node* value = parsed.get("v");
+  if (o.target == "corpus" || o.target == "output") {
+    toml::table* sec = root[o.target].as_table();
+    if (sec == nullptr) {
+      root.insert(o.target, toml::table{});
+      sec = root[o.target].as_table();
+    }
+    sec->insert_or_assign(o.key, *value);
+    return {};
+  }
+  toml::array* stages = root["stage"].as_array();
+  std::vector<std::string> names;
+  if (stages != nullptr) {
+    for (auto& s : *stages) {
+      toml::table* t = s.as_table();
+      if (t == nullptr) continue;
+      std::string name = t->get("name") && t->get("name")->is_string() ? std::string(t->get("name")->as_string()->get())
+                         : t->get("kind") && t->get("kind")->is_string() ? std::string(t->get("kind")->as_string()->get())
+                                                                          : "";
+      names.push_back(name);
+      if (name == o.target) {
+        t->insert_or_assign(o.key, *value);
+        return {};
+      }
+    }
+  }
+  names.push_back("corpus");
+  names.push_back("output");
+  std::string hint = closest_name(o.target, names);
+  return pipeline_error("--set names \"" + o.target + "\", which is not a stage of this pipeline" +
+                            (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
+                        Location{"--set", 0, 0, {}});
+}
+
+Result<Pipeline> build(toml::table& root, const std::string& name, const std::vector<Override>& overrides) {
+  Ctx ctx{name};
+  for (const auto& o : overrides) SHEAF_TRY(apply_override(root, o));
+
+  Pipeline p;
+  p.path = name;
+  std::filesystem::path fp(name);
+  p.base_dir = fp.has_parent_path() ? fp.parent_path().string() : ".";
+
+  static const std::vector<std::string> kTop = {"sheaf", "corpus", "output", "stage"};
+  for (auto&& [k, v] : root) {
+    std::string key(k.str());
+    if (std::find(kTop.begin(), kTop.end(), key) == kTop.end()) {
+      std::string hint = closest_name(key, kTop);
+      return pipeline_error("unknown top-level key \"" + key + "\"" + (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
+                            k.source().begin ? ctx.at(k.source()) : ctx.at(v));
+    }
+  }
+  const toml::node* version = root.get("sheaf");
+  if (version == nullptr)
+    return pipeline_error("missing \"sheaf = " + std::to_string(kPipelineFormat) +
+                              "\" at the top (the pipeline format version)", Location{name, 1, 1, {}});
+  if (!version->is_integer() || version->as_integer()->get() != kPipelineFormat)
+    return pipeline_error("this sheaf reads pipeline format " + std::to_string(kPipelineFormat) +
+                              "; write sheaf = " + std::to_string(kPipelineFormat), ctx.at(*version));
+
+  auto section = [&](const char* key, const FieldList& fields, Params& out) -> Status {
+    const toml::node* n = root.get(key);
+    toml::table empty;
+    const toml::table* t = &empty;
+    if (n != nullptr) {
+      t = n->as_table();
+      if (t == nullptr) return pipeline_error(std::string("[") + key + "] must be a table", ctx.at(*n));
+    }
+    auto r = check_table(*t, fields, ctx, std::string("[") + key + "]");
+    if (!r.ok()) return r.error();
+    out = std::move(r.value());
+    return {};
+  };
+  SHEAF_TRY(section("corpus", corpus_fields(), p.corpus_params));
+  SHEAF_TRY(section("output", output_fields(), p.output_params));
+
+  const Params& c = p.corpus_params;
+  const std::string& layout = c.text("layout");
+  p.corpus.layout = layout == "aligned" ? Layout::kAligned : layout == "jsonl" ? Layout::kJsonl : Layout::kTsv;
+  p.corpus.files = c.list("files");
+  size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
+  if (p.corpus.files.size() != want) {
+    Location where = c.where("files").empty() ? Location{name, 0, 0, {}} : c.where("files");
+    return pipeline_error(std::string("[corpus].files must name ") +
+                              (want == 2 ? "two line-aligned files (source, then target) for layout \"aligned\""
+                                         : "exactly one file for layout \"" + layout + "\"") +
+                              "; it names " + std::to_string(p.corpus.files.size()),
+                          where);
+  }
+  p.corpus.source_lang = c.text("source_lang");
+  p.corpus.target_lang = c.text("target_lang");
+  p.corpus.source_field = c.text("source_field");
+  p.corpus.target_field = c.text("target_field");
+  p.corpus.max_line_bytes = static_cast<uint64_t>(c.integer("max_line_bytes"));
+  p.output_dir = p.output_params.text("dir");
+
+  const toml::node* sn = root.get("stage");
+  if (sn != nullptr) {
+    const toml::array* arr = sn->as_array();
+    if (arr == nullptr) return pipeline_error("\"stage\" must be an array of tables: write each as [[stage]]", ctx.at(*sn));
+    std::vector<std::string> kinds;
+    for (const auto& k : stage_kinds()) kinds.push_back(k.kind);
+    std::string kinds_text;
+    for (const auto& k : kinds) kinds_text += (kinds_text.empty() ? "" : ", ") + k;
+    for (size_t i = 0; i < arr->size(); ++i) {
+      const toml::table* t = (*arr)[i].as_table();
+      if (t == nullptr) return pipeline_error("each stage must be a table: write it as [[stage]]", ctx.at((*arr)[i]));
+      const toml::node* kn = t->get("kind");
+      if (kn == nullptr || !kn->is_string())
+        return pipeline_error("stage " + std::to_string(i + 1) + " needs kind = \"...\" (one of " + kinds_text + ")",
+                              ctx.at(*t));
+      std::string kind(kn->as_string()->get());
+      const StageKind* sk = find_stage_kind(kind);
+      if (sk == nullptr) {
+        std::string hint = closest_name(kind, kinds);
+        return pipeline_error("unknown stage kind \"" + kind + "\"" +
+                                  (hint.empty() ? "; the kinds are " + kinds_text : " (did you mean \"" + hint + "\"?)"),
+                              ctx.at(*kn));
+      }
+      StageSpec spec;
+      spec.kind = sk;
+      spec.where = ctx.at(*t);
+      spec.name = kind;
+      if (const toml::node* nn = t->get("name")) {
+        if (!nn->is_string() || nn->as_string()->get().empty())
+          return pipeline_error("a stage's name must be a non-empty string", ctx.at(*nn));
+        spec.name = std::string(nn->as_string()->get());
+        for (char ch : spec.name)
+          if (!(std::isalnum(static_cast<unsigned char>(ch)) || ch == '-' || ch == '_'))
+            return pipeline_error("stage name \"" + spec.name + "\" may hold only letters, digits, '-' and '_'",
+                                  ctx.at(*nn));
+        if (spec.name == "read" || spec.name == "output" || spec.name == "corpus")
+          return pipeline_error("stage name \"" + spec.name + "\" is reserved; choose another", ctx.at(*nn));
+      }
+      for (const auto& other : p.stages)
+        if (other.name == spec.name)
+          return pipeline_error("two stages are named \"" + spec.name + "\"; give one of them name = \"...\"",
+                                ctx.at(*t));
+      auto params = check_table(*t, sk->fields, ctx, "stage \"" + spec.name + "\"", {"kind", "name"});
+      if (!params.ok()) return params.error();
+      spec.params = std::move(params.value());
+      p.stages.push_back(std::move(spec));
+    }
+  }
+
+  // Order: filters, then at most one split, then at most one vocabulary,
+  // then at most one shards stage (which needs a vocabulary).
+  int last_role = 0;
+  int seen[4] = {0, 0, 0, 0};
+  for (const auto& s : p.stages) {
+    int role = static_cast<int>(s.kind->role);
+    if (role < last_role) {
+      static const char* order = "filters (normalize, length, ...), then split, then vocabulary, then shards";
+      return pipeline_error("stage \"" + s.name + "\" (" + s.kind->kind + ") is out of order: stages run as " + order,
+                            s.where);
+    }
+    if (role > 0 && seen[role]++)
+      return pipeline_error("only one " + s.kind->kind + " stage is allowed", s.where);
+    last_role = role;
+  }
+  if (seen[static_cast<int>(StageRole::kShards)] && !seen[static_cast<int>(StageRole::kVocabulary)]) {
+    return pipeline_error("the shards stage needs a vocabulary stage before it", p.stages.back().where);
+  }
+  return p;
+}
+
+}  // namespace
+
+Result<Override> parse_override(const std::string& text) {
+  auto eq = text.find('=');
+  auto dot = text.find('.');
+  if (eq == std::string::npos || dot == std::string::npos || dot > eq || dot == 0 || dot + 1 == eq)
+    return Error(ErrorKind::kUsage, "--set takes NAME.KEY=VALUE (a stage name or corpus/output, a key, a TOML value), not \"" + text + "\"");
+  return Override{text.substr(0, dot), text.substr(dot + 1, eq - dot - 1), text.substr(eq + 1)};
+}
+
+int Pipeline::stage_index(std::string_view name) const {
+  for (size_t i = 0; i < stages.size(); ++i)
+    if (stages[i].name == name) return static_cast<int>(i);
+  return -1;
+}
+
+std::string Pipeline::resolve(const std::string& path) const {
+  if (path == "-" || path.empty() || path.front() == '/') return path;
+  return (std::filesystem::path(base_dir) / path).lexically_normal().string();
+}
+
+Result<Pipeline> load_pipeline_text(const std::string& text, const std::string& name,
+                                    const std::vector<Override>& overrides) {
+  toml::table root;
+  try {
+    root = toml::parse(text, name);
+  } catch (const toml::parse_error& e) {
+    return pipeline_error("not valid TOML: " + std::string(e.description()),
+                          Location{name, e.source().begin.line, e.source().begin.column, {}});
+  }
+  return build(root, name, overrides);
+}
+
+Result<Pipeline> load_pipeline(const std::string& path, const std::vector<Override>& overrides) {
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(path, ec))
+    return Error(ErrorKind::kPipeline, "cannot read the pipeline file; check the path", Location{path, 0, 0, {}});
+  toml::table root;
+  try {
+    root = toml::parse_file(path);
+  } catch (const toml::parse_error& e) {
+    return pipeline_error("not valid TOML: " + std::string(e.description()),
+                          Location{path, e.source().begin.line, e.source().begin.column, {}});
+  }
+  return build(root, path, overrides);
+}
+
+}  // namespace sheaf

@@ -1,0 +1,155 @@
+// Writing a Pipeline back as TOML: `sheaf validate`'s resolved output and
+// `sheaf init`'s commented template.
+#include <charconv>
+#include <sstream>
+
+#include "pipeline/pipeline.h"
+
+namespace sheaf {
+
+namespace {
+
+std::string toml_string(std::string_view s) {
+  std::string out = "\"";
+  for (unsigned char c : s) {
+    switch (c) {
+      case '"': out += "\\\""; break;
+      case '\\': out += "\\\\"; break;
+      case '\n': out += "\\n"; break;
+      case '\t': out += "\\t"; break;
+      case '\r': out += "\\r"; break;
+      default:
+        if (c < 0x20 || c == 0x7F) {
+          char buf[8];
+          std::snprintf(buf, sizeof buf, "\\u%04X", c);
+          out += buf;
+        } else {
+          out += static_cast<char>(c);
+        }
+    }
+  }
+  return out + "\"";
+}
+
+std::string toml_number(double d) {
+  char buf[64];
+  auto r = std::to_chars(buf, buf + sizeof buf, d);
+  std::string s(buf, r.ptr);
+  if (s.find_first_of(".eEn") == std::string::npos) s += ".0";
+  return s;
+}
+
+std::string render_params_inline(const Params& p);
+
+std::string render_value(const Value& v) {
+  struct V {
+    std::string operator()(bool b) const { return b ? "true" : "false"; }
+    std::string operator()(int64_t i) const { return std::to_string(i); }
+    std::string operator()(double d) const { return toml_number(d); }
+    std::string operator()(const std::string& s) const { return toml_string(s); }
+    std::string operator()(const std::vector<std::string>& l) const {
+      std::string out = "[";
+      for (size_t i = 0; i < l.size(); ++i) out += (i ? ", " : "") + toml_string(l[i]);
+      return out + "]";
+    }
+    std::string operator()(const std::vector<Params>& l) const {
+      if (l.empty()) return "[]";
+      std::string out = "[\n";
+      for (const auto& p : l) out += "  " + render_params_inline(p) + ",\n";
+      return out + "]";
+    }
+  };
+  return std::visit(V{}, v);
+}
+
+std::string render_params_inline(const Params& p) {
+  std::string out = "{ ";
+  bool first = true;
+  for (const auto& item : p.all()) {
+    out += (first ? "" : ", ") + item.key + " = " + render_value(item.value);
+    first = false;
+  }
+  return out + " }";
+}
+
+void render_fields(std::ostringstream& out, const Params& params, const FieldList& fields, bool comments) {
+  for (const auto& f : fields) {
+    const Param* p = params.find(f.key);
+    const Value& v = p ? p->value : f.fallback;
+    std::string line = f.key + " = " + render_value(v);
+    if (comments) {
+      if (line.find('\n') != std::string::npos) {
+        out << "# " << f.help << "\n" << line << "\n";
+        continue;
+      }
+      size_t pad = line.size() < 34 ? 34 - line.size() : 1;
+      line += std::string(pad, ' ') + "# " + f.help;
+    }
+    out << line << "\n";
+  }
+}
+
+std::string render(const Pipeline& p, bool comments) {
+  std::ostringstream out;
+  if (comments) {
+    out << "# sheaf pipeline. Stages run in the order written; each [[stage]] has a kind\n"
+           "# and an optional name (default: the kind) used by --until, --set, rejected.tsv\n"
+           "# and the run record. Every key is documented in docs/pipeline.md.\n";
+  }
+  out << "sheaf = " << kPipelineFormat << (comments ? "                         # pipeline format version" : "")
+      << "\n\n[corpus]\n";
+  render_fields(out, p.corpus_params, corpus_fields(), comments);
+  out << "\n[output]\n";
+  render_fields(out, p.output_params, output_fields(), comments);
+  for (const auto& s : p.stages) {
+    out << "\n";
+    if (comments) out << "# " << s.kind->help << "\n";
+    out << "[[stage]]\nkind = " << toml_string(s.kind->kind) << "\n";
+    if (s.name != s.kind->kind) out << "name = " << toml_string(s.name) << "\n";
+    render_fields(out, s.params, s.kind->fields, comments);
+  }
+  return out.str();
+}
+
+Params defaults(const FieldList& fields) {
+  Params p;
+  for (const auto& f : fields) p.set(f.key, f.fallback, {}, true);
+  return p;
+}
+
+}  // namespace
+
+std::string render_pipeline(const Pipeline& p) { return render(p, false); }
+
+std::string init_template(const InitOptions& o) {
+  Pipeline p;
+  p.corpus_params = defaults(corpus_fields());
+  p.output_params = defaults(output_fields());
+  bool jsonl = o.inputs.size() == 1 && (o.inputs[0].ends_with(".jsonl") || o.inputs[0].ends_with(".jsonl.gz") ||
+                                        o.inputs[0].ends_with(".jsonl.zst"));
+  p.corpus_params.set("layout", std::string(o.inputs.size() == 2 ? "aligned" : jsonl ? "jsonl" : "tsv"), {}, false);
+  p.corpus_params.set("files", o.inputs, {}, false);
+  p.corpus_params.set("source_lang", o.source_lang, {}, false);
+  p.corpus_params.set("target_lang", o.target_lang, {}, false);
+  p.output_params.set("dir", o.out_dir, {}, false);
+  for (const auto& kind : stage_kinds()) {
+    StageSpec s;
+    s.kind = &kind;
+    s.name = kind.kind;
+    s.params = defaults(kind.fields);
+    for (const auto& f : kind.fields) {
+      if (f.key == "seed") s.params.set("seed", o.seed, {}, false);
+      if (f.key == "size" && kind.role == StageRole::kVocabulary) s.params.set("size", o.vocab_size, {}, false);
+    }
+    p.stages.push_back(std::move(s));
+  }
+  return render(p, true);
+}
+
+const StageKind* find_stage_kind(std::string_view kind) {
+  for (const auto& k : stage_kinds())
+    if (k.kind == kind) return &k;
+  return nullptr;
+}
+
+}  // namespace sheaf

@@ -1,0 +1,432 @@
+#include "pipeline/runner.h"
+
+#include <oneapi/tbb/concurrent_queue.h>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
+#include <unistd.h>
+#include <xxhash.h>
+
+#include <chrono>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <memory>
+#include <thread>
+#include <unordered_set>
+
+#include "io/output_file.h"
+#include "io/pair_reader.h"
+#include "pipeline/run_dir.h"
+#include "pipeline/steps.h"
+#include "stages/split.h"
+#include "stages/stage.h"
+
+namespace sheaf {
+
+std::atomic<bool>& interrupt_requested() {
+  static std::atomic<bool> flag{false};
+  return flag;
+}
+
+namespace {
+
+std::string reason_code(const std::string& reason) { return reason.substr(0, reason.find(':')); }
+
+// Progress on standard error, twice a second, while pass 1 runs.
+class Progress {
+ public:
+  Progress(bool on, const std::atomic<uint64_t>& bytes, const std::atomic<uint64_t>& pairs)
+      : on_(on), bytes_(bytes), pairs_(pairs) {
+    if (on_) thread_ = std::thread([this] { loop(); });
+  }
+  ~Progress() { stop(); }
+  void stop() {
+    if (!on_) return;
+    done_ = true;
+    thread_.join();
+    on_ = false;
+    std::fprintf(stderr, "\r\033[K");
+  }
+
+ private:
+  void loop() {
+    auto start = std::chrono::steady_clock::now();
+    while (!done_) {
+      std::this_thread::sleep_for(std::chrono::milliseconds(100));
+      if (++tick_ % 5 != 0) continue;
+      double secs = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+      double mb = static_cast<double>(bytes_.load()) / 1e6;
+      std::fprintf(stderr, "\r\033[Kcleaning: %.1f MB, %llu pairs read (%.1f MB/s)", mb,
+                   static_cast<unsigned long long>(pairs_.load()), secs > 0 ? mb / secs : 0.0);
+      std::fflush(stderr);
+    }
+  }
+  bool on_;
+  const std::atomic<uint64_t>& bytes_;
+  const std::atomic<uint64_t>& pairs_;
+  std::atomic<bool> done_{false};
+  int tick_ = 0;
+  std::thread thread_;
+};
+
+// Pass 1's output side: split files, rejected.tsv, counts, overlap keys.
+class Pass1Writer {
+ public:
+  Pass1Writer(const RunDir& dir, RunRecord& rec, const std::vector<std::string>& splits, SplitStage* split,
+              bool aligned)
+      : dir_(dir), rec_(rec), names_(splits), split_(split), aligned_(aligned), keys_(splits.size()) {}
+
+  Status open() {
+    for (const auto& n : names_) {
+      files_.push_back(std::make_unique<OutputFile>());
+      SHEAF_TRY(dir_.will_create(n + ".tsv"));
+      SHEAF_TRY(files_.back()->open(dir_.file(n + ".tsv")));
+    }
+    SHEAF_TRY(dir_.will_create("rejected.tsv"));
+    SHEAF_TRY(rejected_.open(dir_.file("rejected.tsv")));
+    if (split_ && split_->deferred()) {
+      SHEAF_TRY(dir_.will_create("split-spool.bin"));
+      SHEAF_TRY(spool_.open(dir_.file("split-spool.bin")));
+    }
+    return {};
+  }
+
+  void take(PairBatch& b) {
+    for (Pair& p : b.pairs) {
+      ++rec_.read;
+      // Stage counts: stage k saw the pair if it was not dropped before k.
+      int drop = p.drop_stage;
+      size_t n = rec_.stages.size();  // read, stages..., output
+      size_t upto = drop == kKept ? n : drop == kReadStage ? 0 : drop == kOutputStage ? n - 1 : size_t(drop + 1);
+      for (size_t k = 0; k < n && k <= upto; ++k) {
+        ++rec_.stages[k].in;
+        if (k < upto || drop == kKept) ++rec_.stages[k].out;
+      }
+      if (!p.kept()) {
+        ++rec_.rejected;
+        rec_.stages[upto].reasons[reason_code(p.reason)]++;
+        write_rejected(p, upto);
+        continue;
+      }
+      ++rec_.kept;
+      if (split_ && split_->deferred()) {
+        spool(p);
+        continue;
+      }
+      route(p.text[0], p.text[1], p.split, p);
+    }
+  }
+
+  // Runs after the last batch: routes a count-mode spool, commits files.
+  Status finish() {
+    if (split_ && split_->deferred()) {
+      SHEAF_TRY(spool_.commit());
+      SHEAF_TRY(route_spool());
+      std::filesystem::remove(spool_.path());
+    }
+    for (auto& f : files_) SHEAF_TRY(f->commit());
+    SHEAF_TRY(rejected_.commit());
+    for (size_t i = 0; i < names_.size(); ++i) {
+      rec_.splits.emplace_back(names_[i], files_[i]->records());
+      rec_.outputs.push_back({names_[i] + ".tsv", "text", names_[i], "", files_[i]->records(), files_[i]->size(),
+                              files_[i]->checksum()});
+    }
+    rec_.outputs.push_back({"rejected.tsv", "rejected", "", "", rejected_.records(), rejected_.size(),
+                            rejected_.checksum()});
+    // Overlap between splits, measured on unseeded hashes of the split key
+    // (independent of the seeded hash that assigned them). Non-train keys are
+    // held in memory (those splits are small); train is read back once.
+    if (split_) {
+      std::vector<uint64_t> train_hits(names_.size(), 0);
+      std::ifstream in(files_[0]->path(), std::ios::binary);
+      std::string line;
+      Pair p;
+      while (std::getline(in, line)) {
+        size_t tab = line.find('\t');
+        std::string_view v(line);
+        p.text = {v.substr(0, tab), v.substr(tab + 1)};
+        std::string k = split_->key_text(p);
+        uint64_t h = XXH3_64bits(k.data(), k.size());
+        for (size_t b = 1; b < names_.size(); ++b) train_hits[b] += keys_[b].count(h);
+      }
+      for (size_t a = 0; a < names_.size(); ++a) {
+        for (size_t b = a + 1; b < names_.size(); ++b) {
+          uint64_t shared = 0;
+          if (a == 0) {
+            shared = train_hits[b];
+          } else {
+            for (uint64_t h : keys_[b]) shared += keys_[a].count(h);
+          }
+          rec_.overlaps.push_back({names_[a], names_[b], shared});
+        }
+      }
+    }
+    return {};
+  }
+
+  Status status() const {
+    for (const auto& f : files_) SHEAF_TRY(f->status());
+    SHEAF_TRY(rejected_.status());
+    return spool_.status();
+  }
+
+  void discard() {
+    for (auto& f : files_) f->discard();
+    rejected_.discard();
+    spool_.discard();
+  }
+
+ private:
+  void write_rejected(const Pair& p, size_t stage) {
+    std::string& row = row_;
+    row.clear();
+    row += std::to_string(p.line);
+    row += '\t';
+    row += rec_.stages[stage].name;
+    row += '\t';
+    row += p.reason;
+    row += '\t';
+    if (aligned_) {
+      row += std::to_string(p.raw.size());
+      row += '\t';
+      row += p.raw;
+      row += '\t';
+      row += p.raw_target;
+    } else {
+      row += "-\t";
+      row += p.raw;
+    }
+    row += '\n';
+    rejected_.write(row);
+    rejected_.add_record();
+  }
+
+  void route(std::string_view s, std::string_view t, int split, const Pair& p) {
+    OutputFile& f = *files_[static_cast<size_t>(split)];
+    row_.assign(s);
+    row_ += '\t';
+    row_ += t;
+    row_ += '\n';
+    f.write(row_);
+    f.add_record();
+    if (split_ && split != 0) {
+      std::string k = split_->key_text(p);
+      keys_[static_cast<size_t>(split)].insert(XXH3_64bits(k.data(), k.size()));
+    }
+  }
+
+  void spool(const Pair& p) {
+    uint64_t h = p.key[0];
+    uint32_t n0 = static_cast<uint32_t>(p.text[0].size()), n1 = static_cast<uint32_t>(p.text[1].size());
+    spool_.write(std::string_view(reinterpret_cast<const char*>(&h), 8));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(&n0), 4));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(&n1), 4));
+    spool_.write(p.text[0]);
+    spool_.write(p.text[1]);
+  }
+
+  Status route_spool() {
+    std::ifstream in(spool_.path(), std::ios::binary);
+    std::string s, t;
+    Pair p;
+    for (;;) {
+      uint64_t h;
+      uint32_t n0, n1;
+      if (!in.read(reinterpret_cast<char*>(&h), 8)) break;
+      in.read(reinterpret_cast<char*>(&n0), 4);
+      in.read(reinterpret_cast<char*>(&n1), 4);
+      s.resize(n0);
+      t.resize(n1);
+      in.read(s.data(), n0);
+      in.read(t.data(), n1);
+      if (!in) return Error(ErrorKind::kIo, "the split spool file is damaged", Location{spool_.path(), 0, 0, {}});
+      p.text = {s, t};
+      route(s, t, split_->assign(h), p);
+    }
+    return {};
+  }
+
+ private:
+  const RunDir& dir_;
+  RunRecord& rec_;
+  std::vector<std::string> names_;
+  SplitStage* split_;
+  bool aligned_;
+  std::vector<std::unique_ptr<OutputFile>> files_;
+  OutputFile rejected_, spool_;
+  std::string row_;
+  std::vector<std::unordered_set<uint64_t>> keys_;
+};
+
+}  // namespace
+
+Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o) {
+  Pipeline p = pipeline_in;
+  if (!o.inputs.empty()) {
+    size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
+    if (o.inputs.size() != want)
+      return Error(ErrorKind::kUsage, "--input must be given " + std::to_string(want) + " time(s) for this corpus layout");
+    p.corpus.files = o.inputs;
+  }
+  int last = static_cast<int>(p.stages.size()) - 1;
+  if (!o.until.empty()) {
+    last = p.stage_index(o.until);
+    if (last < 0) {
+      std::vector<std::string> names;
+      for (const auto& s : p.stages) names.push_back(s.name);
+      std::string hint = closest_name(o.until, names);
+      return Error(ErrorKind::kUsage, "--until names \"" + o.until + "\", which is not a stage of this pipeline" +
+                                          (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"));
+    }
+  }
+
+  RunRecord rec;
+  std::string resolved = render_pipeline(p);
+  rec.pipeline_hash = XXH3_64bits(resolved.data(), resolved.size());
+  rec.layout = p.corpus.layout == Layout::kAligned ? "aligned" : p.corpus.layout == Layout::kJsonl ? "jsonl" : "tsv";
+  if (last + 1 < static_cast<int>(p.stages.size())) rec.stopped_after = p.stages[static_cast<size_t>(last)].name;
+
+  // Build the streaming stages, each knowing only the rewrites before it.
+  std::vector<std::unique_ptr<Stage>> stages;
+  SplitStage* split = nullptr;
+  int streaming_end = 0;
+  for (int i = 0; i <= last; ++i) {
+    const StageSpec& spec = p.stages[static_cast<size_t>(i)];
+    if (spec.kind->role != StageRole::kFilter && spec.kind->role != StageRole::kSplit) break;
+    StageContext ctx;
+    ctx.pipeline = &p;
+    ctx.spec = &spec;
+    ctx.index = i;
+    ctx.canonical = [&stages](std::string& text, int side) {
+      for (const auto& s : stages)
+        if (!s->rewrite(text, side)) return false;
+      return true;
+    };
+    auto st = make_stage(ctx);
+    if (!st.ok()) return st.error();
+    stages.push_back(std::move(st.value()));
+    if (spec.kind->role == StageRole::kSplit) split = static_cast<SplitStage*>(stages.back().get());
+    streaming_end = i + 1;
+  }
+
+  std::vector<std::string> paths;
+  for (const auto& f : p.corpus.files) paths.push_back(o.inputs.empty() ? p.resolve(f) : f);
+  auto reader = PairReader::open(p.corpus, paths);
+  if (!reader.ok()) return reader.error();
+
+  std::string out_dir = !o.out_dir.empty() ? o.out_dir : p.resolve(p.output_dir);
+  auto dir = RunDir::prepare(out_dir, o.force);
+  if (!dir.ok()) return dir.error();
+
+  rec.stages.push_back({"read", "read", 0, 0, {}, {}});
+  for (int i = 0; i < streaming_end; ++i)
+    rec.stages.push_back({p.stages[static_cast<size_t>(i)].name, p.stages[static_cast<size_t>(i)].kind->kind, 0, 0, {}, {}});
+  rec.stages.push_back({"output", "output", 0, 0, {}, {}});
+
+  std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
+  Pass1Writer writer(*dir, rec, split_names, split, p.corpus.layout == Layout::kAligned);
+  if (auto st = writer.open(); !st.ok()) {
+    writer.discard();
+    return st.error();
+  }
+
+  int threads = o.threads > 0 ? o.threads : static_cast<int>(std::thread::hardware_concurrency());
+  if (threads < 1) threads = 1;
+  size_t tokens = static_cast<size_t>(threads) * 4;
+  std::vector<std::unique_ptr<PairBatch>> pool;
+  tbb::concurrent_bounded_queue<PairBatch*> free_batches;
+  for (size_t i = 0; i < tokens; ++i) {
+    pool.push_back(std::make_unique<PairBatch>());
+    free_batches.push(pool.back().get());
+  }
+
+  std::atomic<uint64_t> bytes_read{0}, pairs_read{0};
+  Progress progress(o.progress, bytes_read, pairs_read);
+  uint64_t seq = 0;
+  PairReader& rd = *reader.value();
+
+  auto first = tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
+    if (interrupt_requested().load())
+      throw ErrorException{Error(ErrorKind::kInterrupted, "interrupted; no run record was written")};
+    PairBatch* b = nullptr;
+    free_batches.pop(b);
+    b->pairs.clear();
+    b->raw.clear();
+    b->raw_target.clear();
+    b->arena.reset();
+    auto more = rd.next(*b, o.batch_pairs, 4 << 20);
+    if (!more.ok()) {
+      free_batches.push(b);
+      throw ErrorException{more.error()};
+    }
+    if (!*more) {
+      free_batches.push(b);
+      fc.stop();
+      return nullptr;
+    }
+    b->seq = seq++;
+    bytes_read = rd.consumed();
+    pairs_read += b->pairs.size();
+    return b;
+  });
+  tbb::filter<void, PairBatch*> chain = first;
+  for (auto& s : stages) {
+    Stage* st = s.get();
+    chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [st](PairBatch* b) {
+              st->map(*b);
+              return b;
+            });
+    if (st->has_reduce())
+      chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::serial_in_order, [st](PairBatch* b) {
+                st->reduce(*b);
+                return b;
+              });
+  }
+  auto last_filter = tbb::make_filter<PairBatch*, void>(tbb::filter_mode::serial_in_order, [&](PairBatch* b) {
+    // The output check: a field must never break the TSV it is written to.
+    for (Pair& pr : b->pairs) {
+      if (!pr.kept()) continue;
+      for (int side = 0; side < 2 && pr.kept(); ++side)
+        if (pr.text[side].find_first_of("\t\r\n") != std::string_view::npos)
+          b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
+    }
+    writer.take(*b);
+    free_batches.push(b);
+    if (auto st = writer.status(); !st.ok()) throw ErrorException{st.error()};
+  });
+
+  Status failed;
+  try {
+    tbb::task_arena arena(threads);
+    arena.execute([&] { tbb::parallel_pipeline(tokens, chain & last_filter); });
+  } catch (const ErrorException& e) {
+    failed = e.error;
+  }
+  progress.stop();
+  if (failed.ok()) {
+    for (auto& s : stages)
+      if (auto st = s->finish(); !st.ok()) failed = st;
+  }
+  if (failed.ok()) {
+    failed = writer.finish();
+  }
+  if (!failed.ok()) {
+    writer.discard();
+    return failed.error();
+  }
+  rec.inputs = rd.inputs();
+  for (size_t i = 0; i < stages.size(); ++i) rec.stages[i + 1].counters = stages[i]->counters();
+
+  // Learning and encoding steps after pass 1.
+  StepInput in{&p, &*dir, &rec, last};
+  if (auto st = run_steps(in, threads); !st.ok()) return st.error();
+
+  SHEAF_TRY(dir->will_create("manifest.json"));
+  OutputFile manifest;
+  SHEAF_TRY(manifest.open(dir->file("manifest.json")));
+  manifest.write(run_record_json(rec));
+  SHEAF_TRY(manifest.commit());
+  return rec;
+}
+
+}  // namespace sheaf

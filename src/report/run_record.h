@@ -1,0 +1,57 @@
+// RunRecord: everything one run did, written as manifest.json (the format is
+// specified in docs/outputs.md). It holds no timestamps or host names, so two
+// runs of the same input, pipeline and seed give the same bytes.
+#pragma once
+
+#include <cstdint>
+#include <map>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "io/pair_reader.h"
+
+namespace sheaf {
+
+inline constexpr int kRunRecordFormat = 1;
+
+struct StageCount {
+  std::string name;
+  std::string kind;
+  uint64_t in = 0, out = 0;
+  std::map<std::string, uint64_t> reasons;  // reason code (before ':') -> pairs
+  std::vector<std::pair<std::string, uint64_t>> counters;
+};
+
+struct OutputEntry {
+  std::string path;  // relative to the run directory, '/' separated
+  std::string kind;  // text, rejected, vocabulary, shard, summary, report
+  std::string split;
+  std::string side;
+  uint64_t records = 0, size = 0, checksum = 0;
+};
+
+struct Overlap {
+  std::string a, b;
+  uint64_t keys = 0;  // keys of b also found in a
+};
+
+struct RunRecord {
+  std::string tool_version = SHEAF_VERSION;
+  uint64_t pipeline_hash = 0;
+  std::string layout;
+  std::vector<InputInfo> inputs;
+  uint64_t read = 0, kept = 0, rejected = 0;
+  std::vector<StageCount> stages;  // "read" first, "output" last
+  std::vector<std::pair<std::string, uint64_t>> splits;
+  std::vector<Overlap> overlaps;
+  std::vector<OutputEntry> outputs;
+  std::string stopped_after;  // --until, empty when the whole pipeline ran
+  std::string extra_json;     // serialized JSON object merged in (summary figures)
+};
+
+std::string run_record_json(const RunRecord& r);
+// Reads the "outputs" list of a manifest, for --force and `sheaf stats`.
+Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path);
+
+}  // namespace sheaf

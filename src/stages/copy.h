@@ -1,0 +1,23 @@
+// copy: drops untranslated pairs.
+//
+// "copy:identical" when both sides are the same text; "copy:overlap" when the
+// sides share too much: the Dice coefficient of their multisets of character
+// trigrams (lowercased, spaces kept) exceeds max_overlap. Translations between
+// related languages share letters but rarely whole trigram sequences; a side
+// copied with small edits shares almost all of them. Thread-safe; no state.
+#pragma once
+
+#include <string_view>
+
+#include "stages/stage.h"
+
+namespace sheaf {
+
+// 2 * |A ∩ B| / (|A| + |B|) over character trigram multisets; 0 for two
+// texts shorter than three characters that differ.
+double trigram_overlap(std::string_view a, std::string_view b);
+
+const StageKind& copy_kind();
+Result<std::unique_ptr<Stage>> make_copy(const StageContext& ctx);
+
+}  // namespace sheaf

@@ -1,0 +1,123 @@
+#include "stages/dedup.h"
+
+#include <unicode/uchar.h>
+#include <unicode/utf8.h>
+#include <xxhash.h>
+
+#include "stages/dedup_table.h"
+
+namespace sheaf {
+
+std::string loose_key(std::string_view text) {
+  std::string out;
+  out.reserve(text.size());
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  while (i < n) {
+    UChar32 c;
+    if (p[i] < 0x80) {
+      c = p[i++];
+      // In ASCII only letters survive: the rest is digits, punctuation,
+      // symbols, spaces or controls.
+      if (c >= 'a' && c <= 'z') out += static_cast<char>(c);
+      else if (c >= 'A' && c <= 'Z') out += static_cast<char>(c + 32);
+      continue;
+    }
+    U8_NEXT(p, i, n, c);
+    if (c < 0) continue;
+    uint32_t mask = U_GET_GC_MASK(c);
+    if (mask & (U_GC_P_MASK | U_GC_S_MASK | U_GC_ND_MASK | U_GC_Z_MASK | U_GC_C_MASK)) continue;
+    c = u_tolower(c);
+    char buf[4];
+    int32_t k = 0;
+    U8_APPEND_UNSAFE(buf, k, c);
+    out.append(buf, static_cast<size_t>(k));
+  }
+  return out;
+}
+
+namespace {
+
+template <int kWords>
+class DedupStage : public Stage {
+ public:
+  DedupStage(const StageContext& ctx, DedupScope scope, bool loose)
+      : index_(ctx.index), scope_(scope), loose_(loose) {}
+
+  void map(PairBatch& batch) override {
+    std::string a, b;
+    for (Pair& p : batch.pairs) {
+      if (!p.kept()) continue;
+      std::string_view s = p.text[0], t = p.text[1];
+      if (loose_) {
+        a = loose_key(s);
+        b = loose_key(t);
+        s = a;
+        t = b;
+      }
+      std::string_view one = scope_ == DedupScope::kTarget ? t : s;
+      if (kWords == 1) {
+        uint64_t h = XXH3_64bits(one.data(), one.size());
+        if (scope_ == DedupScope::kPair) h = XXH3_64bits_withSeed(t.data(), t.size(), h ^ (s.size() * 0x9E3779B97F4A7C15ULL));
+        p.key[0] = h;
+      } else {
+        XXH128_hash_t h = XXH3_128bits(one.data(), one.size());
+        if (scope_ == DedupScope::kPair)
+          h = XXH3_128bits_withSeed(t.data(), t.size(), h.low64 ^ h.high64 ^ (s.size() * 0x9E3779B97F4A7C15ULL));
+        p.key[0] = h.low64;
+        p.key[1] = h.high64;
+      }
+    }
+  }
+
+  bool has_reduce() const override { return true; }
+  void reduce(PairBatch& batch) override {
+    for (Pair& p : batch.pairs) {
+      if (!p.kept()) continue;
+      if (uint64_t first = table_.insert(p.key.data(), p.line)) batch.drop(p, index_, "duplicate:" + std::to_string(first));
+    }
+  }
+
+  std::vector<std::pair<std::string, uint64_t>> counters() const override {
+    return {{"distinct_keys", table_.size()}, {"table_bytes", table_.memory_bytes()}};
+  }
+
+ private:
+  int index_;
+  DedupScope scope_;
+  bool loose_;
+  DedupTable<kWords> table_;
+};
+
+}  // namespace
+
+const StageKind& dedup_kind() {
+  static const StageKind k{
+      "dedup",
+      "drops repeated pairs, keeping the first occurrence in input order",
+      StageRole::kFilter,
+      {
+          {"scope", FieldType::kChoice, std::string("pair"), "what must repeat: the pair, the source or the target", 0, 0,
+           {"pair", "source", "target"}},
+          {"key", FieldType::kChoice, std::string("exact"),
+           "exact text, or loose: lowercase, no punctuation, symbols, digits or spaces", 0, 0, {"exact", "loose"}},
+          {"hash_bits", FieldType::kInt, int64_t{64}, "XXH3 hash width: 64 or 128 (see the collision bound in the docs)",
+           64, 128},
+      }};
+  return k;
+}
+
+Result<std::unique_ptr<Stage>> make_dedup(const StageContext& ctx) {
+  const Params& p = ctx.spec->params;
+  const std::string& s = p.text("scope");
+  DedupScope scope = s == "source" ? DedupScope::kSource : s == "target" ? DedupScope::kTarget : DedupScope::kPair;
+  bool loose = p.text("key") == "loose";
+  int64_t bits = p.integer("hash_bits");
+  if (bits != 64 && bits != 128)
+    return Error(ErrorKind::kPipeline, "stage \"" + ctx.spec->name + "\": hash_bits must be 64 or 128",
+                 p.where("hash_bits"));
+  if (bits == 64) return std::unique_ptr<Stage>(std::make_unique<DedupStage<1>>(ctx, scope, loose));
+  return std::unique_ptr<Stage>(std::make_unique<DedupStage<2>>(ctx, scope, loose));
+}
+
+}  // namespace sheaf

@@ -1,0 +1,292 @@
+#include "stages/normalize.h"
+
+#include <unicode/casemap.h>
+#include <unicode/normalizer2.h>
+#include <unicode/bytestream.h>
+#include <unicode/uchar.h>
+#include <unicode/utf8.h>
+
+#include "core/text.h"
+
+namespace sheaf {
+
+namespace {
+
+const char* kForms[] = {"none", "nfc", "nfkc"};
+
+NormalForm parse_form(const std::string& s) {
+  return s == "nfkc" ? NormalForm::kNfkc : s == "none" ? NormalForm::kNone : NormalForm::kNfc;
+}
+
+// Format characters that carry meaning and are kept.
+bool keep_format(UChar32 c) {
+  return c == 0x200C || c == 0x200D || (c >= 0x0600 && c <= 0x0605) || c == 0x06DD || c == 0x070F ||
+         c == 0x08E2 || c == 0x110BD || c == 0x110CD || (c >= 0xE0020 && c <= 0xE007F);
+}
+
+enum class CharClass { kKeep, kSpace, kRemove };
+
+CharClass classify(UChar32 c, bool strip) {
+  if (u_isUWhiteSpace(c)) return CharClass::kSpace;
+  if (!strip) return CharClass::kKeep;
+  int8_t t = u_charType(c);
+  if (t == U_CONTROL_CHAR) return CharClass::kRemove;
+  if (t == U_FORMAT_CHAR && !keep_format(c)) return CharClass::kRemove;
+  return CharClass::kKeep;
+}
+
+// ASCII needs no normalization; only controls, spaces and case matter.
+// Returns true when `in` is already clean.
+bool ascii_clean(std::string_view in, bool casefold) {
+  if (in.empty()) return true;
+  if (in.front() == ' ' || in.back() == ' ') return false;
+  char prev = 0;
+  for (char ch : in) {
+    unsigned char c = static_cast<unsigned char>(ch);
+    if (c < 0x20 || c == 0x7F) return false;
+    if (c == ' ' && prev == ' ') return false;
+    if (casefold && c >= 'A' && c <= 'Z') return false;
+    prev = ch;
+  }
+  return true;
+}
+
+void ascii_rewrite(std::string_view in, bool strip, bool casefold, std::string& out) {
+  out.clear();
+  for (char ch : in) {
+    unsigned char c = static_cast<unsigned char>(ch);
+    if (c >= 0x09 && c <= 0x0D) {
+      out += ' ';  // White_Space controls (PropList.txt) become spaces
+    } else if (c < 0x20 || c == 0x7F) {
+      if (!strip) out += ch;
+    } else {
+      out += (casefold && c >= 'A' && c <= 'Z') ? static_cast<char>(c + 32) : ch;
+    }
+  }
+  collapse_spaces(out);
+}
+
+// Steps 2 and 3 on valid UTF-8. Returns true if anything changed.
+bool clean(std::string_view in, bool strip, std::string& out) {
+  out.clear();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
+  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  bool changed = false, space = true;
+  while (i < n) {
+    int32_t start = i;
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    switch (classify(c, strip)) {
+      case CharClass::kSpace:
+        if (c != ' ' || space) changed = true;
+        if (!space) out += ' ';
+        space = true;
+        break;
+      case CharClass::kRemove:
+        changed = true;
+        break;
+      case CharClass::kKeep:
+        out.append(in.data() + start, static_cast<size_t>(i - start));
+        space = false;
+        break;
+    }
+  }
+  if (!out.empty() && out.back() == ' ') {
+    out.pop_back();
+    changed = true;
+  }
+  return changed;
+}
+
+struct Punct {
+  UChar32 from;
+  const char* to;
+};
+// Small, deliberate table: typographic quotes and dashes only.
+const Punct kPunct[] = {
+    {0x2018, "'"}, {0x2019, "'"}, {0x201A, "'"}, {0x201B, "'"}, {0x2032, "'"},  {0x201C, "\""},
+    {0x201D, "\""}, {0x201E, "\""}, {0x201F, "\""}, {0x2033, "\""}, {0x2010, "-"}, {0x2011, "-"},
+    {0x2012, "-"}, {0x2013, "-"}, {0x2014, "-"}, {0x2015, "-"}, {0x2212, "-"},
+};
+
+bool unify_punct(std::string_view in, std::string& out) {
+  out.clear();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
+  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  bool changed = false;
+  while (i < n) {
+    int32_t start = i;
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    const char* to = nullptr;
+    if (c >= 0x2010 && c <= 0x2212)
+      for (const auto& e : kPunct)
+        if (e.from == c) to = e.to;
+    if (to) {
+      out += to;
+      changed = true;
+    } else {
+      out.append(in.data() + start, static_cast<size_t>(i - start));
+    }
+  }
+  return changed;
+}
+
+const icu::Normalizer2* normalizer(NormalForm f) {
+  UErrorCode st = U_ZERO_ERROR;
+  if (f == NormalForm::kNfc) return icu::Normalizer2::getNFCInstance(st);
+  if (f == NormalForm::kNfkc) return icu::Normalizer2::getNFKCInstance(st);
+  return nullptr;
+}
+
+}  // namespace
+
+TextNormalizer::TextNormalizer(const NormalizeOptions& o) : o_(o) {}
+
+TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std::string& out,
+                                              size_t* repairs) const {
+  if (is_ascii(in)) {
+    if (ascii_clean(in, o_.casefold)) return Outcome::kUnchanged;
+    ascii_rewrite(in, o_.strip_controls, o_.casefold, out);
+    return Outcome::kRewritten;
+  }
+  std::string cur;
+  bool changed = false;
+  if (!is_valid_utf8(in)) {
+    if (!o_.repair_utf8) return Outcome::kInvalidUtf8;
+    size_t r = repair_utf8(in, cur);
+    if (repairs) *repairs += r;
+    changed = true;
+  } else {
+    cur.assign(in);
+  }
+  std::string tmp;
+  if (clean(cur, o_.strip_controls, tmp)) {
+    cur.swap(tmp);
+    changed = true;
+  }
+  UErrorCode st = U_ZERO_ERROR;
+  if (o_.casefold) {
+    tmp.clear();
+    icu::StringByteSink<std::string> sink(&tmp);
+    icu::CaseMap::utf8Fold(0, icu::StringPiece(cur.data(), static_cast<int32_t>(cur.size())), sink, nullptr, st);
+    if (U_SUCCESS(st) && tmp != cur) {
+      cur.swap(tmp);
+      changed = true;
+    }
+  }
+  if (const icu::Normalizer2* norm = normalizer(o_.form[side])) {
+    icu::StringPiece sp(cur.data(), static_cast<int32_t>(cur.size()));
+    st = U_ZERO_ERROR;
+    if (!norm->isNormalizedUTF8(sp, st) && U_SUCCESS(st)) {
+      tmp.clear();
+      icu::StringByteSink<std::string> sink(&tmp);
+      norm->normalizeUTF8(0, sp, sink, nullptr, st);
+      cur.swap(tmp);
+      changed = true;
+      // Normalization can create spaces (NFKC of U+00A8 is SPACE + U+0308)
+      // and removing a control can bring a base and a mark together.
+      for (int round = 0; round < 2 && clean(cur, o_.strip_controls, tmp); ++round) {
+        cur.swap(tmp);
+        sp = icu::StringPiece(cur.data(), static_cast<int32_t>(cur.size()));
+        st = U_ZERO_ERROR;
+        if (norm->isNormalizedUTF8(sp, st)) break;
+        tmp.clear();
+        icu::StringByteSink<std::string> sink2(&tmp);
+        norm->normalizeUTF8(0, sp, sink2, nullptr, st);
+        cur.swap(tmp);
+      }
+    }
+  }
+  if (o_.punctuation[side] && unify_punct(cur, tmp)) {
+    cur.swap(tmp);
+    collapse_spaces(cur);
+    changed = true;
+  }
+  if (!changed) return Outcome::kUnchanged;
+  out.swap(cur);
+  return Outcome::kRewritten;
+}
+
+namespace {
+
+class NormalizeStage : public Stage {
+ public:
+  NormalizeStage(const StageContext& ctx, const NormalizeOptions& o) : index_(ctx.index), norm_(o) {}
+
+  void map(PairBatch& batch) override {
+    std::string out;
+    for (Pair& p : batch.pairs) {
+      if (!p.kept()) continue;
+      for (int side = 0; side < 2 && p.kept(); ++side) {
+        size_t repairs = 0;
+        switch (norm_.apply(p.text[side], side, out, &repairs)) {
+          case TextNormalizer::Outcome::kUnchanged: break;
+          case TextNormalizer::Outcome::kRewritten: p.text[side] = batch.arena.copy(out); break;
+          case TextNormalizer::Outcome::kInvalidUtf8:
+            batch.drop(p, index_, std::string("invalid-utf8:") + side_name(side));
+            break;
+        }
+        if (repairs) repaired_.fetch_add(repairs, std::memory_order_relaxed);
+      }
+    }
+  }
+
+  bool rewrite(std::string& text, int side) const override {
+    std::string out;
+    auto r = norm_.apply(text, side, out, nullptr);
+    if (r == TextNormalizer::Outcome::kInvalidUtf8) return false;
+    if (r == TextNormalizer::Outcome::kRewritten) text.swap(out);
+    return true;
+  }
+
+  std::vector<std::pair<std::string, uint64_t>> counters() const override {
+    return {{"repaired_utf8", repaired_.load()}};
+  }
+
+ private:
+  int index_;
+  TextNormalizer norm_;
+  std::atomic<uint64_t> repaired_{0};
+};
+
+}  // namespace
+
+NormalizeOptions normalize_options(const Params& p) {
+  NormalizeOptions o;
+  o.form[kSource] = parse_form(p.text("source_form"));
+  o.form[kTarget] = parse_form(p.text("target_form"));
+  o.repair_utf8 = p.text("invalid_utf8") == "replace";
+  o.strip_controls = p.flag("strip_controls");
+  o.casefold = p.flag("casefold");
+  const std::string& pu = p.text("punctuation");
+  o.punctuation[kSource] = pu == "both" || pu == "source";
+  o.punctuation[kTarget] = pu == "both" || pu == "target";
+  return o;
+}
+
+const StageKind& normalize_kind() {
+  static const StageKind k{
+      "normalize",
+      "Unicode normalization, invisible-character removal, one space between words",
+      StageRole::kFilter,
+      {
+          {"source_form", FieldType::kChoice, std::string("nfc"), "normalization form of the source: nfc, nfkc or none",
+           0, 0, {kForms[0], kForms[1], kForms[2]}},
+          {"target_form", FieldType::kChoice, std::string("nfc"), "normalization form of the target: nfc, nfkc or none",
+           0, 0, {kForms[0], kForms[1], kForms[2]}},
+          {"invalid_utf8", FieldType::kChoice, std::string("drop"),
+           "\"drop\" the pair, or \"replace\" each bad sequence with U+FFFD", 0, 0, {"drop", "replace"}},
+          {"strip_controls", FieldType::kBool, true, "remove control and invisible format characters (keeps ZWJ/ZWNJ)"},
+          {"casefold", FieldType::kBool, false, "apply Unicode case folding to both sides"},
+          {"punctuation", FieldType::kChoice, std::string("off"),
+           "straighten curly quotes and dashes: off, both, source or target", 0, 0, {"off", "both", "source", "target"}},
+      }};
+  return k;
+}
+
+Result<std::unique_ptr<Stage>> make_normalize(const StageContext& ctx) {
+  return std::unique_ptr<Stage>(std::make_unique<NormalizeStage>(ctx, normalize_options(ctx.spec->params)));
+}
+
+}  // namespace sheaf

@@ -1,0 +1,51 @@
+// The list of stage kinds, in the order `sheaf init` writes them: cheap
+// filters first, language identification (the slowest) last among filters.
+#include "pipeline/pipeline.h"
+#include "stages/copy.h"
+#include "stages/dedup.h"
+#include "stages/exclude.h"
+#include "stages/langid.h"
+#include "stages/length.h"
+#include "stages/normalize.h"
+#include "stages/pattern.h"
+#include "stages/script.h"
+#include "stages/split.h"
+#include "stages/stage.h"
+
+namespace sheaf {
+
+namespace {
+
+using Factory = Result<std::unique_ptr<Stage>> (*)(const StageContext&);
+struct Entry {
+  const StageKind& kind;
+  Factory make;
+};
+
+const std::vector<Entry>& entries() {
+  static const std::vector<Entry> e = {
+      {normalize_kind(), make_normalize}, {pattern_kind(), make_pattern}, {length_kind(), make_length},
+      {copy_kind(), make_copy},           {script_kind(), make_script},   {dedup_kind(), make_dedup},
+      {exclude_kind(), make_exclude},     {langid_kind(), make_langid},   {split_kind(), make_split},
+  };
+  return e;
+}
+
+}  // namespace
+
+const std::vector<StageKind>& stage_kinds() {
+  static const std::vector<StageKind> kinds = [] {
+    std::vector<StageKind> k;
+    for (const auto& e : entries()) k.push_back(e.kind);
+    return k;
+  }();
+  return kinds;
+}
+
+Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx) {
+  for (const auto& e : entries())
+    if (e.kind.kind == ctx.spec->kind->kind) return e.make(ctx);
+  return Error(ErrorKind::kInternal, "no factory for stage kind " + ctx.spec->kind->kind);
+}
+
+}  // namespace sheaf

@@ -1,0 +1,130 @@
+#include "stages/script.h"
+
+#include <unicode/uchar.h>
+#include <unicode/utf8.h>
+
+#include <algorithm>
+#include <map>
+
+namespace sheaf {
+
+std::vector<std::string> scripts_for_language(std::string_view lang) {
+  std::string l(lang.substr(0, lang.find_first_of("-_")));
+  static const std::map<std::string, std::vector<std::string>> kTable = {
+      {"ja", {"Hani", "Hira", "Kana"}}, {"zh", {"Hani"}}, {"ko", {"Hang", "Hani"}},
+      {"ru", {"Cyrl"}}, {"uk", {"Cyrl"}}, {"be", {"Cyrl"}}, {"bg", {"Cyrl"}}, {"mk", {"Cyrl"}},
+      {"kk", {"Cyrl"}}, {"ky", {"Cyrl"}}, {"mn", {"Cyrl"}}, {"sr", {"Cyrl", "Latn"}},
+      {"el", {"Grek"}}, {"ar", {"Arab"}}, {"fa", {"Arab"}}, {"ur", {"Arab"}}, {"ps", {"Arab"}},
+      {"he", {"Hebr"}}, {"yi", {"Hebr"}}, {"hi", {"Deva"}}, {"mr", {"Deva"}}, {"ne", {"Deva"}},
+      {"bn", {"Beng"}}, {"pa", {"Guru"}}, {"gu", {"Gujr"}}, {"ta", {"Taml"}}, {"te", {"Telu"}},
+      {"kn", {"Knda"}}, {"ml", {"Mlym"}}, {"si", {"Sinh"}}, {"th", {"Thai"}}, {"lo", {"Laoo"}},
+      {"km", {"Khmr"}}, {"my", {"Mymr"}}, {"ka", {"Geor"}}, {"hy", {"Armn"}}, {"am", {"Ethi"}},
+  };
+  auto it = kTable.find(l);
+  if (it != kTable.end()) return it->second;
+  // Languages written in the Latin script.
+  static const char* kLatin[] = {"en", "es", "fr", "de", "it", "pt", "nl", "ca", "gl", "eu", "da", "sv", "nb", "nn",
+                                 "no", "is", "fi", "et", "lv", "lt", "pl", "cs", "sk", "sl", "hr", "bs", "ro", "hu",
+                                 "tr", "az", "sq", "mt", "ga", "cy", "id", "ms", "tl", "vi", "sw", "af", "eo", "la",
+                                 "uz", "ha", "yo", "zu", "xh"};
+  for (const char* c : kLatin)
+    if (l == c) return {"Latn"};
+  return {};
+}
+
+ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>& expected) {
+  ScriptCount r;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  bool latin_expected = std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end();
+  while (i < n) {
+    if (p[i] < 0x80) {
+      unsigned char c = p[i++];
+      if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
+        ++r.letters;
+        r.expected += latin_expected;
+      }
+      continue;
+    }
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || !u_isalpha(c) || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
+    UErrorCode st = U_ZERO_ERROR;
+    UScriptCode s = uscript_getScript(c, &st);
+    if (s == USCRIPT_COMMON || s == USCRIPT_INHERITED) continue;
+    ++r.letters;
+    if (std::find(expected.begin(), expected.end(), s) != expected.end()) ++r.expected;
+  }
+  return r;
+}
+
+namespace {
+
+class ScriptStage : public Stage {
+ public:
+  ScriptStage(const StageContext& ctx, std::vector<UScriptCode> s, std::vector<UScriptCode> t, double min_ratio)
+      : index_(ctx.index), min_ratio_(min_ratio) {
+    expected_[0] = std::move(s);
+    expected_[1] = std::move(t);
+  }
+  void map(PairBatch& batch) override {
+    for (Pair& p : batch.pairs) {
+      for (int side = 0; side < 2 && p.kept(); ++side) {
+        ScriptCount c = count_scripts(p.text[side], expected_[side]);
+        if (c.letters > 0 && static_cast<double>(c.expected) < min_ratio_ * static_cast<double>(c.letters))
+          batch.drop(p, index_, std::string("script:") + side_name(side));
+      }
+    }
+  }
+
+ private:
+  int index_;
+  std::vector<UScriptCode> expected_[2];
+  double min_ratio_;
+};
+
+}  // namespace
+
+const StageKind& script_kind() {
+  static const StageKind k{
+      "script",
+      "drops pairs whose letters are mostly in the wrong script (cheap language check)",
+      StageRole::kFilter,
+      {
+          {"min_ratio", FieldType::kNumber, 0.9, "minimum fraction of a side's letters in its expected scripts", 0, 1},
+          {"source_scripts", FieldType::kStringList, std::vector<std::string>{},
+           "ISO 15924 codes for the source (empty: from source_lang)"},
+          {"target_scripts", FieldType::kStringList, std::vector<std::string>{},
+           "ISO 15924 codes for the target (empty: from target_lang)"},
+      }};
+  return k;
+}
+
+Result<std::unique_ptr<Stage>> make_script(const StageContext& ctx) {
+  const Params& p = ctx.spec->params;
+  std::vector<UScriptCode> codes[2];
+  for (int side = 0; side < 2; ++side) {
+    std::string key = std::string(side_name(side)) + "_scripts";
+    std::vector<std::string> names = p.list(key);
+    const std::string& lang = side == 0 ? ctx.pipeline->corpus.source_lang : ctx.pipeline->corpus.target_lang;
+    if (names.empty()) names = scripts_for_language(lang);
+    if (names.empty())
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + ctx.spec->name + "\": no scripts are known for " + side_name(side) + " language \"" +
+                       lang + "\"; list them with " + key + " = [\"Latn\"] (ISO 15924 codes)",
+                   ctx.spec->where);
+    for (const auto& n : names) {
+      int32_t v = u_getPropertyValueEnum(UCHAR_SCRIPT, n.c_str());
+      if (v == UCHAR_INVALID_CODE || v == USCRIPT_COMMON || v == USCRIPT_INHERITED)
+        return Error(ErrorKind::kPipeline,
+                     "stage \"" + ctx.spec->name + "\": \"" + n + "\" in " + key +
+                         " is not an ISO 15924 script code such as \"Latn\", \"Cyrl\" or \"Hani\"",
+                     p.where(key).empty() ? ctx.spec->where : p.where(key));
+      codes[side].push_back(static_cast<UScriptCode>(v));
+    }
+  }
+  return std::unique_ptr<Stage>(
+      std::make_unique<ScriptStage>(ctx, std::move(codes[0]), std::move(codes[1]), p.number("min_ratio")));
+}
+
+}  // namespace sheaf

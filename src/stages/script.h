@@ -1,0 +1,34 @@
+// script: drops pairs whose letters are mostly not in the side's scripts.
+//
+// Per side, among the letters (general category L*) whose Unicode script
+// (ICU uscript_getScript) is neither Common nor Inherited, the fraction in the
+// expected scripts must be at least min_ratio. A side with no such letters
+// (numbers, punctuation only) passes. Expected scripts come from the side's
+// language (table in docs/pipeline.md) unless SIDE_scripts lists ISO 15924
+// codes. Reason code: script:SIDE. Thread-safe; no state.
+#pragma once
+
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include <unicode/uscript.h>
+
+#include "stages/stage.h"
+
+namespace sheaf {
+
+// ISO 15924 codes of the scripts a language is written in; empty if unknown.
+std::vector<std::string> scripts_for_language(std::string_view lang);
+
+// Letters counted and letters in `expected`, as the stage sees them.
+struct ScriptCount {
+  size_t letters = 0;
+  size_t expected = 0;
+};
+ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>& expected);
+
+const StageKind& script_kind();
+Result<std::unique_ptr<Stage>> make_script(const StageContext& ctx);
+
+}  // namespace sheaf

@@ -1,0 +1,63 @@
+// Stage: the one interface every pipeline stage implements.
+//
+// The runner streams PairBatches through stages in pipeline order. A stage
+// sees only batches, never another stage. Its work has two halves:
+//   map(batch)     depends on nothing but the batch, so the runner runs it on
+//                  many batches at once (parallel);
+//   reduce(batch)  needs state shared across batches (a dedup table, a split
+//                  heap), so the runner calls it on one batch at a time, in
+//                  input order, after map() of the same batch.
+// Both halves skip pairs already dropped. A stage drops a pair with
+// batch.drop(pair, index, "code[:detail]") using the index it was built with.
+#pragma once
+
+#include <functional>
+#include <memory>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "core/error.h"
+#include "core/pair_batch.h"
+#include "pipeline/pipeline.h"
+
+namespace sheaf {
+
+// Everything a stage may know when it is built.
+struct StageContext {
+  const Pipeline* pipeline = nullptr;
+  const StageSpec* spec = nullptr;
+  int index = 0;
+  // Applies the rewrites of every stage before this one to one side's text
+  // and returns the result, or nullopt-like empty + false when a stage would
+  // drop it. Used for text from outside the corpus (exclusion lists), so that
+  // it is compared after exactly the same normalization.
+  std::function<bool(std::string&, int side)> canonical;
+};
+
+class Stage {
+ public:
+  virtual ~Stage() = default;
+
+  virtual void map(PairBatch& /*batch*/) {}
+  virtual bool has_reduce() const { return false; }
+  virtual void reduce(PairBatch& /*batch*/) {}
+
+  // What map() does to one side's text, for text outside the corpus:
+  // rewrites `text` in place and returns true, or returns false when the
+  // stage would drop any pair holding it. Stages that do not rewrite text
+  // keep the default.
+  virtual bool rewrite(std::string& /*text*/, int /*side*/) const { return true; }
+
+  // Extra counters for the run record (name, value), e.g. repaired bytes.
+  virtual std::vector<std::pair<std::string, uint64_t>> counters() const { return {}; }
+
+  // Called once after the last batch has passed reduce().
+  virtual Status finish() { return {}; }
+};
+
+// Builds the stage a spec describes; errors (an invalid pattern, an unknown
+// script code) point at the key in the pipeline file.
+Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx);
+
+}  // namespace sheaf
