@@ -22,9 +22,12 @@ int fail(const Error& e) {
 void on_signal(int) { interrupt_requested().store(true); }
 
 std::string thousands(uint64_t v) {
-  std::string s = std::to_string(v);
-  for (int i = static_cast<int>(s.size()) - 3; i > 0; i -= 3) s.insert(static_cast<size_t>(i), ",");
-  return s;
+  std::string digits = std::to_string(v), out;
+  for (size_t i = 0; i < digits.size(); ++i) {
+    if (i > 0 && (digits.size() - i) % 3 == 0) out += ',';
+    out += digits[i];
+  }
+  return out;
 }
 
 void print_summary(const RunRecord& r, const std::string& out_dir) {

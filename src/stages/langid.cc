@@ -5,6 +5,9 @@
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
 
+#include <algorithm>
+#include <vector>
+
 namespace sheaf {
 
 namespace {
@@ -30,6 +33,24 @@ size_t count_letters(std::string_view s) {
 
 }  // namespace
 
+std::vector<std::string> related_languages(std::string_view lang) {
+  // Close relatives that CLD2 tends to report for short sentences (common
+  // practice, no published source; seen on the sample corpus: Spanish notices
+  // identified as Galician or Catalan).
+  static const std::vector<std::vector<std::string>> kGroups = {
+      {"es", "gl", "ca", "pt"}, {"pt", "gl", "es"}, {"gl", "es", "pt"}, {"ca", "es", "oc"},
+      {"no", "nb", "nn", "da", "sv"}, {"nb", "no", "nn", "da"}, {"nn", "no", "nb"}, {"da", "no", "nb", "sv"},
+      {"sv", "no", "da"}, {"sr", "hr", "bs", "sh"}, {"hr", "sr", "bs", "sh"}, {"bs", "hr", "sr", "sh"},
+      {"id", "ms"}, {"ms", "id"}, {"cs", "sk"}, {"sk", "cs"}, {"ru", "uk", "be"}, {"uk", "ru"},
+      {"be", "ru"}, {"fa", "ur"}, {"ur", "fa"}, {"hi", "mr", "ne"}, {"zh", "zh-Hant", "ja"}, {"af", "nl"},
+      {"nl", "af"}, {"mk", "bg"}, {"bg", "mk"},
+  };
+  std::string l = primary(lang);
+  for (const auto& g : kGroups)
+    if (g[0] == l) return {g.begin() + 1, g.end()};
+  return {};
+}
+
 LanguageGuess identify_language(std::string_view text) {
   bool reliable = false;
   CLD2::Language lang = CLD2::DetectLanguage(text.data(), static_cast<int>(text.size()), true, &reliable);
@@ -45,10 +66,9 @@ namespace {
 
 class LangidStage : public Stage {
  public:
-  LangidStage(const StageContext& ctx, int64_t min_letters)
+  LangidStage(const StageContext& ctx, int64_t min_letters, std::vector<std::string> accept[2])
       : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)) {
-    want_[0] = primary(ctx.pipeline->corpus.source_lang);
-    want_[1] = primary(ctx.pipeline->corpus.target_lang);
+    for (int s = 0; s < 2; ++s) accept_[s] = std::move(accept[s]);
   }
   void map(PairBatch& batch) override {
     for (Pair& p : batch.pairs) {
@@ -57,7 +77,7 @@ class LangidStage : public Stage {
         LanguageGuess g = identify_language(p.text[side]);
         if (!g.reliable || g.code == "un") continue;
         std::string got = primary(g.code);
-        if (got != want_[side]) batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + g.code);
+        if (std::find(accept_[side].begin(), accept_[side].end(), got) == accept_[side].end()) batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + g.code);
       }
     }
   }
@@ -65,7 +85,7 @@ class LangidStage : public Stage {
  private:
   int index_;
   size_t min_letters_;
-  std::string want_[2];
+  std::vector<std::string> accept_[2];  // primary subtags accepted per side
 };
 
 }  // namespace
@@ -77,6 +97,12 @@ const StageKind& langid_kind() {
       StageRole::kFilter,
       {
           {"min_letters", FieldType::kInt, int64_t{20}, "sides with fewer letters are not judged", 0, 1e9},
+          {"accept_related", FieldType::kBool, true,
+           "also accept close relatives CLD2 confuses on short text (es: gl, ca, pt; see docs)"},
+          {"source_accept", FieldType::kStringList, std::vector<std::string>{},
+           "further language codes accepted on the source side"},
+          {"target_accept", FieldType::kStringList, std::vector<std::string>{},
+           "further language codes accepted on the target side"},
       }};
   return k;
 }
@@ -90,7 +116,16 @@ Result<std::unique_ptr<Stage>> make_langid(const StageContext& ctx) {
                        lang + "\"; set [corpus]." + side_name(side) + "_lang to an ISO 639-1 code or remove this stage",
                    ctx.spec->where);
   }
-  return std::unique_ptr<Stage>(std::make_unique<LangidStage>(ctx, ctx.spec->params.integer("min_letters")));
+  const Params& p = ctx.spec->params;
+  std::vector<std::string> accept[2];
+  for (int side = 0; side < 2; ++side) {
+    const std::string& lang = side == 0 ? ctx.pipeline->corpus.source_lang : ctx.pipeline->corpus.target_lang;
+    accept[side].push_back(primary(lang));
+    if (p.flag("accept_related"))
+      for (const auto& r : related_languages(lang)) accept[side].push_back(primary(r));
+    for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(primary(a));
+  }
+  return std::unique_ptr<Stage>(std::make_unique<LangidStage>(ctx, p.integer("min_letters"), accept));
 }
 
 }  // namespace sheaf

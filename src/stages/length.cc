@@ -57,16 +57,21 @@ class LengthStage : public Stage {
   }
 
  private:
-  // A side can hold a long word only if it has a long run without spaces;
-  // word segmentation runs only on such sides.
+  // The longest word: a run without spaces, measured whole when it is ASCII
+  // (so base64 and hashes count as one word even though UAX #29 breaks them
+  // at '+' and '/'), else by UAX #29 words within the run (scripts written
+  // without spaces). Segmentation runs only on long non-ASCII runs.
   size_t longest_word_fast(std::string_view s) const {
-    size_t run = 0, best = 0;
-    for (char c : s) {
-      run = c == ' ' ? 0 : run + 1;
-      best = std::max(best, run);
+    size_t best = 0;
+    size_t limit = static_cast<size_t>(o_.max_word_chars);
+    while (!s.empty()) {
+      size_t sp = s.find(' ');
+      std::string_view run = s.substr(0, sp);
+      if (run.size() > limit) best = std::max(best, is_ascii(run) ? run.size() : longest_word(run));
+      if (sp == std::string_view::npos) break;
+      s.remove_prefix(sp + 1);
     }
-    if (best <= static_cast<size_t>(o_.max_word_chars)) return best;
-    return longest_word(s);
+    return best;
   }
   int index_;
   LengthOptions o_;

@@ -9,6 +9,7 @@
 //   too-short:SIDE, too-long:SIDE              outside [SIDE_min, SIDE_max]
 //   ratio                                      (long + slack) / (short + slack) > max_ratio
 //   long-word:SIDE                             a word over max_word_chars code points
+//                                              (an ASCII run without spaces counts whole)
 // Thread-safe; no state.
 #pragma once
 
