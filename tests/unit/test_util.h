@@ -1,0 +1,90 @@
+// Helpers shared by the tests: temporary directories, files, running the
+// sheaf binary.
+#pragma once
+
+#include <gtest/gtest.h>
+
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <sys/wait.h>
+#include <vector>
+
+namespace sheaf::test {
+
+namespace fs = std::filesystem;
+
+inline std::string source_dir() { return SHEAF_SOURCE_DIR; }
+inline std::string binary() { return SHEAF_BINARY; }
+
+class TempDir {
+ public:
+  TempDir() {
+    std::string tmpl = (fs::temp_directory_path() / "sheaf-test-XXXXXX").string();
+    std::vector<char> buf(tmpl.begin(), tmpl.end());
+    buf.push_back(0);
+    path_ = ::mkdtemp(buf.data());
+  }
+  ~TempDir() {
+    std::error_code ec;
+    fs::remove_all(path_, ec);
+  }
+  std::string operator/(const std::string& rel) const { return (fs::path(path_) / rel).string(); }
+  const std::string& path() const { return path_; }
+
+ private:
+  std::string path_;
+};
+
+inline void write_file(const std::string& path, const std::string& bytes) {
+  fs::create_directories(fs::path(path).parent_path());
+  std::ofstream out(path, std::ios::binary);
+  out << bytes;
+}
+
+inline std::string read_file(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+inline std::vector<std::string> lines_of(const std::string& text) {
+  std::vector<std::string> out;
+  size_t start = 0;
+  while (start < text.size()) {
+    size_t nl = text.find('\n', start);
+    if (nl == std::string::npos) nl = text.size();
+    out.push_back(text.substr(start, nl - start));
+    start = nl + 1;
+  }
+  return out;
+}
+
+struct Ran {
+  int status = -1;
+  std::string out, err;
+};
+
+// Runs a shell command line, capturing standard output and error.
+inline Ran run_shell(const std::string& cmd) {
+  TempDir t;
+  std::string full = cmd + " >" + (t / "out") + " 2>" + (t / "err");
+  int rc = std::system(full.c_str());
+  Ran r;
+  r.status = WIFEXITED(rc) ? WEXITSTATUS(rc) : -1;
+  r.out = read_file(t / "out");
+  r.err = read_file(t / "err");
+  return r;
+}
+
+inline Ran run_sheaf(const std::string& args) { return run_shell(binary() + " " + args); }
+
+// A pipeline file with the given corpus section and stages.
+inline std::string pipeline_text(const std::string& corpus, const std::string& stages, const std::string& out = "out") {
+  return "sheaf = 1\n[corpus]\n" + corpus + "\n[output]\ndir = \"" + out + "\"\n" + stages;
+}
+
+}  // namespace sheaf::test
