@@ -1,0 +1,202 @@
+// The filter stages: every option and every reason code.
+#include <gtest/gtest.h>
+
+#include <random>
+#include <unordered_map>
+
+#include "stage_util.h"
+#include "test_util.h"
+#include "stages/copy.h"
+#include "stages/dedup.h"
+#include "stages/dedup_table.h"
+#include "stages/length.h"
+
+namespace sheaf {
+namespace {
+
+using Reasons = std::vector<std::string>;
+
+TEST(Length, EmptySidesHaveTheirOwnReasons) {
+  test::StageHarness h("kind = \"length\"");
+  ASSERT_TRUE(h.ok()) << h.error();
+  EXPECT_EQ(h.run({{"", "x"}, {"x", ""}, {"", ""}, {"a", "b"}}).reasons,
+            (Reasons{"empty:source", "empty:target", "empty:both", ""}));
+}
+
+TEST(Length, MinAndMaxPerSideInEachUnit) {
+  test::StageHarness words("kind = \"length\"\nsource_min = 2\nsource_max = 3\ntarget_max = 4\nmax_ratio = 0");
+  EXPECT_EQ(words.run({{"one", "uno dos"}, {"one two", "a b"}, {"one two three four", "a"}, {"a b", "1 2 3 4 5"}}).reasons,
+            (Reasons{"too-short:source", "", "too-long:source", "too-long:target"}));
+  // Code points, not bytes: "ñandú" is 5 chars, 7 bytes.
+  test::StageHarness chars("kind = \"length\"\nunit = \"chars\"\nsource_max = 5\nmax_ratio = 0");
+  test::StageHarness bytes("kind = \"length\"\nunit = \"bytes\"\nsource_max = 5\nmax_ratio = 0");
+  EXPECT_EQ(chars.reason("\u00f1and\u00fa", "x"), "");
+  EXPECT_EQ(bytes.reason("\u00f1and\u00fa", "x"), "too-long:source");
+  // Words by UAX #29 in a script without spaces.
+  test::StageHarness ja("kind = \"length\"\ntarget_max = 2\nmax_ratio = 0", "en", "ja");
+  EXPECT_EQ(ja.reason("The garden opens at nine.", "\u5ead\u5712\u306f\u671d\u4e5d\u6642\u306b\u958b\u304d\u307e\u3059"),
+            "too-long:target");
+}
+
+TEST(Length, RatioWithSlack) {
+  EXPECT_DOUBLE_EQ(length_ratio(2, 10, 4), 14.0 / 6.0);
+  EXPECT_DOUBLE_EQ(length_ratio(10, 2, 0), 5.0);
+  test::StageHarness h("kind = \"length\"\nmax_ratio = 2.0\nratio_slack = 1");
+  // 1 word vs 3 words: (3+1)/(1+1) = 2, kept; vs 4 words: 2.5, dropped.
+  EXPECT_EQ(h.run({{"one", "a b c"}, {"one", "a b c d"}}).reasons, (Reasons{"", "ratio"}));
+  test::StageHarness off("kind = \"length\"\nmax_ratio = 0");
+  EXPECT_EQ(off.reason("one", "a b c d e f g h i j"), "");
+}
+
+TEST(Length, LongWordCatchesJunk) {
+  test::StageHarness h("kind = \"length\"\nmax_word_chars = 20\nmax_ratio = 0");
+  EXPECT_EQ(h.reason("see aGVsbG8gd29ybGQgaGVsbG8gd29ybGQ+/x=", "ver"), "long-word:source");
+  EXPECT_EQ(h.reason("fine words", "palabras normales"), "");
+  test::StageHarness off("kind = \"length\"\nmax_word_chars = 0\nmax_ratio = 0");
+  EXPECT_EQ(off.reason("aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa", "b"), "");
+}
+
+TEST(Length, MinAboveMaxIsAPipelineError) {
+  test::StageHarness h("kind = \"length\"\nsource_min = 9\nsource_max = 3");
+  EXPECT_FALSE(h.ok());
+  EXPECT_NE(h.error().find("source_min is above source_max"), std::string::npos) << h.error();
+}
+
+TEST(Copy, IdenticalAndOverlappingSides) {
+  test::StageHarness h("kind = \"copy\"");
+  EXPECT_EQ(h.run({{"Open daily.", "Open daily."},
+                   {"The garden opens at nine.", "The garden opens at nine!"},
+                   {"The garden opens at nine.", "El jardín abre a las nueve."}})
+                .reasons,
+            (Reasons{"copy:identical", "copy:overlap", ""}));
+  test::StageHarness only_identical("kind = \"copy\"\nmax_overlap = 1.0");
+  EXPECT_EQ(only_identical.reason("The garden opens at nine.", "The garden opens at nine!"), "");
+  EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "abcd"), 1.0);
+  EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "wxyz"), 0.0);
+  // "abcd": abc, bcd; "abce": abc, bce -> 2*1/4.
+  EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "ABCE"), 0.5);
+}
+
+TEST(Dedup, FirstOccurrenceIsKeptAndNamed) {
+  test::StageHarness h("kind = \"dedup\"");
+  auto r = h.run({{"a", "b"}, {"a", "c"}, {"a", "b"}, {"x", "y"}, {"a", "b"}});
+  EXPECT_EQ(r.reasons, (Reasons{"", "", "duplicate:1", "", "duplicate:1"}));
+}
+
+TEST(Dedup, ScopesAndKeys) {
+  test::StageHarness src("kind = \"dedup\"\nscope = \"source\"");
+  EXPECT_EQ(src.run({{"a", "b"}, {"a", "c"}}).reasons, (Reasons{"", "duplicate:1"}));
+  test::StageHarness tgt("kind = \"dedup\"\nscope = \"target\"");
+  EXPECT_EQ(tgt.run({{"a", "b"}, {"c", "b"}, {"a", "d"}}).reasons, (Reasons{"", "duplicate:1", ""}));
+  test::StageHarness loose("kind = \"dedup\"\nkey = \"loose\"");
+  EXPECT_EQ(loose.run({{"Open today!", "¡Abierto hoy!"}, {"open  today", "ABIERTO HOY."}, {"Open 2 days", "Abierto"}}).reasons,
+            (Reasons{"", "duplicate:1", ""}));
+  EXPECT_EQ(loose_key("Árbol 12, ¡sí!"), "árbolsí");
+  test::StageHarness wide("kind = \"dedup\"\nhash_bits = 128");
+  EXPECT_EQ(wide.run({{"a", "b"}, {"a", "b"}}).reasons, (Reasons{"", "duplicate:1"}));
+  test::StageHarness bad("kind = \"dedup\"\nhash_bits = 96");
+  EXPECT_FALSE(bad.ok());
+}
+
+TEST(Dedup, PairKeyDoesNotConfuseWhereTheSidesSplit) {
+  test::StageHarness h("kind = \"dedup\"");
+  EXPECT_EQ(h.run({{"ab", "c"}, {"a", "bc"}}).reasons, (Reasons{"", ""}));
+}
+
+// The compact table against std::unordered_map on random keys, with growth.
+TEST(DedupTable, AgreesWithUnorderedMap) {
+  std::mt19937_64 rng(42);
+  DedupTable<1> t(4);
+  DedupTable<2> t2(4);
+  std::unordered_map<uint64_t, uint64_t> ref;
+  for (uint64_t line = 1; line <= 200000; ++line) {
+    uint64_t k = rng() % 50000;  // many repeats
+    uint64_t key[2] = {k * 0x9E3779B97F4A7C15ULL, k};
+    auto it = ref.find(k);
+    uint64_t want = it == ref.end() ? 0 : it->second;
+    if (it == ref.end()) ref[k] = line;
+    ASSERT_EQ(t.insert(key, line), want);
+    ASSERT_EQ(t2.insert(key, line), want);
+  }
+  EXPECT_EQ(t.size(), ref.size());
+  EXPECT_LE(t.size() * 4, t.capacity() * 3);
+}
+
+TEST(Script, DropsWrongScriptSides) {
+  test::StageHarness h("kind = \"script\"");
+  EXPECT_EQ(h.run({{"Open daily.", "Abierto a diario."},
+                   {"Open daily.", "\u0421\u0430\u0434 \u043e\u0442\u043a\u0440\u044b\u0442"},
+                   {"123 456", "789"},
+                   {"\u039f \u03ba\u03ae\u03c0\u03bf\u03c2", "Abierto"}})
+                .reasons,
+            (Reasons{"", "script:target", "", "script:source"}));
+  test::StageHarness ratio("kind = \"script\"\nmin_ratio = 0.5");
+  // 4 Latin letters of 8 counted: exactly one half, kept.
+  EXPECT_EQ(ratio.reason("abcd \u0430\u0431\u0432\u0433", "x"), "");
+  test::StageHarness custom("kind = \"script\"\ntarget_scripts = [\"Cyrl\", \"Latn\"]", "en", "sr");
+  EXPECT_EQ(custom.reason("Open", "\u0421\u0430\u0434 sad"), "");
+  test::StageHarness unknown("kind = \"script\"", "en", "xx");
+  EXPECT_FALSE(unknown.ok());
+  EXPECT_NE(unknown.error().find("target_scripts"), std::string::npos) << unknown.error();
+  test::StageHarness badcode("kind = \"script\"\nsource_scripts = [\"Latin1\"]");
+  EXPECT_FALSE(badcode.ok());
+  EXPECT_NE(badcode.error().find("is not an ISO 15924 script code"), std::string::npos);
+}
+
+TEST(Pattern, DropAndRewriteRules) {
+  test::StageHarness h(R"(kind = "pattern"
+rules = [
+  { name = "html-tag", pattern = "</?[a-z]+>", action = "rewrite", replacement = " " },
+  { name = "phone", pattern = "\\d{3}-\\d{4}", side = "target", action = "drop" },
+  { name = "brackets", pattern = "\\[(\\w+)\\]", side = "source", action = "rewrite", replacement = "\\1" },
+])");
+  ASSERT_TRUE(h.ok()) << h.error();
+  auto r = h.run({{"<p>Open <b>daily</b></p>", "<p>Abierto</p>"}, {"Call", "Llame al 555-1234"},
+                  {"Call 555-1234", "Llame"}, {"a [b] c", "[d]"}});
+  EXPECT_EQ(r.reasons, (Reasons{"", "phone", "", ""}));
+  EXPECT_EQ(r.text[0], (std::pair<std::string, std::string>{"Open daily", "Abierto"}));
+  EXPECT_EQ(r.text[3], (std::pair<std::string, std::string>{"a b c", "[d]"}));
+}
+
+TEST(Pattern, DefaultRulesStripMarkupAndDropAddresses) {
+  test::StageHarness h("kind = \"pattern\"");
+  auto r = h.run({{"<p>Open</p>&nbsp;", "Abierto"}, {"See https://example.org/x", "Vea"}, {"Write to a.b@example.org", "Escriba"}});
+  EXPECT_EQ(r.reasons, (Reasons{"", "url", "email"}));
+  EXPECT_EQ(r.text[0].first, "Open");
+}
+
+TEST(Pattern, InvalidPatternIsAPipelineErrorWithRe2sMessage) {
+  test::StageHarness h("kind = \"pattern\"\nrules = [{ name = \"bad\", pattern = \"(unclosed\" }]");
+  ASSERT_FALSE(h.ok());
+  EXPECT_NE(h.error().find("test.toml:8:"), std::string::npos) << h.error();
+  EXPECT_NE(h.error().find("missing )"), std::string::npos) << h.error();
+  test::StageHarness noname("kind = \"pattern\"\nrules = [{ pattern = \"x\" }]");
+  EXPECT_FALSE(noname.ok());
+  test::StageHarness badrepl("kind = \"pattern\"\nrules = [{ name = \"r\", pattern = \"x\", action = \"rewrite\", replacement = \"\\\\2\" }]");
+  EXPECT_FALSE(badrepl.ok());
+}
+
+TEST(Exclude, ListedSentencesAreDroppedAfterTheSameNormalization) {
+  test::TempDir t;
+  // One sentence per line, and a TSV pair; written with odd spacing and a
+  // decomposed accent that normalization removes.
+  test::write_file(t / "eval.txt", "The  garden opens at nine.\nEl jardi\u0301n cierra.\n");
+  test::write_file(t / "eval.tsv", "Entry is free.\tLa entrada es gratuita.\nCierra al atardecer\tCloses at sunset\n");
+  std::string before = "[[stage]]\nkind = \"normalize\"\n";
+  test::StageHarness h("kind = \"exclude\"\nfiles = [\"" + (t / "eval.txt") + "\", \"" + (t / "eval.tsv") + "\"]", "en",
+                       "es", before);
+  ASSERT_TRUE(h.ok()) << h.error();
+  auto r = h.run({{"The garden opens at nine.", "El jardín abre a las nueve."},
+                  {"Free entry.", "La entrada es gratuita."},
+                  {"Closes at sunset", "Cierra al atardecer."},
+                  {"Unrelated.", "Sin relación."},
+                  {"The garden closes.", "El jard\u00edn cierra."}});
+  EXPECT_EQ(r.reasons, (Reasons{"excluded:source", "excluded:target", "excluded:source", "", "excluded:target"}));
+  test::StageHarness src_only("kind = \"exclude\"\nmatch = \"source\"\nfiles = [\"" + (t / "eval.tsv") + "\"]");
+  EXPECT_EQ(src_only.reason("Free entry.", "La entrada es gratuita."), "");
+  test::StageHarness missing("kind = \"exclude\"\nfiles = [\"" + (t / "nope.txt") + "\"]");
+  EXPECT_FALSE(missing.ok());
+}
+
+}  // namespace
+}  // namespace sheaf
