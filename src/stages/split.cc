@@ -2,6 +2,7 @@
 
 #include <xxhash.h>
 
+#include <algorithm>
 #include <cmath>
 
 namespace sheaf {
@@ -57,17 +58,19 @@ void SplitStage::map(PairBatch& batch) {
 
 void SplitStage::reduce(PairBatch& batch) {
   // Count mode: keep the groups with the smallest hashes until they hold
-  // `need_` pairs; a larger hash is dropped from the map as soon as the
-  // smaller ones suffice without it.
+  // `need_` pairs, plus what filling the splits one after another can
+  // overshoot (a group is never cut); a larger hash is dropped from the map
+  // as soon as the smaller ones suffice without it.
   for (Pair& p : batch.pairs) {
     if (!p.kept()) continue;
     uint64_t h = p.key[0];
-    if (!smallest_.empty() && held_ >= need_ && h > smallest_.rbegin()->first) continue;
-    ++smallest_[h];
+    if (!smallest_.empty() && held_ >= need_ + slack() && h > smallest_.rbegin()->first) continue;
+    int64_t n = ++smallest_[h];
+    max_group_ = std::max(max_group_, n);
     ++held_;
     while (!smallest_.empty()) {
       auto last = std::prev(smallest_.end());
-      if (held_ - last->second < need_) break;
+      if (held_ - last->second < need_ + slack()) break;
       held_ -= last->second;
       smallest_.erase(last);
     }

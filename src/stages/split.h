@@ -52,7 +52,9 @@ class SplitStage : public Stage {
   std::vector<int64_t> counts_;    // per split index, count mode
   SplitKey key_;
   uint64_t seed_;
+  int64_t slack() const { return static_cast<int64_t>(counts_.size()) * (max_group_ - 1); }
   int64_t need_ = 0;
+  int64_t max_group_ = 1;
   int64_t held_ = 0;
   std::map<uint64_t, int64_t> smallest_;  // count mode: group hash -> pairs
   std::unordered_map<uint64_t, int> chosen_;
