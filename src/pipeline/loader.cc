@@ -32,6 +32,7 @@ std::string type_word(FieldType t) {
     case FieldType::kString: return "a string";
     case FieldType::kChoice: return "a string";
     case FieldType::kStringList: return "an array of strings";
+    case FieldType::kIntList: return "an array of integers";
     case FieldType::kFractionOrCount: return "a fraction (0.01) or a count of pairs (2000)";
     case FieldType::kTableList: return "an array of tables";
   }
@@ -116,6 +117,20 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
       for (const auto& e : *a) {
         if (!e.is_string()) return pipeline_error(what + "." + f.key + " must hold only strings", ctx.at(e));
         out.emplace_back(e.as_string()->get());
+      }
+      return Value(std::move(out));
+    }
+    case FieldType::kIntList: {
+      const toml::array* a = n.as_array();
+      if (a == nullptr) return bad_type();
+      std::vector<int64_t> out;
+      for (const auto& e : *a) {
+        if (!e.is_integer()) return pipeline_error(what + "." + f.key + " must hold only integers", ctx.at(e));
+        int64_t v = e.as_integer()->get();
+        if (v < f.min || v > f.max)
+          return pipeline_error(what + "." + f.key + " values must be " + range_text(f) + ", not " + std::to_string(v),
+                                ctx.at(e));
+        out.push_back(v);
       }
       return Value(std::move(out));
     }

@@ -52,6 +52,11 @@ std::string render_value(const Value& v) {
       for (size_t i = 0; i < l.size(); ++i) out += (i ? ", " : "") + toml_string(l[i]);
       return out + "]";
     }
+    std::string operator()(const std::vector<int64_t>& l) const {
+      std::string out = "[";
+      for (size_t i = 0; i < l.size(); ++i) out += (i ? ", " : "") + std::to_string(l[i]);
+      return out + "]";
+    }
     std::string operator()(const std::vector<Params>& l) const {
       if (l.empty()) return "[]";
       std::string out = "[\n";

@@ -28,6 +28,7 @@ enum class FieldType {
   kString,
   kChoice,           // string, one of `choices`
   kStringList,
+  kIntList,         // integers, each in [min, max]
   kFractionOrCount,  // float in [0, 1) = fraction, integer >= 0 = count
   kTableList,        // array of tables, each checked against `sub`
 };
@@ -35,7 +36,8 @@ enum class FieldType {
 struct FieldSpec;
 using FieldList = std::vector<FieldSpec>;
 
-using Value = std::variant<bool, int64_t, double, std::string, std::vector<std::string>, std::vector<Params>>;
+using Value = std::variant<bool, int64_t, double, std::string, std::vector<std::string>, std::vector<Params>,
+                           std::vector<int64_t>>;
 
 struct FieldSpec {
   std::string key;
@@ -70,6 +72,7 @@ class Params {
     return std::get<std::vector<std::string>>(get(key));
   }
   const std::vector<Params>& tables(std::string_view key) const { return std::get<std::vector<Params>>(get(key)); }
+  const std::vector<int64_t>& integers(std::string_view key) const { return std::get<std::vector<int64_t>>(get(key)); }
   Location where(std::string_view key) const;
 
  private:

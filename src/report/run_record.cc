@@ -57,10 +57,7 @@ std::string run_record_json(const RunRecord& r) {
     outs.push_back(e);
   }
   j["outputs"] = outs;
-  if (!r.extra_json.empty()) {
-    auto extra = ordered_json::parse(r.extra_json);
-    for (auto it = extra.begin(); it != extra.end(); ++it) j[it.key()] = it.value();
-  }
+  for (const auto& [key, value] : r.sections) j[key] = ordered_json::parse(value);
   return j.dump(2) + "\n";
 }
 

@@ -47,7 +47,9 @@ struct RunRecord {
   std::vector<Overlap> overlaps;
   std::vector<OutputEntry> outputs;
   std::string stopped_after;  // --until, empty when the whole pipeline ran
-  std::string extra_json;     // serialized JSON object merged in (summary figures)
+  // Further sections of the record, each (key, serialized JSON value), in
+  // the order the steps added them (vocabulary, shards...).
+  std::vector<std::pair<std::string, std::string>> sections;
 };
 
 std::string run_record_json(const RunRecord& r);

@@ -11,6 +11,7 @@
 #include "stages/script.h"
 #include "stages/split.h"
 #include "stages/stage.h"
+#include "stages/vocabulary.h"
 
 namespace sheaf {
 
@@ -27,6 +28,7 @@ const std::vector<Entry>& entries() {
       {normalize_kind(), make_normalize}, {pattern_kind(), make_pattern}, {length_kind(), make_length},
       {copy_kind(), make_copy},           {script_kind(), make_script},   {dedup_kind(), make_dedup},
       {exclude_kind(), make_exclude},     {langid_kind(), make_langid},   {split_kind(), make_split},
+      {vocabulary_kind(), nullptr},  // runs between passes (pipeline/steps.cc)
   };
   return e;
 }
@@ -44,7 +46,7 @@ const std::vector<StageKind>& stage_kinds() {
 
 Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx) {
   for (const auto& e : entries())
-    if (e.kind.kind == ctx.spec->kind->kind) return e.make(ctx);
+    if (e.kind.kind == ctx.spec->kind->kind && e.make) return e.make(ctx);
   return Error(ErrorKind::kInternal, "no factory for stage kind " + ctx.spec->kind->kind);
 }
 

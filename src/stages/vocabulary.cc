@@ -1,0 +1,233 @@
+#include "stages/vocabulary.h"
+
+#include <nlohmann/json.hpp>
+#include <unistd.h>
+
+#include <algorithm>
+#include <fstream>
+
+#include "core/text.h"
+#include "io/output_file.h"
+#include "report/stats.h"
+#include "stages/script.h"
+#include "subword/codec.h"
+
+namespace sheaf {
+
+const StageKind& vocabulary_kind() {
+  static const StageKind k{
+      "vocabulary",
+      "learns a BPE vocabulary on the train split and measures a range of sizes on dev",
+      StageRole::kVocabulary,
+      {
+          {"size", FieldType::kInt, int64_t{8000}, "vocabulary size: 4 special + 256 byte + alphabet + merges", 261, 4e9},
+          {"shared", FieldType::kChoice, std::string("auto"),
+           "one vocabulary for both sides, one per side, or auto (shared when the scripts match)", 0, 0,
+           {"auto", "shared", "separate"}},
+          {"min_count", FieldType::kInt, int64_t{2}, "stop merging when the best pair occurs fewer times", 1, 1e18},
+          {"alphabet_coverage", FieldType::kNumber, 0.9999,
+           "characters covering this fraction of occurrences get tokens; rarer ones use byte tokens", 0, 1},
+          {"split_digits", FieldType::kBool, false, "every digit is a unit of its own (numbers never merge)"},
+          {"byte_fallback", FieldType::kBool, true,
+           "encode characters outside the alphabet as byte tokens (off: the unknown token)"},
+          {"pad", FieldType::kString, std::string("\u27e8pad\u27e9"), "spelling of the padding token"},
+          {"unk", FieldType::kString, std::string("\u27e8unk\u27e9"), "spelling of the unknown token"},
+          {"bos", FieldType::kString, std::string("\u27e8bos\u27e9"), "spelling of the begin-of-sequence token"},
+          {"eos", FieldType::kString, std::string("\u27e8eos\u27e9"), "spelling of the end-of-sequence token"},
+          {"special_ids", FieldType::kIntList, std::vector<int64_t>{0, 1, 2, 3},
+           "ids of pad, unk, bos and eos: an order of 0, 1, 2, 3", 0, 3},
+          {"sweep", FieldType::kIntList, std::vector<int64_t>{2000, 4000, 8000, 16000, 32000},
+           "sizes measured on dev to help choose a size (learning runs up to the largest)", 261, 4e9},
+          {"sweep_max_length", FieldType::kInt, int64_t{128}, "the sweep reports the share of sentences longer than this",
+           1, 1e9},
+      }};
+  return k;
+}
+
+Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec) {
+  const Params& q = spec.params;
+  VocabularyPlan plan;
+  const std::string& shared = q.text("shared");
+  if (shared == "auto") {
+    auto a = scripts_for_language(p.corpus.source_lang), b = scripts_for_language(p.corpus.target_lang);
+    std::sort(a.begin(), a.end());
+    std::sort(b.begin(), b.end());
+    plan.shared = a == b;
+  } else {
+    plan.shared = shared == "shared";
+  }
+  plan.size = static_cast<size_t>(q.integer("size"));
+  plan.sweep = q.integers("sweep");
+  plan.sweep_max_length = q.integer("sweep_max_length");
+  TrainOptions& t = plan.train;
+  t.size = plan.size;
+  for (int64_t s : plan.sweep) t.size = std::max(t.size, static_cast<size_t>(s));
+  t.min_count = static_cast<uint64_t>(q.integer("min_count"));
+  t.alphabet_coverage = q.number("alphabet_coverage");
+  t.split_digits = q.flag("split_digits");
+  t.byte_fallback = q.flag("byte_fallback");
+  t.specials = {q.text("pad"), q.text("unk"), q.text("bos"), q.text("eos")};
+  const auto& ids = q.integers("special_ids");
+  std::array<bool, 4> seen{};
+  bool ok = ids.size() == 4;
+  for (size_t i = 0; ok && i < 4; ++i) {
+    ok = !seen[static_cast<size_t>(ids[i])];
+    seen[static_cast<size_t>(ids[i])] = true;
+    t.special_ids[i] = static_cast<uint32_t>(ids[i]);
+  }
+  if (!ok)
+    return Error(ErrorKind::kPipeline,
+                 "stage \"" + spec.name + "\": special_ids must give pad, unk, bos and eos the ids 0, 1, 2 and 3 in some order",
+                 q.where("special_ids").empty() ? spec.where : q.where("special_ids"));
+  for (const auto& s : t.specials)
+    if (s.empty())
+      return Error(ErrorKind::kPipeline, "stage \"" + spec.name + "\": special token spellings must not be empty", spec.where);
+  return plan;
+}
+
+namespace {
+
+using nlohmann::ordered_json;
+
+// Reads one column of a split file.
+std::vector<std::string> column(const std::string& path, int col) {
+  std::vector<std::string> out;
+  std::ifstream in(path, std::ios::binary);
+  std::string line;
+  while (std::getline(in, line)) {
+    size_t tab = line.find('\t');
+    out.push_back(col == 0 ? line.substr(0, tab) : (tab == std::string::npos ? "" : line.substr(tab + 1)));
+  }
+  return out;
+}
+
+ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev, const std::vector<int64_t>& sizes,
+                        int64_t max_len) {
+  ordered_json rows = ordered_json::array();
+  uint64_t words = 0;
+  for (const auto& s : dev) words += count_words(s);
+  for (int64_t size : sizes) {
+    size_t fixed = v.first_merge();
+    if (static_cast<size_t>(size) < fixed) continue;
+    Encoder enc(v, static_cast<size_t>(size) - fixed);
+    EncodeStats st;
+    std::vector<uint64_t> per;
+    std::vector<uint32_t> ids;
+    uint64_t over = 0;
+    for (const auto& s : dev) {
+      ids.clear();
+      enc.encode(s, ids, &st);
+      per.push_back(ids.size());
+      over += static_cast<int64_t>(ids.size()) > max_len;
+    }
+    Distribution d = distribution_of(per);
+    ordered_json r = {{"size", size},
+                      {"effective_size", enc.effective_size()},
+                      {"sentences", d.count},
+                      {"tokens", st.tokens},
+                      {"mean_tokens", d.mean},
+                      {"p95_tokens", d.p95},
+                      {"p99_tokens", d.p99},
+                      {"max_tokens", d.max},
+                      {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
+                      {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
+                      {"byte_fallback_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
+    rows.push_back(r);
+  }
+  return rows;
+}
+
+}  // namespace
+
+Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads) {
+  auto plan = vocabulary_plan(*in.pipeline, spec);
+  if (!plan.ok()) return plan.error();
+  RunRecord& rec = *in.record;
+  uint64_t train_pairs = 0;
+  bool have_dev = false;
+  for (const auto& [name, n] : rec.splits) {
+    if (name == "train") train_pairs = n;
+    if (name == "dev") have_dev = n > 0;
+  }
+  if (train_pairs == 0)
+    return Error(ErrorKind::kData,
+                 "the train split is empty after filtering, so no vocabulary can be learned; see rejected.tsv and the "
+                 "stage counts for what removed the pairs",
+                 Location{in.dir->file("train.tsv"), 0, 0, {}});
+  std::string train = in.dir->file("train.tsv");
+  std::string dev_path = in.dir->file(have_dev ? "dev.tsv" : "train.tsv");
+
+  struct Job {
+    std::string side;
+    std::vector<int> columns;
+  };
+  std::vector<Job> jobs;
+  if (plan->shared) {
+    jobs.push_back(Job{"shared", {0, 1}});
+  } else {
+    jobs.push_back(Job{"source", {0}});
+    jobs.push_back(Job{"target", {1}});
+  }
+  ordered_json section = {{"stage", spec.name},
+                          {"shared", plan->shared},
+                          {"size", plan->size},
+                          {"learned_up_to", plan->train.size},
+                          {"sweep_split", have_dev ? "dev" : "train"}};
+  ordered_json vocabs = ordered_json::array();
+  std::vector<std::string> files;
+  for (const auto& job : jobs) {
+    TrainOptions t = plan->train;
+    t.side = job.side;
+    t.threads = threads;
+    t.progress = ::isatty(STDERR_FILENO);
+    TrainReport report;
+    auto learned = train_vocabulary({train}, job.columns, t, &report);
+    if (!learned.ok()) return learned.error();
+    const Vocabulary& full = *learned;
+    // The vocabulary written: the first (size - fixed) merges.
+    size_t keep = plan->size > full.first_merge() ? std::min(full.merges(), plan->size - full.first_merge()) : 0;
+    std::vector<std::string> alphabet;
+    for (size_t i = 0; i < full.alphabet_size(); ++i)
+      alphabet.push_back(full.token(full.first_char() + static_cast<uint32_t>(i)).bytes);
+    Vocabulary v = Vocabulary::build(t.specials, t.special_ids, alphabet, full.info());
+    for (size_t m = 0; m < keep; ++m) {
+      const Token& tk = full.token(full.first_merge() + static_cast<uint32_t>(m));
+      v.add_merge(tk.left, tk.right);
+    }
+    std::string rel = "vocab." + job.side + ".txt";
+    SHEAF_TRY(in.dir->will_create(rel));
+    OutputFile f;
+    SHEAF_TRY(f.open(in.dir->file(rel)));
+    f.write(v.serialize());
+    SHEAF_TRY(f.commit());
+    rec.outputs.push_back({rel, "vocabulary", "", job.side, v.size(), f.size(), f.checksum()});
+    files.push_back(rel);
+
+    ordered_json sweep = ordered_json::object();
+    for (int col : job.columns) {
+      auto dev = column(dev_path, col);
+      std::vector<int64_t> sizes = plan->sweep;
+      if (std::find(sizes.begin(), sizes.end(), static_cast<int64_t>(plan->size)) == sizes.end())
+        sizes.push_back(static_cast<int64_t>(plan->size));
+      std::sort(sizes.begin(), sizes.end());
+      sweep[col == 0 ? "source" : "target"] = sweep_side(full, dev, sizes, plan->sweep_max_length);
+    }
+    vocabs.push_back({{"side", job.side},
+                      {"file", rel},
+                      {"size", v.size()},
+                      {"alphabet", v.alphabet_size()},
+                      {"alphabet_coverage", v.info().alphabet_coverage},
+                      {"merges", v.merges()},
+                      {"learned_merges", report.merges},
+                      {"stopped_early", report.stopped_early},
+                      {"word_types", report.word_types},
+                      {"word_units", report.word_units},
+                      {"distinct_characters", report.distinct_characters},
+                      {"sweep", sweep}});
+  }
+  section["vocabularies"] = vocabs;
+  rec.sections.emplace_back("vocabulary", section.dump());
+  return files;
+}
+
+}  // namespace sheaf

@@ -1,0 +1,40 @@
+// vocabulary: learns a byte-pair-encoding vocabulary from the train split.
+//
+// Not a streaming stage: it runs after pass 1 on train.tsv, so dev and test
+// never influence it. One vocabulary for both sides (shared), or one per side
+// (separate); "auto" shares when both languages are written in the same
+// scripts (the script table of the script stage). The vocabulary has exactly
+// `size` tokens: 4 special, 256 byte, the base alphabet, and merges (fewer if
+// no pair occurs min_count times; the run record says so). Learning runs up
+// to the largest of `size` and the `sweep` sizes once; every smaller
+// vocabulary is a prefix of it, and each sweep size is evaluated on the dev
+// split (tokens per sentence and per word, sentences over sweep_max_length
+// tokens, byte-fallback rate). Writes vocab.shared.txt, or vocab.source.txt
+// and vocab.target.txt (docs/vocabulary-format.md).
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "pipeline/steps.h"
+#include "subword/trainer.h"
+
+namespace sheaf {
+
+const StageKind& vocabulary_kind();
+
+struct VocabularyPlan {
+  bool shared = true;
+  TrainOptions train;      // size = the largest size learned
+  size_t size = 0;         // the size written
+  std::vector<int64_t> sweep;
+  int64_t sweep_max_length = 128;
+};
+Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec);
+
+// Learns, writes the vocabulary file(s), evaluates the sweep; adds outputs and
+// a "vocabulary" section to the run record. Returns the vocabulary files'
+// paths relative to the run directory (one, or source then target).
+Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads);
+
+}  // namespace sheaf

@@ -1,0 +1,52 @@
+// MergeLearner: byte-pair-encoding merges learned from (symbol sequence,
+// count) pairs, after Sennrich, Haddow & Birch (2016), Algorithm 1. It knows
+// nothing of text: symbols are integer ids and the caller says how to order
+// ties, so it can be checked against the paper's examples directly.
+//
+// Each step merges the most frequent adjacent pair of mergeable symbols into
+// a new symbol (ids first_new_id, first_new_id + 1, ...), replacing its
+// non-overlapping occurrences left to right in every word. It is incremental:
+// pair counts, an index from each pair to the words holding it, and a
+// priority queue with lazy invalidation, so a step touches only the words
+// that hold the merged pair.
+// Ties between pairs of equal count go to the pair for which `before(a, b)`
+// is true (a strict weak order on pairs); the vocabulary uses the byte order
+// of the merged tokens (docs/vocabulary-format.md). Learning stops after
+// `max_merges` merges or when the best pair occurs fewer than `min_count`
+// times. Deterministic: same input, same merges.
+#pragma once
+
+#include <cstdint>
+#include <functional>
+#include <vector>
+
+namespace sheaf {
+
+struct WordType {
+  std::vector<uint32_t> symbols;
+  uint64_t count = 0;
+};
+
+struct Merge {
+  uint32_t left = 0, right = 0, result = 0;
+  uint64_t count = 0;  // occurrences of the pair when it was merged
+};
+
+struct SymbolPair {
+  uint32_t left, right;
+};
+
+struct LearnOptions {
+  size_t max_merges = 0;
+  uint64_t min_count = 2;
+  uint32_t first_new_id = 0;
+  std::function<bool(uint32_t)> mergeable;                    // default: every symbol
+  std::function<bool(SymbolPair, SymbolPair)> before;         // default: smaller ids first
+  std::function<void(size_t done, uint64_t count)> progress;  // called every 1000 merges
+  std::function<void(const Merge&)> on_merge;                 // called after each merge
+};
+
+// Learns merges; `words` is rewritten in place to the merged symbols.
+std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions& o);
+
+}  // namespace sheaf

@@ -1,0 +1,191 @@
+#include "subword/trainer.h"
+
+#include <oneapi/tbb/enumerable_thread_specific.h>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
+#include <unicode/utf8.h>
+
+#include <algorithm>
+#include <cstdio>
+#include <cstring>
+#include <fstream>
+#include <map>
+#include <unordered_map>
+
+#include "subword/merge_learner.h"
+#include "subword/units.h"
+
+namespace sheaf {
+
+namespace {
+
+using Counts = std::unordered_map<std::string, uint64_t>;
+
+Status count_units(const std::vector<std::string>& files, const std::vector<int>& columns, bool split_digits,
+                   int threads, Counts& total) {
+  tbb::enumerable_thread_specific<Counts> local;
+  for (const auto& path : files) {
+    std::ifstream in(path, std::ios::binary);
+    if (!in) return Error(ErrorKind::kIo, "cannot read split text", Location{path, 0, 0, {}});
+    std::string carry;
+    tbb::task_arena arena(threads);
+    arena.execute([&] {
+      tbb::parallel_pipeline(
+          static_cast<size_t>(threads) * 4,
+          tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
+                                               [&](tbb::flow_control& fc) -> std::string* {
+                                                 auto* block = new std::string(std::move(carry));
+                                                 carry.clear();
+                                                 size_t have = block->size();
+                                                 block->resize(have + (4 << 20));
+                                                 in.read(block->data() + have, 4 << 20);
+                                                 block->resize(have + static_cast<size_t>(in.gcount()));
+                                                 if (block->empty()) {
+                                                   delete block;
+                                                   fc.stop();
+                                                   return nullptr;
+                                                 }
+                                                 size_t nl = block->rfind('\n');
+                                                 if (in && nl != std::string::npos) {
+                                                   carry = block->substr(nl + 1);
+                                                   block->resize(nl + 1);
+                                                 }
+                                                 return block;
+                                               }) &
+              tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
+                Counts& c = local.local();
+                std::string_view b(*block);
+                while (!b.empty()) {
+                  size_t nl = b.find('\n');
+                  std::string_view line = b.substr(0, nl);
+                  size_t tab = line.find('\t');
+                  std::string_view side[2] = {line.substr(0, tab),
+                                              tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
+                  for (int col : columns)
+                    cut_units(side[col], split_digits, [&](std::string_view u) { ++c[std::string(u)]; });
+                  if (nl == std::string_view::npos) break;
+                  b.remove_prefix(nl + 1);
+                }
+                delete block;
+              }));
+    });
+  }
+  for (auto& c : local)
+    for (auto& [k, v] : c) total[k] += v;
+  return {};
+}
+
+}  // namespace
+
+Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const std::vector<int>& columns,
+                                    const TrainOptions& o, TrainReport* report) {
+  Counts counts;
+  SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
+  // Word types in byte order: the learner's input must not depend on hashing.
+  std::vector<std::pair<std::string, uint64_t>> types(counts.begin(), counts.end());
+  counts.clear();
+  std::sort(types.begin(), types.end());
+
+  // Character occurrences, weighted by word counts.
+  std::unordered_map<UChar32, uint64_t> chars;
+  uint64_t total_chars = 0, total_units = 0;
+  for (const auto& [w, n] : types) {
+    total_units += n;
+    const uint8_t* p = reinterpret_cast<const uint8_t*>(w.data());
+    int32_t len = static_cast<int32_t>(w.size()), i = 0;
+    while (i < len) {
+      UChar32 c;
+      U8_NEXT(p, i, len, c);
+      if (c < 0) continue;
+      chars[c] += n;
+      total_chars += n;
+    }
+  }
+  std::vector<std::pair<UChar32, uint64_t>> by_freq(chars.begin(), chars.end());
+  std::sort(by_freq.begin(), by_freq.end(), [](const auto& a, const auto& b) {
+    return a.second != b.second ? a.second > b.second : a.first < b.first;
+  });
+  std::vector<std::string> alphabet;
+  uint64_t covered = 0;
+  for (const auto& [c, n] : by_freq) {
+    if (total_chars > 0 && static_cast<double>(covered) >= o.alphabet_coverage * static_cast<double>(total_chars)) break;
+    char buf[4];
+    int32_t k = 0;
+    U8_APPEND_UNSAFE(buf, k, c);
+    alphabet.emplace_back(buf, static_cast<size_t>(k));
+    covered += n;
+  }
+  size_t fixed = 4 + 256 + alphabet.size();
+  if (o.size < fixed)
+    return Error(ErrorKind::kData,
+                 "vocabulary size " + std::to_string(o.size) + " is too small for the " + std::to_string(alphabet.size()) +
+                     " characters that cover " + std::to_string(o.alphabet_coverage) + " of the " + o.side +
+                     " training text (plus 4 special and 256 byte tokens); raise size to at least " +
+                     std::to_string(fixed) + " or lower alphabet_coverage");
+
+  VocabularyInfo info{o.side, total_chars ? static_cast<double>(covered) / static_cast<double>(total_chars) : 1.0,
+                      o.split_digits, o.byte_fallback};
+  Vocabulary v = Vocabulary::build(o.specials, o.special_ids, alphabet, info);
+
+  std::vector<WordType> words;
+  words.reserve(types.size());
+  for (const auto& [w, n] : types) {
+    WordType t;
+    t.count = n;
+    const uint8_t* p = reinterpret_cast<const uint8_t*>(w.data());
+    int32_t len = static_cast<int32_t>(w.size()), i = 0;
+    while (i < len) {
+      int32_t at = i;
+      UChar32 c;
+      U8_NEXT(p, i, len, c);
+      int64_t id = c < 0 ? -1 : v.char_id(std::string_view(w).substr(static_cast<size_t>(at), static_cast<size_t>(i - at)));
+      if (id >= 0) t.symbols.push_back(static_cast<uint32_t>(id));
+      else
+        for (int32_t k = at; k < i; ++k) t.symbols.push_back(v.byte_token(p[k]));
+    }
+    words.push_back(std::move(t));
+  }
+
+  // Token bytes as they grow, for the tie-breaking rule.
+  std::vector<std::string> bytes;
+  for (uint32_t id = 0; id < v.size(); ++id) bytes.push_back(v.token(id).bytes);
+  LearnOptions lo;
+  lo.max_merges = o.size - fixed;
+  lo.min_count = o.min_count;
+  lo.first_new_id = static_cast<uint32_t>(v.size());
+  uint32_t first_char = v.first_char();
+  lo.mergeable = [first_char](uint32_t s) { return s >= first_char; };
+  lo.before = [&bytes](SymbolPair a, SymbolPair b) {
+    const std::string &al = bytes[a.left], &ar = bytes[a.right], &bl = bytes[b.left], &br = bytes[b.right];
+    // Compare al+ar with bl+br without building them.
+    size_t na = al.size() + ar.size(), nb = bl.size() + br.size();
+    for (size_t i = 0; i < std::min(na, nb); ++i) {
+      unsigned char ca = static_cast<unsigned char>(i < al.size() ? al[i] : ar[i - al.size()]);
+      unsigned char cb = static_cast<unsigned char>(i < bl.size() ? bl[i] : br[i - bl.size()]);
+      if (ca != cb) return ca < cb;
+    }
+    if (na != nb) return na < nb;
+    if (al.size() != bl.size()) return al.size() < bl.size();
+    return a.left < b.left;
+  };
+  std::vector<Merge> merges;
+  lo.progress = [&](size_t done, uint64_t count) {
+    if (o.progress) std::fprintf(stderr, "\r\033[Klearning %s vocabulary: %zu merges, current pair count %llu", o.side.c_str(), done,
+                                 static_cast<unsigned long long>(count));
+  };
+  lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
+  merges = learn_merges(words, lo);
+  if (o.progress) std::fprintf(stderr, "\r\033[K");
+  for (const Merge& m : merges) v.add_merge(m.left, m.right);
+  if (report) {
+    report->word_types = types.size();
+    report->word_units = total_units;
+    report->characters = total_chars;
+    report->distinct_characters = by_freq.size();
+    report->merges = merges.size();
+    report->stopped_early = merges.size() < lo.max_merges;
+  }
+  return v;
+}
+
+}  // namespace sheaf

@@ -1,0 +1,91 @@
+// Vocabulary: the tokens of one learned subword vocabulary and its file.
+//
+// Ids, in order: the four special tokens (padding, unknown, begin and end of
+// sequence, in the order their ids give), the 256 byte tokens (id = first
+// byte id + byte value), the base alphabet (one token per character, most
+// frequent first), then one token per merge in rank order. The file format
+// is specified in docs/vocabulary-format.md; load() checks its checksum and
+// every field, so a damaged or hand-edited file is reported, never used.
+#pragma once
+
+#include <array>
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <unordered_map>
+#include <vector>
+
+#include "core/error.h"
+
+namespace sheaf {
+
+inline constexpr int kVocabularyFormat = 1;
+
+enum class TokenKind { kSpecial, kByte, kChar, kMerged };
+const char* token_kind_name(TokenKind k);
+
+struct Token {
+  TokenKind kind;
+  std::string bytes;  // the text it stands for (specials: their spelling)
+  uint32_t left = 0, right = 0;  // kMerged: the two tokens it joins
+};
+
+enum Special : int { kPad = 0, kUnk = 1, kBos = 2, kEos = 3 };
+
+struct VocabularyInfo {
+  std::string side;          // "shared", "source" or "target"
+  double alphabet_coverage = 0;
+  bool split_digits = false;
+  bool byte_fallback = true;
+};
+
+class Vocabulary {
+ public:
+  Vocabulary() = default;
+
+  // Builds a vocabulary from its parts; specials[i] is the spelling and
+  // special_ids[i] the id of pad, unk, bos, eos (a permutation of 0..3).
+  static Vocabulary build(const std::array<std::string, 4>& specials, const std::array<uint32_t, 4>& special_ids,
+                          const std::vector<std::string>& alphabet, VocabularyInfo info);
+  // Appends a merge of two existing tokens; returns the new id.
+  uint32_t add_merge(uint32_t left, uint32_t right);
+
+  static Result<Vocabulary> load(const std::string& path);
+  static Result<Vocabulary> parse(std::string_view text, const std::string& name);
+  std::string serialize() const;
+
+  size_t size() const { return tokens_.size(); }
+  const Token& token(uint32_t id) const { return tokens_[id]; }
+  uint32_t special(Special s) const { return special_ids_[s]; }
+  uint32_t byte_token(uint8_t b) const { return kFirstByte + b; }
+  bool is_byte(uint32_t id) const { return id >= kFirstByte && id < kFirstByte + 256; }
+  uint32_t first_char() const { return kFirstByte + 256; }
+  uint32_t first_merge() const { return first_char() + static_cast<uint32_t>(alphabet_size_); }
+  size_t alphabet_size() const { return alphabet_size_; }
+  size_t merges() const { return tokens_.size() - first_merge(); }
+  // Token id of a character of the alphabet (its UTF-8), or -1.
+  int64_t char_id(std::string_view utf8) const;
+  const VocabularyInfo& info() const { return info_; }
+  // XXH3-64 of the serialized file without its checksum line: shards record
+  // it so that they are never read with another vocabulary.
+  uint64_t checksum() const;
+
+  static constexpr uint32_t kFirstByte = 4;
+
+ private:
+  std::vector<Token> tokens_;
+  std::array<uint32_t, 4> special_ids_{0, 1, 2, 3};
+  size_t alphabet_size_ = 0;
+  std::unordered_map<std::string, uint32_t> chars_;
+  VocabularyInfo info_;
+};
+
+// The escaped form of token bytes in the file and in `encode --pieces`:
+// printable characters as they are; "\\" for a backslash, "\s" for a space,
+// "\t", "\n", "\r"; "\u{HHHH}" for other invisible characters (controls,
+// format characters, separators, unassigned); "\xHH" for bytes that are not
+// valid UTF-8.
+std::string escape_token(std::string_view bytes);
+Result<std::string> unescape_token(std::string_view text);
+
+}  // namespace sheaf
