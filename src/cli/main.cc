@@ -3,10 +3,14 @@
 #include <unistd.h>
 
 #include <csignal>
+#include <filesystem>
+#include <sstream>
 #include <cstdio>
 #include <iostream>
 
 #include "pipeline/pipeline.h"
+#include "shards/inspect.h"
+#include "subword/codec.h"
 #include "pipeline/runner.h"
 #include "report/run_record.h"
 
@@ -90,6 +94,28 @@ int main(int argc, char** argv) {
   run->add_flag("--force", ro.force, "write into a directory that is not a sheaf run");
   run->add_flag("--quiet", quiet, "no progress and no summary");
 
+  // encode
+  auto* encode = app.add_subcommand("encode", "text lines on standard input to token ids on standard output");
+  std::string evocab;
+  bool pieces = false, ebos = false, eeos = false;
+  encode->add_option("--vocab", evocab, "vocabulary file")->required();
+  encode->add_flag("--pieces", pieces, "print the escaped tokens instead of ids");
+  encode->add_flag("--bos", ebos, "begin each line with the begin-of-sequence id");
+  encode->add_flag("--eos", eeos, "end each line with the end-of-sequence id");
+
+  // decode
+  auto* decode_cmd = app.add_subcommand("decode", "token ids (standard input) or a shard back to text");
+  std::vector<std::string> dvocab;
+  std::string dshard;
+  decode_cmd->add_option("shard", dshard, "a shard file to print as TSV (omit to read ids from standard input)");
+  decode_cmd->add_option("--vocab", dvocab,
+                         "vocabulary file; for a shard: one shared or two (source, target), found beside it if omitted");
+
+  // inspect
+  auto* inspect = app.add_subcommand("inspect", "check a shard, or every file of a run, and print what it holds");
+  std::string ipath;
+  inspect->add_option("path", ipath, "a shard file or a run directory")->required();
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -118,6 +144,63 @@ int main(int argc, char** argv) {
     auto p = load_pipeline(vfile, *ov);
     if (!p.ok()) return fail(p.error());
     std::cout << render_pipeline(*p);
+    return 0;
+  }
+  if (encode->parsed()) {
+    auto v = Vocabulary::load(evocab);
+    if (!v.ok()) return fail(v.error());
+    Encoder enc(*v);
+    std::string line, out;
+    std::vector<uint32_t> ids;
+    while (std::getline(std::cin, line)) {
+      ids.clear();
+      if (ebos) ids.push_back(v->special(kBos));
+      enc.encode(line, ids);
+      if (eeos) ids.push_back(v->special(kEos));
+      out.clear();
+      for (size_t i = 0; i < ids.size(); ++i) {
+        if (i) out += ' ';
+        out += pieces ? escape_token(v->token(ids[i]).bytes) : std::to_string(ids[i]);
+      }
+      out += '\n';
+      std::cout << out;
+    }
+    return 0;
+  }
+  if (decode_cmd->parsed()) {
+    if (!dshard.empty()) {
+      auto vs = vocabularies_for_shard(dshard, dvocab);
+      if (!vs.ok()) return fail(vs.error());
+      if (auto st = decode_shard(dshard, *vs, std::cout); !st.ok()) return fail(st.error());
+      return 0;
+    }
+    if (dvocab.size() != 1) return fail(Error(ErrorKind::kUsage, "decode of ids needs exactly one --vocab FILE"));
+    auto v = Vocabulary::load(dvocab[0]);
+    if (!v.ok()) return fail(v.error());
+    std::string line;
+    uint64_t n = 0;
+    std::vector<uint32_t> ids;
+    while (std::getline(std::cin, line)) {
+      ++n;
+      ids.clear();
+      std::istringstream in(line);
+      std::string tok;
+      while (in >> tok) {
+        char* end = nullptr;
+        unsigned long id = std::strtoul(tok.c_str(), &end, 10);
+        if (*end != 0 || id >= v->size())
+          return fail(Error(ErrorKind::kInput, "\"" + tok + "\" is not a token id of this vocabulary (0 to " +
+                                                   std::to_string(v->size() - 1) + ")",
+                            Location{"<stdin>", n, 0, {}}));
+        ids.push_back(static_cast<uint32_t>(id));
+      }
+      std::cout << decode(*v, ids) << '\n';
+    }
+    return 0;
+  }
+  if (inspect->parsed()) {
+    Status st = std::filesystem::is_directory(ipath) ? inspect_run(ipath, std::cout) : inspect_shard(ipath, std::cout);
+    if (!st.ok()) return fail(st.error());
     return 0;
   }
   if (run->parsed()) {

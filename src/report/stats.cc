@@ -37,3 +37,59 @@ std::string distribution_json(const Distribution& d) {
 }
 
 }  // namespace sheaf
+
+namespace sheaf {
+
+void Histogram::add(uint64_t v, uint64_t times) {
+  if (v >= counts_.size()) counts_.resize(v + 1, 0);
+  counts_[v] += times;
+  count_ += times;
+  sum_ += v * times;
+}
+
+void Histogram::merge(const Histogram& o) {
+  if (o.counts_.size() > counts_.size()) counts_.resize(o.counts_.size(), 0);
+  for (size_t i = 0; i < o.counts_.size(); ++i) counts_[i] += o.counts_[i];
+  count_ += o.count_;
+  sum_ += o.sum_;
+}
+
+uint64_t Histogram::value_at_rank(uint64_t rank) const {
+  uint64_t seen = 0;
+  for (size_t v = 0; v < counts_.size(); ++v) {
+    seen += counts_[v];
+    if (seen >= rank) return v;
+  }
+  return counts_.empty() ? 0 : counts_.size() - 1;
+}
+
+Distribution Histogram::summary() const {
+  Distribution d;
+  d.count = count_;
+  d.sum = sum_;
+  if (count_ == 0) return d;
+  auto rank = [&](double p) {
+    double r = std::ceil(p / 100.0 * static_cast<double>(count_));
+    return r < 1 ? uint64_t{1} : static_cast<uint64_t>(r);
+  };
+  d.min = value_at_rank(1);
+  d.max = value_at_rank(count_);
+  d.p50 = value_at_rank(rank(50));
+  d.p90 = value_at_rank(rank(90));
+  d.p95 = value_at_rank(rank(95));
+  d.p99 = value_at_rank(rank(99));
+  d.mean = static_cast<double>(sum_) / static_cast<double>(count_);
+  return d;
+}
+
+std::vector<uint64_t> Histogram::bins(uint64_t width, size_t most) const {
+  std::vector<uint64_t> out;
+  for (size_t v = 0; v < counts_.size(); ++v) {
+    size_t b = std::min<size_t>(v / width, most - 1);
+    if (b >= out.size()) out.resize(b + 1, 0);
+    out[b] += counts_[v];
+  }
+  return out;
+}
+
+}  // namespace sheaf

@@ -26,3 +26,27 @@ Distribution distribution_of(std::vector<uint64_t>& values);
 std::string distribution_json(const Distribution& d);
 
 }  // namespace sheaf
+
+namespace sheaf {
+
+// Exact counts of small non-negative integers (lengths): percentiles by
+// nearest rank without keeping the values. Merging is a sum, so the result
+// does not depend on the order or the thread that added a value.
+class Histogram {
+ public:
+  void add(uint64_t v, uint64_t times = 1);
+  void merge(const Histogram& o);
+  uint64_t count() const { return count_; }
+  uint64_t sum() const { return sum_; }
+  Distribution summary() const;
+  // Counts in bins of `width` from 0: bin k holds values in [k*width, (k+1)*width).
+  std::vector<uint64_t> bins(uint64_t width, size_t most) const;
+  const std::vector<uint64_t>& counts() const { return counts_; }
+
+ private:
+  uint64_t value_at_rank(uint64_t rank) const;
+  std::vector<uint64_t> counts_;
+  uint64_t count_ = 0, sum_ = 0;
+};
+
+}  // namespace sheaf

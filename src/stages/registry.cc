@@ -9,6 +9,7 @@
 #include "stages/normalize.h"
 #include "stages/pattern.h"
 #include "stages/script.h"
+#include "stages/shards.h"
 #include "stages/split.h"
 #include "stages/stage.h"
 #include "stages/vocabulary.h"
@@ -29,6 +30,7 @@ const std::vector<Entry>& entries() {
       {copy_kind(), make_copy},           {script_kind(), make_script},   {dedup_kind(), make_dedup},
       {exclude_kind(), make_exclude},     {langid_kind(), make_langid},   {split_kind(), make_split},
       {vocabulary_kind(), nullptr},  // runs between passes (pipeline/steps.cc)
+      {shards_kind(), nullptr},      // runs last (pipeline/steps.cc)
   };
   return e;
 }

@@ -1,0 +1,48 @@
+// The shard file format (docs/shard-format.md is the specification).
+//
+// A shard holds the token ids of some pairs of one split: a 128-byte
+// little-endian header, then per side an offsets array ((pairs + 1) x u64)
+// and a flat id array (u16 or u32), each starting at a multiple of 64 bytes,
+// then the XXH3-64 of everything between the header and itself.
+#pragma once
+
+#include <cstdint>
+
+namespace sheaf {
+
+inline constexpr char kShardMagic[8] = {'s', 'h', 'f', 'i', 'd', 's', 0x1A, 0x00};
+inline constexpr uint32_t kShardFormat = 1;
+inline constexpr uint64_t kShardHeaderSize = 128;
+inline constexpr uint64_t kShardAlign = 64;
+
+enum ShardOrder : uint32_t { kInputOrder = 0, kLengthOrder = 1 };
+enum ShardFlags : uint32_t { kHasBos = 1, kHasEos = 2 };
+
+#pragma pack(push, 1)
+struct ShardHeader {
+  char magic[8];
+  uint32_t version;
+  uint32_t id_width;       // bytes per id: 2 or 4
+  uint64_t pairs;
+  uint64_t source_vocab;   // XXH3-64 checksums of the vocabularies
+  uint64_t target_vocab;
+  uint32_t order;          // ShardOrder
+  uint32_t flags;          // ShardFlags
+  uint64_t source_offsets; // byte positions in the file
+  uint64_t source_ids;
+  uint64_t source_count;   // ids on the source side
+  uint64_t target_offsets;
+  uint64_t target_ids;
+  uint64_t target_count;
+  uint64_t file_size;
+  uint32_t shard_index;    // position of this shard within its split
+  uint32_t reserved0;
+  uint64_t header_checksum;  // XXH3-64 of bytes 0..111
+  uint64_t reserved1;
+};
+#pragma pack(pop)
+static_assert(sizeof(ShardHeader) == kShardHeaderSize, "shard header is 128 bytes");
+
+inline uint64_t align_up(uint64_t v) { return (v + kShardAlign - 1) / kShardAlign * kShardAlign; }
+
+}  // namespace sheaf

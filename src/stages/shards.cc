@@ -1,0 +1,169 @@
+#include "stages/shards.h"
+
+#include <nlohmann/json.hpp>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
+
+#include <cstdio>
+#include <fstream>
+#include <memory>
+
+#include "report/stats.h"
+#include "shards/shard_writer.h"
+#include "subword/codec.h"
+
+namespace sheaf {
+
+const StageKind& shards_kind() {
+  static const StageKind k{
+      "shards",
+      "token-id shards for training, one set per split, memory-mappable",
+      StageRole::kShards,
+      {
+          {"max_pairs", FieldType::kInt, int64_t{500000}, "pairs per shard at most", 1, 4e9},
+          {"max_bytes", FieldType::kInt, int64_t{0}, "bytes of ids per shard at most (0 = no limit)", 0, 1e15},
+          {"order", FieldType::kChoice, std::string("input"), "input order, or grouped by length within each shard", 0, 0,
+           {"input", "length"}},
+          {"bos", FieldType::kBool, false, "put the begin-of-sequence id before each side"},
+          {"eos", FieldType::kBool, true, "put the end-of-sequence id after each side"},
+      }};
+  return k;
+}
+
+namespace {
+
+using nlohmann::ordered_json;
+
+struct Encoded {
+  std::vector<std::string> lines;
+  std::vector<std::vector<uint32_t>> src, tgt;
+  EncodeStats stats[2];
+};
+
+}  // namespace
+
+Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files, int threads) {
+  const Params& p = spec.params;
+  RunRecord& rec = *in.record;
+  std::vector<Vocabulary> vocabs;
+  for (const auto& f : vocab_files) {
+    auto v = Vocabulary::load(in.dir->file(f));
+    if (!v.ok()) return v.error();
+    vocabs.push_back(std::move(v.value()));
+  }
+  const Vocabulary& vs = vocabs[0];
+  const Vocabulary& vt = vocabs.size() > 1 ? vocabs[1] : vocabs[0];
+  Encoder enc_s(vs), enc_t(vt);
+  ShardSettings set;
+  set.id_width = std::max(vs.size(), vt.size()) <= 65536 ? 2 : 4;
+  set.source_vocab = vs.checksum();
+  set.target_vocab = vt.checksum();
+  set.order = p.text("order") == "length" ? kLengthOrder : kInputOrder;
+  bool bos = p.flag("bos"), eos = p.flag("eos");
+  set.flags = (bos ? uint32_t{kHasBos} : 0u) | (eos ? uint32_t{kHasEos} : 0u);
+  uint64_t max_pairs = static_cast<uint64_t>(p.integer("max_pairs"));
+  uint64_t max_bytes = static_cast<uint64_t>(p.integer("max_bytes"));
+
+  ordered_json section = {{"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")},
+                          {"bos", bos}, {"eos", eos}};
+  ordered_json splits = ordered_json::object();
+  for (const auto& [split, count] : rec.splits) {
+    std::ifstream file(in.dir->file(split + ".tsv"), std::ios::binary);
+    if (!file) return Error(ErrorKind::kIo, "cannot read split text", Location{in.dir->file(split + ".tsv"), 0, 0, {}});
+    ShardWriter writer(set);
+    uint32_t index = 0;
+    Histogram tokens[2];
+    EncodeStats totals[2];
+    Status failed;
+    auto flush = [&]() -> Status {
+      char name[64];
+      std::snprintf(name, sizeof name, "shards/%s.%05u.shard", split.c_str(), index);
+      SHEAF_TRY(in.dir->will_create(name));
+      auto w = writer.write(in.dir->file(name), index);
+      if (!w.ok()) return w.error();
+      rec.outputs.push_back({name, "shard", split, "", w->pairs, w->size, w->checksum});
+      ++index;
+      return {};
+    };
+    bool eof = false;
+    tbb::task_arena arena(threads);
+    try {
+      arena.execute([&] {
+        tbb::parallel_pipeline(
+            static_cast<size_t>(threads) * 4,
+            tbb::make_filter<void, Encoded*>(tbb::filter_mode::serial_in_order,
+                                             [&](tbb::flow_control& fc) -> Encoded* {
+                                               auto* e = new Encoded;
+                                               std::string line;
+                                               while (e->lines.size() < 2048 && std::getline(file, line))
+                                                 e->lines.push_back(std::move(line));
+                                               if (e->lines.empty()) {
+                                                 delete e;
+                                                 eof = true;
+                                                 fc.stop();
+                                                 return nullptr;
+                                               }
+                                               return e;
+                                             }) &
+                tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel,
+                                                     [&](Encoded* e) {
+                                                       e->src.resize(e->lines.size());
+                                                       e->tgt.resize(e->lines.size());
+                                                       for (size_t i = 0; i < e->lines.size(); ++i) {
+                                                         std::string_view l = e->lines[i];
+                                                         size_t tab = l.find('\t');
+                                                         auto& s = e->src[i];
+                                                         auto& t = e->tgt[i];
+                                                         if (bos) s.push_back(vs.special(kBos));
+                                                         enc_s.encode(l.substr(0, tab), s, &e->stats[0]);
+                                                         if (eos) s.push_back(vs.special(kEos));
+                                                         if (bos) t.push_back(vt.special(kBos));
+                                                         enc_t.encode(l.substr(tab + 1), t, &e->stats[1]);
+                                                         if (eos) t.push_back(vt.special(kEos));
+                                                       }
+                                                       return e;
+                                                     }) &
+                tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
+                  std::unique_ptr<Encoded> own(e);
+                  for (int s = 0; s < 2; ++s) {
+                    totals[s].tokens += e->stats[s].tokens;
+                    totals[s].byte_tokens += e->stats[s].byte_tokens;
+                    totals[s].unknown += e->stats[s].unknown;
+                  }
+                  for (size_t i = 0; i < e->src.size(); ++i) {
+                    tokens[0].add(e->src[i].size());
+                    tokens[1].add(e->tgt[i].size());
+                    writer.add(e->src[i], e->tgt[i]);
+                    if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
+                      Status st = flush();
+                      if (!st.ok()) throw ErrorException{st.error()};
+                    }
+                  }
+                }));
+      });
+    } catch (const ErrorException& e) {
+      return e.error;
+    }
+    (void)eof;
+    if (writer.pairs() > 0 || index == 0) SHEAF_TRY(flush());
+    ordered_json sj = ordered_json::object();
+    for (int s = 0; s < 2; ++s) {
+      const EncodeStats& t = totals[s];
+      ordered_json side = ordered_json::parse(distribution_json(tokens[s].summary()));
+      side["byte_tokens"] = t.byte_tokens;
+      side["unknown_tokens"] = t.unknown;
+      side["byte_fallback_rate"] = t.tokens ? static_cast<double>(t.byte_tokens) / static_cast<double>(t.tokens) : 0.0;
+      ordered_json hist = ordered_json::array();
+      for (uint64_t c : tokens[s].counts()) hist.push_back(c);
+      side["histogram"] = hist;
+      sj[s == 0 ? "source" : "target"] = side;
+    }
+    sj["shards"] = index;
+    splits[split] = sj;
+  }
+  section["tokens"] = splits;
+  rec.sections.emplace_back("shards", section.dump());
+  return {};
+}
+
+}  // namespace sheaf
