@@ -4,6 +4,7 @@
 
 #include <csignal>
 #include <filesystem>
+#include <fstream>
 #include <sstream>
 #include <cstdio>
 #include <iostream>
@@ -13,6 +14,7 @@
 #include "subword/codec.h"
 #include "pipeline/runner.h"
 #include "report/run_record.h"
+#include "report/summary.h"
 
 namespace {
 
@@ -25,34 +27,13 @@ int fail(const Error& e) {
 
 void on_signal(int) { interrupt_requested().store(true); }
 
-std::string thousands(uint64_t v) {
-  std::string digits = std::to_string(v), out;
-  for (size_t i = 0; i < digits.size(); ++i) {
-    if (i > 0 && (digits.size() - i) % 3 == 0) out += ',';
-    out += digits[i];
-  }
-  return out;
-}
-
-void print_summary(const RunRecord& r, const std::string& out_dir) {
-  std::printf("sheaf: read %s pairs, kept %s, rejected %s\n", thousands(r.read).c_str(), thousands(r.kept).c_str(),
-              thousands(r.rejected).c_str());
-  std::printf("  %-14s %12s %12s  %s\n", "stage", "in", "dropped", "by reason");
-  for (const auto& s : r.stages) {
-    std::string reasons;
-    for (const auto& [k, v] : s.reasons) reasons += (reasons.empty() ? "" : ", ") + k + " " + thousands(v);
-    std::printf("  %-14s %12s %12s  %s\n", s.name.c_str(), thousands(s.in).c_str(), thousands(s.in - s.out).c_str(),
-                reasons.c_str());
-  }
-  if (!r.splits.empty()) {
-    std::string splits;
-    for (const auto& [k, v] : r.splits) splits += (splits.empty() ? "" : ", ") + k + " " + thousands(v);
-    std::printf("  splits: %s\n", splits.c_str());
-  }
-  for (const auto& o : r.overlaps)
-    if (o.keys != 0) std::printf("  WARNING: %s and %s share %s keys\n", o.a.c_str(), o.b.c_str(), thousands(o.keys).c_str());
-  if (!r.stopped_after.empty()) std::printf("  stopped after stage \"%s\" (--until)\n", r.stopped_after.c_str());
-  std::printf("outputs in %s (run record: %s/manifest.json)\n", out_dir.c_str(), out_dir.c_str());
+void print_summary(const std::string& out_dir) {
+  std::ifstream in(out_dir + "/summary.json");
+  std::stringstream text;
+  text << in.rdbuf();
+  auto s = summary_text(text.str());
+  if (s.ok()) std::cout << *s;
+  std::cout << "outputs in " << out_dir << " (run record: manifest.json, report: report.html)\n";
 }
 
 }  // namespace
@@ -115,6 +96,13 @@ int main(int argc, char** argv) {
   auto* inspect = app.add_subcommand("inspect", "check a shard, or every file of a run, and print what it holds");
   std::string ipath;
   inspect->add_option("path", ipath, "a shard file or a run directory")->required();
+
+  // stats
+  auto* stats = app.add_subcommand("stats", "print the summary of a finished run again");
+  std::string sdir;
+  bool sjson = false;
+  stats->add_option("run_dir", sdir, "a run directory")->required();
+  stats->add_flag("--json", sjson, "print summary.json as it is");
 
   try {
     app.parse(argc, argv);
@@ -198,6 +186,21 @@ int main(int argc, char** argv) {
     }
     return 0;
   }
+  if (stats->parsed()) {
+    std::ifstream in(sdir + "/summary.json");
+    if (!in)
+      return fail(Error(ErrorKind::kInput, "no summary.json: not a finished sheaf run directory", Location{sdir, 0, 0, {}}));
+    std::stringstream text;
+    text << in.rdbuf();
+    if (sjson) {
+      std::cout << text.str();
+      return 0;
+    }
+    auto s = summary_text(text.str());
+    if (!s.ok()) return fail(s.error());
+    std::cout << *s;
+    return 0;
+  }
   if (inspect->parsed()) {
     Status st = std::filesystem::is_directory(ipath) ? inspect_run(ipath, std::cout) : inspect_shard(ipath, std::cout);
     if (!st.ok()) return fail(st.error());
@@ -213,7 +216,7 @@ int main(int argc, char** argv) {
     ro.progress = !quiet && ::isatty(STDERR_FILENO);
     auto rec = run_pipeline(*p, ro);
     if (!rec.ok()) return fail(rec.error());
-    if (!quiet) print_summary(*rec, ro.out_dir.empty() ? p->resolve(p->output_dir) : ro.out_dir);
+    if (!quiet) print_summary(ro.out_dir.empty() ? p->resolve(p->output_dir) : ro.out_dir);
     return 0;
   }
   return 2;

@@ -14,6 +14,7 @@
 #include <thread>
 #include <unordered_set>
 
+#include "core/text.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
 #include "pipeline/run_dir.h"
@@ -31,6 +32,7 @@ std::atomic<bool>& interrupt_requested() {
 namespace {
 
 std::string reason_code(const std::string& reason) { return reason.substr(0, reason.find(':')); }
+constexpr size_t kExamples = 3;
 
 // Progress on standard error, twice a second, while pass 1 runs.
 class Progress {
@@ -104,7 +106,20 @@ class Pass1Writer {
       }
       if (!p.kept()) {
         ++rec_.rejected;
-        rec_.stages[upto].reasons[reason_code(p.reason)]++;
+        std::string code = reason_code(p.reason);
+        rec_.stages[upto].reasons[code]++;
+        auto& ex = rec_.stages[upto].examples[code];
+        if (ex.size() < kExamples) {
+          // The start of the line, made valid UTF-8 for JSON (the exact bytes
+          // are in rejected.tsv).
+          std::string text;
+          repair_utf8(p.raw.substr(0, 160), text);
+          if (aligned_) {
+            text += '\t';
+            repair_utf8(p.raw_target.substr(0, 160), text);
+          }
+          ex.push_back({p.line, p.reason, std::move(text)});
+        }
         write_rejected(p, upto);
         continue;
       }

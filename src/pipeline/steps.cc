@@ -1,5 +1,6 @@
 #include "pipeline/steps.h"
 
+#include "report/summary.h"
 #include "stages/shards.h"
 #include "stages/vocabulary.h"
 
@@ -18,7 +19,7 @@ Status run_steps(const StepInput& in, int threads) {
       SHEAF_TRY(run_shards(in, spec, vocab_files, threads));
     }
   }
-  return {};
+  return write_summary(in, threads);
 }
 
 }  // namespace sheaf

@@ -58,7 +58,7 @@ std::string run_record_json(const RunRecord& r) {
   }
   j["outputs"] = outs;
   for (const auto& [key, value] : r.sections) j[key] = ordered_json::parse(value);
-  return j.dump(2) + "\n";
+  return j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
 }
 
 Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path) {

@@ -20,6 +20,13 @@ struct StageCount {
   std::string kind;
   uint64_t in = 0, out = 0;
   std::map<std::string, uint64_t> reasons;  // reason code (before ':') -> pairs
+  // The first few rejections per reason code: (input line, full reason,
+  // the start of the original line), for the summary.
+  struct Example {
+    uint64_t line;
+    std::string reason, text;
+  };
+  std::map<std::string, std::vector<Example>> examples;
   std::vector<std::pair<std::string, uint64_t>> counters;
 };
 

@@ -3,7 +3,9 @@
 // A shard holds the token ids of some pairs of one split: a 128-byte
 // little-endian header, then per side an offsets array ((pairs + 1) x u64)
 // and a flat id array (u16 or u32), each starting at a multiple of 64 bytes,
-// then the XXH3-64 of everything between the header and itself.
+// then the XXH3-64 of everything between the header and itself. CRC-32s of
+// the header and body let readers with only zlib (Python's standard library)
+// detect damage too.
 #pragma once
 
 #include <cstdint>
@@ -36,9 +38,10 @@ struct ShardHeader {
   uint64_t target_count;
   uint64_t file_size;
   uint32_t shard_index;    // position of this shard within its split
-  uint32_t reserved0;
+  uint32_t body_crc32;     // CRC-32 (zlib) of the body, for readers without XXH3
   uint64_t header_checksum;  // XXH3-64 of bytes 0..111
-  uint64_t reserved1;
+  uint32_t header_crc32;   // CRC-32 (zlib) of bytes 0..111
+  uint32_t reserved;       // zero
 };
 #pragma pack(pop)
 static_assert(sizeof(ShardHeader) == kShardHeaderSize, "shard header is 128 bytes");

@@ -1,6 +1,7 @@
 #include "shards/shard_writer.h"
 
 #include <xxhash.h>
+#include <zlib.h>
 
 #include <algorithm>
 #include <cstring>
@@ -79,7 +80,10 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   put_ids(body, tgt_, order, s_.id_width);
   pad(body);
   h.file_size = body.size() + 8;
+  h.body_crc32 = static_cast<uint32_t>(
+      crc32(0, reinterpret_cast<const Bytef*>(body.data() + kShardHeaderSize), static_cast<uInt>(body.size() - kShardHeaderSize)));
   h.header_checksum = XXH3_64bits(&h, 112);
+  h.header_crc32 = static_cast<uint32_t>(crc32(0, reinterpret_cast<const Bytef*>(&h), 112));
   std::memcpy(body.data(), &h, sizeof h);
   uint64_t sum = XXH3_64bits(body.data() + kShardHeaderSize, body.size() - kShardHeaderSize);
   body.append(reinterpret_cast<const char*>(&sum), 8);

@@ -1,0 +1,285 @@
+#include "report/summary.h"
+
+#include <nlohmann/json.hpp>
+#include <oneapi/tbb/enumerable_thread_specific.h>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
+#include <unicode/utf8.h>
+
+#include <cstdio>
+#include <fstream>
+#include <sstream>
+
+#include "core/text.h"
+#include "io/output_file.h"
+#include "report/html_report.h"
+#include "report/stats.h"
+#include "subword/vocabulary.h"
+
+namespace sheaf {
+
+namespace {
+
+using nlohmann::ordered_json;
+
+// Fixed bins of the histograms in summary.json: (width, number of bins; the
+// last bin also holds everything above).
+constexpr uint64_t kCharBin = 10, kWordBin = 2, kTokenBin = 4, kRatioBin = 10;
+constexpr size_t kBins = 50;
+
+struct SideStats {
+  Histogram chars, words;
+  uint64_t covered = 0, letters = 0;  // character occurrences in the alphabet, all
+};
+struct SplitStats {
+  SideStats side[2];
+  Histogram ratio;  // 100 x source chars / target chars
+  void merge(const SplitStats& o) {
+    for (int s = 0; s < 2; ++s) {
+      side[s].chars.merge(o.side[s].chars);
+      side[s].words.merge(o.side[s].words);
+      side[s].covered += o.side[s].covered;
+      side[s].letters += o.side[s].letters;
+    }
+    ratio.merge(o.ratio);
+  }
+};
+
+void count_coverage(std::string_view s, const Vocabulary* v, SideStats& st) {
+  if (v == nullptr) return;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  int32_t n = static_cast<int32_t>(s.size()), i = 0;
+  while (i < n) {
+    int32_t at = i;
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    ++st.letters;
+    st.covered += v->char_id(s.substr(static_cast<size_t>(at), static_cast<size_t>(i - at))) >= 0;
+  }
+}
+
+Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int threads) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return Error(ErrorKind::kIo, "cannot read split text", Location{path, 0, 0, {}});
+  tbb::enumerable_thread_specific<SplitStats> local;
+  tbb::task_arena arena(threads);
+  arena.execute([&] {
+    tbb::parallel_pipeline(
+        static_cast<size_t>(threads) * 4,
+        tbb::make_filter<void, std::vector<std::string>*>(tbb::filter_mode::serial_in_order,
+                                                          [&](tbb::flow_control& fc) -> std::vector<std::string>* {
+                                                            auto* b = new std::vector<std::string>;
+                                                            std::string line;
+                                                            while (b->size() < 4096 && std::getline(in, line))
+                                                              b->push_back(std::move(line));
+                                                            if (b->empty()) {
+                                                              delete b;
+                                                              fc.stop();
+                                                              return nullptr;
+                                                            }
+                                                            return b;
+                                                          }) &
+            tbb::make_filter<std::vector<std::string>*, void>(tbb::filter_mode::parallel, [&](std::vector<std::string>* b) {
+              SplitStats& st = local.local();
+              for (const auto& line : *b) {
+                size_t tab = line.find('\t');
+                std::string_view side[2] = {std::string_view(line).substr(0, tab),
+                                            tab == std::string::npos ? std::string_view{} : std::string_view(line).substr(tab + 1)};
+                uint64_t chars[2];
+                for (int s = 0; s < 2; ++s) {
+                  chars[s] = count_code_points(side[s]);
+                  st.side[s].chars.add(chars[s]);
+                  st.side[s].words.add(count_words(side[s]));
+                  count_coverage(side[s], vocab[s], st.side[s]);
+                }
+                if (chars[1] > 0) st.ratio.add(chars[0] * 100 / chars[1]);
+              }
+              delete b;
+            }));
+  });
+  SplitStats total;
+  for (const auto& l : local) total.merge(l);
+  return total;
+}
+
+ordered_json hist_json(const Histogram& h, uint64_t width, double scale = 1.0) {
+  ordered_json j = ordered_json::parse(distribution_json(h.summary()));
+  if (scale != 1.0) {
+    for (const char* k : {"mean", "min", "p50", "p90", "p95", "p99", "max"}) j[k] = j[k].get<double>() / scale;
+    j.erase("sum");
+  }
+  ordered_json bins = ordered_json::array();
+  for (uint64_t c : h.bins(width, kBins)) bins.push_back(c);
+  j["bin_width"] = static_cast<double>(width) / scale;
+  j["bins"] = bins;
+  return j;
+}
+
+}  // namespace
+
+Status write_summary(const StepInput& in, int threads) {
+  RunRecord& rec = *in.record;
+  ordered_json sections = ordered_json::object();
+  for (const auto& [k, v] : rec.sections) sections[k] = ordered_json::parse(v);
+
+  // Vocabularies for alphabet coverage, if this run learned any.
+  std::vector<Vocabulary> vocabs;
+  std::vector<std::string> vsides;
+  for (const auto& o : rec.outputs) {
+    if (o.kind != "vocabulary") continue;
+    auto v = Vocabulary::load(in.dir->file(o.path));
+    if (!v.ok()) return v.error();
+    vocabs.push_back(std::move(v.value()));
+    vsides.push_back(o.side);
+  }
+  const Vocabulary* per_side[2] = {nullptr, nullptr};
+  for (size_t i = 0; i < vocabs.size(); ++i) {
+    if (vsides[i] == "shared" || vsides[i] == "source") per_side[0] = &vocabs[i];
+    if (vsides[i] == "shared" || vsides[i] == "target") per_side[1] = &vocabs[i];
+  }
+
+  ordered_json j;
+  j["format"] = "sheaf-summary";
+  j["format_version"] = kSummaryFormat;
+  j["counts"] = {{"read", rec.read}, {"kept", rec.kept}, {"rejected", rec.rejected}};
+  ordered_json funnel = ordered_json::array();
+  for (const auto& s : rec.stages) {
+    ordered_json f = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};
+    ordered_json reasons = ordered_json::object(), examples = ordered_json::object();
+    for (const auto& [k, v] : s.reasons) reasons[k] = v;
+    for (const auto& [k, list] : s.examples) {
+      ordered_json a = ordered_json::array();
+      for (const auto& e : list) a.push_back({{"line", e.line}, {"reason", e.reason}, {"text", e.text}});
+      examples[k] = a;
+    }
+    f["rejected"] = reasons;
+    f["examples"] = examples;
+    funnel.push_back(f);
+  }
+  j["funnel"] = funnel;
+
+  ordered_json splits = ordered_json::object();
+  ordered_json coverage = ordered_json::object();
+  for (const auto& [name, pairs] : rec.splits) {
+    auto st = scan(in.dir->file(name + ".tsv"), per_side, threads);
+    if (!st.ok()) return st.error();
+    ordered_json sj = {{"pairs", pairs}};
+    for (int s = 0; s < 2; ++s) {
+      const char* side = s ? "target" : "source";
+      ordered_json side_j = {{"chars", hist_json(st->side[s].chars, kCharBin)},
+                             {"words", hist_json(st->side[s].words, kWordBin)}};
+      if (sections.contains("shards") && sections["shards"]["tokens"].contains(name)) {
+        const auto& t = sections["shards"]["tokens"][name][side];
+        Histogram h;
+        const auto& counts = t["histogram"];
+        for (size_t v = 0; v < counts.size(); ++v) h.add(v, counts[v].get<uint64_t>());
+        ordered_json tj = hist_json(h, kTokenBin);
+        tj["byte_fallback_rate"] = t["byte_fallback_rate"];
+        tj["unknown_tokens"] = t["unknown_tokens"];
+        uint64_t words = st->side[s].words.sum();
+        tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;
+        side_j["tokens"] = tj;
+      }
+      sj[side] = side_j;
+      if (per_side[s] && name != "train" && st->side[s].letters > 0)
+        coverage[name][side] = static_cast<double>(st->side[s].covered) / static_cast<double>(st->side[s].letters);
+    }
+    sj["length_ratio"] = hist_json(st->ratio, kRatioBin, 100.0);
+    splits[name] = sj;
+  }
+  j["splits"] = splits;
+  ordered_json ov = ordered_json::array();
+  for (const auto& o : rec.overlaps) ov.push_back({{"split", o.a}, {"other", o.b}, {"shared_keys", o.keys}});
+  j["split_overlap"] = ov;
+  if (sections.contains("vocabulary")) {
+    ordered_json v = sections["vocabulary"];
+    v["alphabet_coverage_of_other_splits"] = coverage;
+    if (sections.contains("shards") && sections["shards"].contains("unused_in_train"))
+      v["unused_in_train"] = sections["shards"]["unused_in_train"];
+    j["vocabulary"] = v;
+  }
+  if (!rec.stopped_after.empty()) j["stopped_after"] = rec.stopped_after;
+
+  std::string text = j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
+  SHEAF_TRY(in.dir->will_create("summary.json"));
+  OutputFile f;
+  SHEAF_TRY(f.open(in.dir->file("summary.json")));
+  f.write(text);
+  SHEAF_TRY(f.commit());
+  rec.outputs.push_back({"summary.json", "summary", "", "", 1, f.size(), f.checksum()});
+
+  std::string html = render_report(text);
+  SHEAF_TRY(in.dir->will_create("report.html"));
+  OutputFile h;
+  SHEAF_TRY(h.open(in.dir->file("report.html")));
+  h.write(html);
+  SHEAF_TRY(h.commit());
+  rec.outputs.push_back({"report.html", "report", "", "", 1, h.size(), h.checksum()});
+  return {};
+}
+
+Result<std::string> summary_text(const std::string& summary_json) {
+  auto j = ordered_json::parse(summary_json, nullptr, false);
+  if (j.is_discarded() || j.value("format", "") != "sheaf-summary")
+    return Error(ErrorKind::kInput, "not a sheaf summary.json");
+  std::ostringstream o;
+  char buf[256];
+  auto num = [&](uint64_t v) {
+    std::string d = std::to_string(v), out;
+    for (size_t i = 0; i < d.size(); ++i) {
+      if (i > 0 && (d.size() - i) % 3 == 0) out += ',';
+      out += d[i];
+    }
+    return out;
+  };
+  o << "pairs read " << num(j["counts"]["read"]) << ", kept " << num(j["counts"]["kept"]) << ", rejected "
+    << num(j["counts"]["rejected"]) << "\n";
+  std::snprintf(buf, sizeof buf, "  %-14s %12s %12s  %s\n", "stage", "in", "dropped", "by reason");
+  o << buf;
+  for (const auto& s : j["funnel"]) {
+    std::string reasons;
+    for (auto& [k, v] : s["rejected"].items()) reasons += (reasons.empty() ? "" : ", ") + k + " " + num(v);
+    std::snprintf(buf, sizeof buf, "  %-14s %12s %12s  ", s["name"].get<std::string>().c_str(), num(s["in"]).c_str(),
+                  num(s["in"].get<uint64_t>() - s["out"].get<uint64_t>()).c_str());
+    o << buf << reasons << "\n";
+  }
+  o << "  split          pairs   source chars/words/tokens (mean, p99)   target chars/words/tokens (mean, p99)\n";
+  for (auto& [name, s] : j["splits"].items()) {
+    std::snprintf(buf, sizeof buf, "  %-8s %11s", name.c_str(), num(s["pairs"]).c_str());
+    o << buf;
+    for (const char* side : {"source", "target"}) {
+      const auto& x = s[side];
+      std::string t = x.contains("tokens") ? std::to_string(static_cast<int>(x["tokens"]["mean"].get<double>() + 0.5)) + "/" +
+                                                 std::to_string(x["tokens"]["p99"].get<uint64_t>())
+                                           : "-";
+      std::snprintf(buf, sizeof buf, "   %5.0f/%-4llu %4.0f/%-4llu %9s", x["chars"]["mean"].get<double>(),
+                    static_cast<unsigned long long>(x["chars"]["p99"].get<uint64_t>()), x["words"]["mean"].get<double>(),
+                    static_cast<unsigned long long>(x["words"]["p99"].get<uint64_t>()), t.c_str());
+      o << buf;
+    }
+    o << "\n";
+  }
+  bool leak = false;
+  for (const auto& ov : j["split_overlap"]) leak |= ov["shared_keys"].get<uint64_t>() != 0;
+  if (!j["split_overlap"].empty()) o << "  split overlap: " << (leak ? "NOT ZERO (see summary.json)" : "none") << "\n";
+  if (j.contains("vocabulary")) {
+    for (const auto& v : j["vocabulary"]["vocabularies"]) {
+      o << "  vocabulary " << v["side"].get<std::string>() << ": " << num(v["size"]) << " tokens (" << num(v["alphabet"])
+        << " characters, " << num(v["merges"]) << " merges" << (v["stopped_early"].get<bool>() ? ", stopped early: no pair left with min_count" : "")
+        << ")\n";
+      for (auto& [side, rows] : v["sweep"].items()) {
+        o << "    sweep on " << j["vocabulary"]["sweep_split"].get<std::string>() << " (" << side << "):";
+        for (const auto& r : rows) {
+          std::snprintf(buf, sizeof buf, "  %llu: %.1f tok, p99 %llu", static_cast<unsigned long long>(r["size"].get<uint64_t>()),
+                        r["mean_tokens"].get<double>(), static_cast<unsigned long long>(r["p99_tokens"].get<uint64_t>()));
+          o << buf;
+        }
+        o << "\n";
+      }
+    }
+  }
+  if (j.contains("stopped_after")) o << "  stopped after stage \"" << j["stopped_after"].get<std::string>() << "\" (--until)\n";
+  return o.str();
+}
+
+}  // namespace sheaf

@@ -1,0 +1,27 @@
+// Summary: the statistics of a run, written as summary.json and report.html
+// at the end of every run (docs/outputs.md specifies both).
+//
+// One parallel pass over each split's text gives characters (code points),
+// words (UAX #29) and the source/target length ratio per pair, as exact
+// histograms; the token figures come from the shards step when it ran. The
+// funnel, examples of rejections, the vocabulary and its size sweep, and the
+// split overlap come from the run record.
+#pragma once
+
+#include <string>
+
+#include "pipeline/steps.h"
+
+namespace sheaf {
+
+inline constexpr int kSummaryFormat = 1;
+
+// Computes the summary, writes summary.json and report.html, lists both in
+// the run record.
+Status write_summary(const StepInput& in, int threads);
+
+// The compact text summary `sheaf run` prints at its end and `sheaf stats`
+// prints again, from summary.json's content.
+Result<std::string> summary_text(const std::string& summary_json);
+
+}  // namespace sheaf

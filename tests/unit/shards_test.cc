@@ -1,0 +1,231 @@
+// Shards, the summary and the report, read back by every reader we have.
+#include <gtest/gtest.h>
+
+#include <nlohmann/json.hpp>
+
+#include <fstream>
+
+#include "report/stats.h"
+#include "shards/shard_reader.h"
+#include "test_util.h"
+
+namespace sheaf {
+namespace {
+
+using nlohmann::json;
+
+// One demo run shared by the tests of this file (they only read it).
+class DemoRun : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    dir_ = new test::TempDir;
+    auto r = test::run_sheaf("run " + test::source_dir() + "/pipelines/demo.toml --quiet --out " + (*dir_ / "run"));
+    ASSERT_EQ(r.status, 0) << r.err;
+    manifest_ = new json(json::parse(test::read_file(*dir_ / "run/manifest.json")));
+  }
+  static void TearDownTestSuite() {
+    delete manifest_;
+    delete dir_;
+  }
+  static std::string run(const std::string& rel = "") { return *dir_ / ("run/" + rel); }
+  static std::vector<std::string> shards_of(const std::string& split) {
+    std::vector<std::string> out;
+    for (const auto& o : (*manifest_)["outputs"])
+      if (o["kind"] == "shard" && o["split"] == split) out.push_back(o["path"]);
+    return out;
+  }
+  static test::TempDir* dir_;
+  static json* manifest_;
+};
+test::TempDir* DemoRun::dir_ = nullptr;
+json* DemoRun::manifest_ = nullptr;
+
+TEST_F(DemoRun, DecodingTheShardsGivesEachSplitFileBack) {
+  for (const char* split : {"train", "dev", "test"}) {
+    auto shards = shards_of(split);
+    ASSERT_FALSE(shards.empty()) << split;
+    std::string all;
+    for (const auto& s : shards) {
+      auto r = test::run_sheaf("decode " + run(s));
+      ASSERT_EQ(r.status, 0) << r.err;
+      all += r.out;
+    }
+    EXPECT_EQ(all, test::read_file(run(std::string(split) + ".tsv"))) << split;
+  }
+  EXPECT_GT(shards_of("train").size(), 1u);  // max_pairs = 500 in the demo
+}
+
+TEST_F(DemoRun, ShardHeadersAreConsistent) {
+  uint64_t pairs = 0;
+  for (const auto& s : shards_of("train")) {
+    auto r = ShardReader::open(run(s));
+    ASSERT_TRUE(r.ok()) << r.error().describe();
+    const ShardHeader& h = r->header();
+    EXPECT_EQ(h.id_width, 2u);
+    EXPECT_EQ(h.source_offsets % 64, 0u);
+    EXPECT_EQ(h.source_ids % 64, 0u);
+    EXPECT_EQ(h.target_offsets % 64, 0u);
+    EXPECT_EQ(h.target_ids % 64, 0u);
+    EXPECT_EQ(h.flags, uint32_t{kHasEos});
+    EXPECT_LT(r->max_id(0), 1200u);
+    std::vector<uint32_t> ids;
+    r->ids(0, 1, ids);
+    ASSERT_FALSE(ids.empty());
+    EXPECT_EQ(ids.back(), 3u);  // end-of-sequence id
+    pairs += h.pairs;
+  }
+  EXPECT_EQ(pairs, (*manifest_)["splits"]["train"].get<uint64_t>());
+}
+
+TEST_F(DemoRun, InspectVerifiesAShardAndAWholeRun) {
+  auto one = test::run_sheaf("inspect " + run(shards_of("dev")[0]));
+  EXPECT_EQ(one.status, 0) << one.err;
+  EXPECT_NE(one.out.find("checksums verified"), std::string::npos);
+  auto all = test::run_sheaf("inspect " + run());
+  EXPECT_EQ(all.status, 0) << all.err;
+  EXPECT_EQ(all.out.find("PROBLEM"), std::string::npos) << all.out;
+}
+
+TEST_F(DemoRun, FlippedBytesAndTruncationAreDetected) {
+  std::string good = test::read_file(run(shards_of("dev")[0]));
+  test::TempDir t;
+  // A flipped byte in the header, the offsets, the ids, the padding and the
+  // final checksum; and truncations.
+  for (size_t at : {size_t{20}, size_t{130}, good.size() / 2, good.size() - 9, good.size() - 1}) {
+    std::string bad = good;
+    bad[at] ^= 0x10;
+    test::write_file(t / "bad.shard", bad);
+    EXPECT_FALSE(ShardReader::open(t / "bad.shard").ok()) << "byte " << at;
+    auto r = test::run_sheaf("inspect " + (t / "bad.shard"));
+    EXPECT_EQ(r.status, 1) << "byte " << at;
+    EXPECT_NE(r.out.find("DAMAGED"), std::string::npos) << r.out;
+  }
+  for (size_t n : {size_t{0}, size_t{100}, size_t{200}, good.size() - 8, good.size() - 1}) {
+    test::write_file(t / "short.shard", good.substr(0, n));
+    EXPECT_FALSE(ShardReader::open(t / "short.shard").ok()) << n;
+  }
+}
+
+TEST_F(DemoRun, InspectRunReportsAChangedFile) {
+  test::TempDir t;
+  std::filesystem::copy(run(), t / "copy", std::filesystem::copy_options::recursive);
+  test::write_file(t / "copy/dev.tsv", "changed\tcambiado\n");
+  auto r = test::run_sheaf("inspect " + (t / "copy"));
+  EXPECT_EQ(r.status, 1);
+  EXPECT_NE(r.out.find("PROBLEM  dev.tsv"), std::string::npos) << r.out;
+}
+
+TEST_F(DemoRun, DecodeRefusesTheWrongVocabulary) {
+  test::TempDir t;
+  test::write_file(t / "other.tsv", "one\tuno\ntwo\tdos\n");
+  test::write_file(t / "p.toml", test::pipeline_text("files = [\"other.tsv\"]\nsource_lang = \"en\"\ntarget_lang = \"es\"",
+                                                     "[[stage]]\nkind = \"vocabulary\"\nsize = 300\nsweep = []\n"));
+  ASSERT_EQ(test::run_sheaf("run " + (t / "p.toml") + " --quiet").status, 0);
+  auto r = test::run_sheaf("decode " + run(shards_of("dev")[0]) + " --vocab " + (t / "out/vocab.shared.txt"));
+  EXPECT_EQ(r.status, 1);
+  EXPECT_NE(r.err.find("no vocabulary matches"), std::string::npos) << r.err;
+}
+
+TEST_F(DemoRun, PythonReaderMatchesTheDecoder) {
+  std::string script = test::source_dir() + "/tests/unit/read_shard.py";
+  std::string vocab = run("vocab.shared.txt");
+  for (const auto& s : shards_of("train")) {
+    auto py = test::run_shell("/usr/bin/python3 " + script + " " + run(s) + " " + vocab);
+    ASSERT_EQ(py.status, 0) << py.err;
+    auto cpp = test::run_sheaf("decode " + run(s));
+    EXPECT_EQ(py.out, cpp.out) << s;
+  }
+  std::string good = test::read_file(run(shards_of("dev")[0]));
+  test::TempDir t;
+  for (size_t at : {size_t{20}, good.size() / 2}) {
+    std::string bad = good;
+    bad[at] ^= 0x01;
+    test::write_file(t / "bad.shard", bad);
+    auto py = test::run_shell("/usr/bin/python3 " + script + " " + (t / "bad.shard") + " " + vocab);
+    EXPECT_EQ(py.status, 3) << "byte " << at << ": " << py.err;
+  }
+  test::write_file(t / "short.shard", good.substr(0, good.size() - 100));
+  EXPECT_EQ(test::run_shell("/usr/bin/python3 " + script + " " + (t / "short.shard") + " " + vocab).status, 3);
+}
+
+// Source of truth for the statistics: wc -l, wc -w and the file size.
+TEST_F(DemoRun, SummaryAgreesWithWcAndFileSizes) {
+  json s = json::parse(test::read_file(run("summary.json")));
+  EXPECT_EQ(s["format"], "sheaf-summary");
+  for (const char* split : {"train", "dev", "test"}) {
+    std::string file = run(std::string(split) + ".tsv");
+    auto wc_l = test::run_shell("wc -l < " + file);
+    EXPECT_EQ(std::stoull(wc_l.out), s["splits"][split]["pairs"].get<uint64_t>()) << split;
+    // Space-separated words of each side (wc -w) against the summary's word
+    // count is not the same definition (UAX #29 skips punctuation), so the
+    // character count is checked exactly and words against wc within reason.
+    uint64_t bytes = test::read_file(file).size();
+    uint64_t chars = 0;
+    for (const char* side : {"source", "target"}) chars += s["splits"][split][side]["chars"]["sum"].get<uint64_t>();
+    auto wc_m = test::run_shell("LC_ALL=C.UTF-8 wc -m < " + file);
+    uint64_t lines = s["splits"][split]["pairs"].get<uint64_t>();
+    EXPECT_EQ(chars + 2 * lines, std::stoull(wc_m.out)) << split;  // + a tab and a newline per line
+    EXPECT_LE(chars, bytes);
+    auto wc_w = test::run_shell("cut -f1 " + file + " | wc -w");
+    uint64_t words = s["splits"][split]["source"]["words"]["sum"].get<uint64_t>();
+    EXPECT_NEAR(static_cast<double>(words), static_cast<double>(std::stoull(wc_w.out)), 0.05 * static_cast<double>(words)) << split;
+  }
+  EXPECT_EQ(s["funnel"].front()["in"], (*manifest_)["counts"]["read"]);
+  // Examples of rejections are kept per reason.
+  bool found = false;
+  for (const auto& st : s["funnel"])
+    if (st["name"] == "dedup") found = st["examples"]["duplicate"].size() == 3;
+  EXPECT_TRUE(found);
+  ASSERT_TRUE(s.contains("vocabulary"));
+  EXPECT_EQ(s["vocabulary"]["vocabularies"][0]["sweep"]["source"].size(), 4u);
+  EXPECT_TRUE(s["vocabulary"]["alphabet_coverage_of_other_splits"].contains("dev"));
+}
+
+TEST_F(DemoRun, StatsPrintsTheSummaryAgain) {
+  auto r = test::run_sheaf("stats " + run());
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_NE(r.out.find("pairs read 2,254"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("split overlap: none"), std::string::npos);
+  auto j = test::run_sheaf("stats --json " + run());
+  EXPECT_EQ(j.out, test::read_file(run("summary.json")));
+  EXPECT_EQ(test::run_sheaf("stats /nonexistent").status, 1);
+}
+
+// Chromium renders report.html (a page with its SVG charts), when installed.
+TEST_F(DemoRun, ReportRendersInHeadlessChromium) {
+  std::string html = test::read_file(run("report.html"));
+  EXPECT_NE(html.find("<svg"), std::string::npos);
+  EXPECT_EQ(html.find("<script"), std::string::npos);
+  EXPECT_EQ(html.find("http://"), std::string::npos);
+  if (!std::filesystem::exists("/usr/bin/chromium"))
+    GTEST_SKIP() << "Chromium is not installed (Debian package chromium; scripts/install-deps build test installs it)";
+  test::TempDir t;
+  auto r = test::run_shell(
+      "timeout 120 /usr/bin/chromium --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+      "--disable-background-networking --disable-component-update --disable-sync --user-data-dir=" + (t / "profile") +
+      " --dump-dom file://" + run("report.html"));
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_NE(r.out.find("sheaf run report"), std::string::npos);
+  EXPECT_NE(r.out.find("<polyline"), std::string::npos);  // the sweep chart survived parsing
+}
+
+TEST(Stats, NearestRankPercentilesOnHandComputedCases) {
+  // Nearest rank: the value at rank ceil(p/100 * N).
+  std::vector<uint64_t> v = {15, 20, 35, 40, 50};
+  EXPECT_EQ(nearest_rank(v, 5), 15u);    // ceil(0.25) = 1
+  EXPECT_EQ(nearest_rank(v, 30), 20u);   // ceil(1.5) = 2
+  EXPECT_EQ(nearest_rank(v, 40), 20u);   // ceil(2.0) = 2
+  EXPECT_EQ(nearest_rank(v, 50), 35u);   // ceil(2.5) = 3
+  EXPECT_EQ(nearest_rank(v, 100), 50u);
+  Histogram h;
+  for (uint64_t x : v) h.add(x);
+  Distribution d = h.summary();
+  EXPECT_EQ(d.p50, 35u);
+  EXPECT_EQ(d.p90, 50u);  // ceil(4.5) = 5
+  EXPECT_EQ(d.min, 15u);
+  EXPECT_DOUBLE_EQ(d.mean, 32.0);
+  EXPECT_EQ(h.bins(20, 3), (std::vector<uint64_t>{1, 2, 2}));  // [0,20) [20,40) [40,...)
+}
+
+}  // namespace
+}  // namespace sheaf
