@@ -1,12 +1,14 @@
 #include "core/text.h"
 
 #include <unicode/brkiter.h>
+#include <unicode/uchar.h>
 #include <unicode/utext.h>
 #include <unicode/utf8.h>
 
 #include <cstring>
 #include <memory>
 #include <stdexcept>
+#include <vector>
 
 namespace sheaf {
 
@@ -77,9 +79,105 @@ icu::BreakIterator& word_iterator() {
   return *mine;
 }
 
-}  // namespace
+// A fast path for the word rules. Text made only of characters whose word
+// boundaries follow from a few classes (letters of alphabetic scripts,
+// digits, spaces, the mid-word punctuation of UAX #29, other punctuation and
+// symbols) is segmented here, by rules WB3d, WB5-WB13b and WB999 as ICU's
+// root rules apply them; any other character (marks, ideographs, kana,
+// scripts cut by dictionary, Hebrew, regional indicators, controls, ...)
+// sends the whole text to ICU. tests/unit/text_reference_test.cc compares the
+// two on generated text and on WordBreakTest.txt.
+enum Wc : uint8_t { kOther = 0, kLetter, kDigit, kSpace, kMidLetter, kMidNumLet, kMidNum, kExtendNumLet, kPunct };
 
-void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
+const uint8_t* word_classes() {
+  static const std::vector<uint8_t> table = [] {
+    std::vector<uint8_t> t(0x10000, kOther);
+    for (UChar32 c = 0x20; c < 0x10000; ++c) {
+      if (c >= 0xD800 && c <= 0xDFFF) continue;
+      int32_t wb = u_getIntPropertyValue(c, UCHAR_WORD_BREAK);
+      uint32_t gc = U_GET_GC_MASK(c);
+      uint8_t k = kOther;
+      if (c == ' ') k = kSpace;
+      else if (wb == U_WB_ALETTER || c == '@') k = kLetter;  // ICU's root rules count '@' as a letter
+      else if (wb == U_WB_NUMERIC) k = kDigit;
+      else if (wb == U_WB_MIDLETTER) k = (c == 0x3A || c == 0xFE55 || c == 0xFF1A || c == 0xFE13) ? kPunct : kMidLetter;
+      else if (wb == U_WB_MIDNUMLET || wb == U_WB_SINGLE_QUOTE) k = kMidNumLet;
+      else if (wb == U_WB_MIDNUM) k = kMidNum;
+      else if (wb == U_WB_EXTENDNUMLET) k = kExtendNumLet;
+      else if (wb == U_WB_OTHER && (gc & (U_GC_P_MASK | U_GC_S_MASK)) && !u_hasBinaryProperty(c, UCHAR_EXTENDED_PICTOGRAPHIC) &&
+               !u_hasBinaryProperty(c, UCHAR_IDEOGRAPHIC))
+        k = kPunct;
+      t[static_cast<size_t>(c)] = k;
+    }
+    return t;
+  }();
+  return table.data();
+}
+
+// Classes of every code point of `s` with their byte offsets; false if a
+// character needs ICU.
+bool classify_simple(std::string_view s, std::vector<std::pair<uint32_t, uint8_t>>& out) {
+  const uint8_t* table = word_classes();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  int32_t n = static_cast<int32_t>(s.size()), i = 0;
+  out.clear();
+  while (i < n) {
+    int32_t at = i;
+    UChar32 c;
+    if (p[i] < 0x80) {
+      c = p[i++];
+    } else {
+      U8_NEXT(p, i, n, c);
+      if (c < 0 || c > 0xFFFF) return false;
+    }
+    uint8_t k = table[c];
+    if (k == kOther) return false;
+    out.emplace_back(static_cast<uint32_t>(at), k);
+  }
+  return true;
+}
+
+// Segments classified text; fn(begin, end, is_word).
+template <typename Fn>
+void segment_simple(std::string_view s, const std::vector<std::pair<uint32_t, uint8_t>>& cls, Fn&& fn) {
+  size_t n = cls.size();
+  auto off = [&](size_t k) { return k < n ? static_cast<size_t>(cls[k].first) : s.size(); };
+  size_t k = 0;
+  while (k < n) {
+    uint8_t c = cls[k].second;
+    size_t start = k;
+    if (c == kSpace) {
+      while (k < n && cls[k].second == kSpace) ++k;
+      fn(off(start), off(k), false);
+      continue;
+    }
+    if (c == kLetter || c == kDigit || c == kExtendNumLet) {
+      bool word = true;
+      ++k;
+      while (k < n) {
+        uint8_t prev = cls[k - 1].second, cur = cls[k].second;
+        uint8_t next = k + 1 < n ? cls[k + 1].second : uint8_t{kOther};
+        if (cur == kLetter || cur == kDigit || cur == kExtendNumLet) {
+          ++k;
+        } else if ((cur == kMidLetter || cur == kMidNumLet) && prev == kLetter && next == kLetter) {
+          k += 2;
+        } else if ((cur == kMidNum || cur == kMidNumLet) && prev == kDigit && next == kDigit) {
+          k += 2;
+        } else {
+          break;
+        }
+      }
+      // ICU gives a run of '_' a word status only when it is longer than one.
+      if (c == kExtendNumLet && k - start == 1) word = false;
+      fn(off(start), off(k), word);
+      continue;
+    }
+    ++k;
+    fn(off(start), off(k), false);
+  }
+}
+
+void cut_words_icu(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
   if (s.empty()) return;
   UErrorCode st = U_ZERO_ERROR;
   UText ut = UTEXT_INITIALIZER;
@@ -93,9 +191,83 @@ void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool
   utext_close(&ut);
 }
 
+thread_local std::vector<std::pair<uint32_t, uint8_t>> t_classes;
+
+}  // namespace
+
+void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
+  if (classify_simple(s, t_classes)) {
+    segment_simple(s, t_classes, fn);
+    return;
+  }
+  cut_words_icu(s, fn);
+}
+
+void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) { cut_words_icu(s, fn); }
+
+namespace {
+
+// The class of the code point at p[i], advancing i; kOther for anything the
+// fast path leaves to ICU (including ill-formed UTF-8 and supplementary
+// planes).
+inline uint8_t class_at(const uint8_t* table, const uint8_t* p, int32_t n, int32_t& i) {
+  UChar32 c;
+  if (p[i] < 0x80) {
+    c = p[i++];
+  } else {
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || c > 0xFFFF) return kOther;
+  }
+  return table[c];
+}
+
+// Counts words in one pass without storing classes; false if the text needs
+// ICU. Same rules as segment_simple.
+bool count_words_fast(std::string_view s, size_t& count) {
+  const uint8_t* table = word_classes();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  int32_t n = static_cast<int32_t>(s.size()), i = 0;
+  count = 0;
+  while (i < n) {
+    uint8_t c = class_at(table, p, n, i);
+    if (c == kOther) return false;
+    if (c != kLetter && c != kDigit && c != kExtendNumLet) continue;
+    uint8_t first = c, prev = c;
+    size_t run = 1;
+    while (i < n) {
+      int32_t j = i;
+      uint8_t d = class_at(table, p, n, j);
+      if (d == kLetter || d == kDigit || d == kExtendNumLet) {
+        i = j;
+        prev = d;
+        ++run;
+        continue;
+      }
+      bool mid_letter = (d == kMidLetter || d == kMidNumLet) && prev == kLetter;
+      bool mid_num = (d == kMidNum || d == kMidNumLet) && prev == kDigit;
+      if (!(mid_letter || mid_num) || j >= n) break;
+      int32_t k = j;
+      uint8_t e = class_at(table, p, n, k);
+      if ((mid_letter && e == kLetter) || (mid_num && e == kDigit)) {
+        i = k;
+        prev = e;
+        run += 2;
+        continue;
+      }
+      break;
+    }
+    count += !(first == kExtendNumLet && run == 1);
+  }
+  return true;
+}
+
+}  // namespace
+
 size_t count_words(std::string_view s) {
   size_t n = 0;
-  cut_words(s, [&](size_t, size_t, bool w) { n += w; });
+  if (count_words_fast(s, n)) return n;
+  n = 0;
+  cut_words_icu(s, [&](size_t, size_t, bool w) { n += w; });
   return n;
 }
 

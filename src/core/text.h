@@ -31,6 +31,8 @@ size_t count_code_points(std::string_view s);
 // "word" when ICU's rule status is a number, letter, kana or ideograph.
 void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn);
 size_t count_words(std::string_view s);
+// ICU alone, without the fast path for simple text (for tests).
+void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn);
 // Length in code points of the longest word segment.
 size_t longest_word(std::string_view s);
 

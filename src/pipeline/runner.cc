@@ -34,6 +34,13 @@ namespace {
 std::string reason_code(const std::string& reason) { return reason.substr(0, reason.find(':')); }
 constexpr size_t kExamples = 3;
 
+// True when `s` holds a tab, CR or LF (which would break a TSV row).
+bool has_tsv_breaker(std::string_view s) {
+  for (char c : s)
+    if (static_cast<unsigned char>(c) <= '\r' && (c == '\t' || c == '\n' || c == '\r')) return true;
+  return false;
+}
+
 // Progress on standard error, twice a second, while pass 1 runs.
 class Progress {
  public:
@@ -402,7 +409,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     for (Pair& pr : b->pairs) {
       if (!pr.kept()) continue;
       for (int side = 0; side < 2 && pr.kept(); ++side)
-        if (pr.text[side].find_first_of("\t\r\n") != std::string_view::npos)
+        if (has_tsv_breaker(pr.text[side]))
           b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
     }
     writer.take(*b);

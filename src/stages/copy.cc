@@ -10,41 +10,81 @@ namespace sheaf {
 
 namespace {
 
-std::vector<uint64_t> trigrams(std::string_view s) {
-  std::vector<UChar32> cps;
+// Lowercased code points of `s` into `out` (reused, so no allocation per pair).
+void code_points(std::string_view s, std::vector<UChar32>& out) {
+  out.clear();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   int32_t n = static_cast<int32_t>(s.size()), i = 0;
   while (i < n) {
+    if (p[i] < 0x80) {
+      unsigned char c = p[i++];
+      out.push_back(c >= 'A' && c <= 'Z' ? c + 32 : c);
+      continue;
+    }
     UChar32 c;
     U8_NEXT(p, i, n, c);
-    cps.push_back(c < 0 ? 0xFFFD : u_tolower(c));
+    out.push_back(c < 0 ? 0xFFFD : u_tolower(c));
   }
-  std::vector<uint64_t> g;
-  for (size_t k = 0; k + 3 <= cps.size(); ++k)
-    g.push_back((static_cast<uint64_t>(cps[k]) << 42) | (static_cast<uint64_t>(cps[k + 1]) << 21) |
-                static_cast<uint64_t>(cps[k + 2]));
-  std::sort(g.begin(), g.end());
-  return g;
+}
+
+inline uint64_t trigram(const std::vector<UChar32>& v, size_t k) {
+  return (static_cast<uint64_t>(v[k]) << 42) | (static_cast<uint64_t>(v[k + 1]) << 21) | static_cast<uint64_t>(v[k + 2]);
 }
 
 }  // namespace
 
-double trigram_overlap(std::string_view a, std::string_view b) {
-  std::vector<uint64_t> x = trigrams(a), y = trigrams(b);
-  if (x.empty() || y.empty()) return a == b ? 1.0 : 0.0;
-  size_t common = 0, i = 0, j = 0;
-  while (i < x.size() && j < y.size()) {
-    if (x[i] == y[j]) {
+double trigram_overlap_bound(std::string_view a, std::string_view b) {
+  // Trigrams hashed into 4096 buckets: collisions can only add matches, so
+  // this Dice is never below the exact one.
+  thread_local std::vector<UChar32> x, y;
+  thread_local std::vector<uint16_t> buckets(4096, 0);
+  code_points(a, x);
+  code_points(b, y);
+  if (x.size() < 3 || y.size() < 3) return a == b ? 1.0 : 0.0;
+  size_t nx = x.size() - 2, ny = y.size() - 2;
+  auto bucket = [](uint64_t t) { return static_cast<size_t>((t * 0x9E3779B97F4A7C15ULL) >> 52); };
+  for (size_t k = 0; k < nx; ++k) ++buckets[bucket(trigram(x, k))];
+  size_t common = 0;
+  for (size_t k = 0; k < ny; ++k) {
+    uint16_t& c = buckets[bucket(trigram(y, k))];
+    if (c > 0) {
+      --c;
       ++common;
-      ++i;
-      ++j;
-    } else if (x[i] < y[j]) {
-      ++i;
-    } else {
-      ++j;
     }
   }
-  return 2.0 * static_cast<double>(common) / static_cast<double>(x.size() + y.size());
+  for (size_t k = 0; k < nx; ++k) buckets[bucket(trigram(x, k))] = 0;
+  return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
+}
+
+double trigram_overlap(std::string_view a, std::string_view b) {
+  thread_local std::vector<UChar32> x, y;
+  thread_local std::vector<std::pair<uint64_t, uint32_t>> table;  // open addressing: trigram -> count
+  code_points(a, x);
+  code_points(b, y);
+  if (x.size() < 3 || y.size() < 3) return a == b ? 1.0 : 0.0;
+  size_t nx = x.size() - 2, ny = y.size() - 2;
+  size_t cap = 16;
+  while (cap < 2 * nx) cap <<= 1;
+  table.assign(cap, {0, 0});
+  size_t mask = cap - 1;
+  for (size_t k = 0; k < nx; ++k) {
+    uint64_t t = trigram(x, k) + 1;  // 0 marks an empty slot
+    size_t i = (t * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
+    while (table[i].first != 0 && table[i].first != t) i = (i + 1) & mask;
+    table[i].first = t;
+    ++table[i].second;
+  }
+  size_t common = 0;
+  for (size_t k = 0; k < ny; ++k) {
+    uint64_t t = trigram(y, k) + 1;
+    size_t i = (t * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
+    while (table[i].first != 0 && table[i].first != t) i = (i + 1) & mask;
+    if (table[i].first == t && table[i].second > 0) {
+      --table[i].second;
+      ++common;
+    }
+  }
+  return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }
 
 namespace {
@@ -57,13 +97,22 @@ class CopyStage : public Stage {
       if (!p.kept()) continue;
       if (p.text[0] == p.text[1]) {
         batch.drop(p, index_, "copy:identical");
-      } else if (max_overlap_ < 1.0 && trigram_overlap(p.text[0], p.text[1]) > max_overlap_) {
+      } else if (max_overlap_ < 1.0 && could_overlap(p.text[0], p.text[1]) &&
+                 trigram_overlap_bound(p.text[0], p.text[1]) > max_overlap_ &&
+                 trigram_overlap(p.text[0], p.text[1]) > max_overlap_) {
         batch.drop(p, index_, "copy:overlap");
       }
     }
   }
 
  private:
+  // Dice is at most 2 min / (min + max) of the trigram counts; with byte
+  // lengths as a stand-in (a code point is 1 to 4 bytes) a pair whose lengths
+  // differ by more than 4x that bound cannot pass it.
+  bool could_overlap(std::string_view a, std::string_view b) const {
+    double lo = static_cast<double>(std::min(a.size(), b.size())), hi = static_cast<double>(std::max(a.size(), b.size()));
+    return 2.0 * 4.0 * lo / (4.0 * lo + hi) > max_overlap_;
+  }
   int index_;
   double max_overlap_;
 };

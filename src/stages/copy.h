@@ -16,6 +16,9 @@ namespace sheaf {
 // 2 * |A ∩ B| / (|A| + |B|) over character trigram multisets; 0 for two
 // texts shorter than three characters that differ.
 double trigram_overlap(std::string_view a, std::string_view b);
+// A fast upper bound of trigram_overlap (hashed buckets), used to skip the
+// exact computation for pairs that cannot pass max_overlap.
+double trigram_overlap_bound(std::string_view a, std::string_view b);
 
 const StageKind& copy_kind();
 Result<std::unique_ptr<Stage>> make_copy(const StageContext& ctx);

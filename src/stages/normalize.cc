@@ -8,6 +8,8 @@
 
 #include "core/text.h"
 
+#include <vector>
+
 namespace sheaf {
 
 namespace {
@@ -33,6 +35,50 @@ CharClass classify(UChar32 c, bool strip) {
   if (t == U_CONTROL_CHAR) return CharClass::kRemove;
   if (t == U_FORMAT_CHAR && !keep_format(c)) return CharClass::kRemove;
   return CharClass::kKeep;
+}
+
+// classify() for the BMP, computed once: the scan of text that needs no
+// change is table lookups only.
+const uint8_t* class_table() {
+  static const std::vector<uint8_t> t = [] {
+    std::vector<uint8_t> v(0x10000);
+    for (UChar32 c = 0; c < 0x10000; ++c) v[static_cast<size_t>(c)] = static_cast<uint8_t>(classify(c, true));
+    return v;
+  }();
+  return t.data();
+}
+
+// True when valid UTF-8 `in` needs no cleaning: no character to remove, no
+// space other than single ASCII spaces inside. Sets *valid.
+bool already_clean(std::string_view in, bool strip, bool* valid) {
+  const uint8_t* table = class_table();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
+  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  bool clean = !in.empty() && in.front() != ' ' && in.back() != ' ';
+  bool prev_space = false;
+  *valid = true;
+  while (i < n) {
+    UChar32 c;
+    if (p[i] < 0x80) {
+      c = p[i++];
+    } else {
+      U8_NEXT(p, i, n, c);
+      if (c < 0) {
+        *valid = false;
+        return false;
+      }
+    }
+    CharClass k = c < 0x10000 ? static_cast<CharClass>(table[c]) : classify(c, true);
+    if (!strip && k == CharClass::kRemove) k = CharClass::kKeep;
+    if (k == CharClass::kSpace) {
+      if (c != ' ' || prev_space) clean = false;
+      prev_space = true;
+    } else {
+      if (k == CharClass::kRemove) clean = false;
+      prev_space = false;
+    }
+  }
+  return clean || in.empty();
 }
 
 // ASCII needs no normalization; only controls, spaces and case matter.
@@ -150,9 +196,17 @@ TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std
     ascii_rewrite(in, o_.strip_controls, o_.casefold, out);
     return Outcome::kRewritten;
   }
+  // The common case: valid, clean, already normalized: one scan, no copy.
+  bool valid = true;
+  if (already_clean(in, o_.strip_controls, &valid) && !o_.casefold && !o_.punctuation[side]) {
+    const icu::Normalizer2* norm = normalizer(o_.form[side]);
+    UErrorCode st = U_ZERO_ERROR;
+    if (norm == nullptr || norm->isNormalizedUTF8(icu::StringPiece(in.data(), static_cast<int32_t>(in.size())), st))
+      return Outcome::kUnchanged;
+  }
   std::string cur;
   bool changed = false;
-  if (!is_valid_utf8(in)) {
+  if (!valid) {
     if (!o_.repair_utf8) return Outcome::kInvalidUtf8;
     size_t r = repair_utf8(in, cur);
     if (repairs) *repairs += r;

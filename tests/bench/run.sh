@@ -24,7 +24,7 @@ B=build-bench
 cmake -S . -B $B -DCMAKE_BUILD_TYPE=Release -DSHEAF_TESTS=OFF -DSHEAF_BENCHMARKS=ON >/dev/null
 cmake --build $B -j"$(nproc)" >/dev/null
 CORPUS=$B/corpus-$MB-$SCRIPTS.tsv
-[ -s "$CORPUS" ] || $B/sheaf_gen_corpus --mb "$MB" --scripts "$SCRIPTS" > "$CORPUS"
+[ -s "$CORPUS" ] || $B/tests/bench/sheaf_gen_corpus --mb "$MB" --scripts "$SCRIPTS" > "$CORPUS"
 BYTES=$(stat -c %s "$CORPUS")
 TGT=es; [ "$SCRIPTS" = cyrillic ] && TGT=ru
 OUT=$(mktemp -d)
@@ -45,18 +45,18 @@ measure() {
   echo "$name $mt $mm"
 }
 
-SHEAF="$B/sheaf run --quiet --force --input $CORPUS --set corpus.target_lang=\"$TGT\""
+OPTS="--quiet --force --input $CORPUS --set corpus.target_lang=\"$TGT\""
 {
   measure "cat" cat "$CORPUS"
   measure "wc -l" wc -l "$CORPUS"
   measure "wc -w" wc -w "$CORPUS"
   measure "sort -u" env LC_ALL=C sort -u "$CORPUS"
-  measure "sheaf clean, 2 threads" $SHEAF tests/bench/clean.toml --until split --threads 2 --out "$OUT/c2"
-  measure "sheaf clean, 1 thread" $SHEAF tests/bench/clean.toml --until split --threads 1 --out "$OUT/c1"
-  measure "sheaf clean + CLD2, 2 threads" $SHEAF tests/bench/clean-langid.toml --threads 2 --out "$OUT/l2"
-  measure "CLD2 alone, 2 threads" $B/sheaf_cld2_only "$CORPUS" 2
+  measure "sheaf clean, 2 threads" $B/sheaf run tests/bench/clean.toml --until split --threads 2 $OPTS --out "$OUT/c2"
+  measure "sheaf clean, 1 thread" $B/sheaf run tests/bench/clean.toml --until split --threads 1 $OPTS --out "$OUT/c1"
+  measure "sheaf clean + CLD2, 2 threads" $B/sheaf run tests/bench/clean-langid.toml --threads 2 $OPTS --out "$OUT/l2"
+  measure "CLD2 alone, 2 threads" $B/tests/bench/sheaf_cld2_only "$CORPUS" 2
   if [ "$FULL" = 1 ]; then
-    measure "sheaf full (32k vocab), 2 threads" $SHEAF tests/bench/full.toml --threads 2 --out "$OUT/f2"
+    measure "sheaf full (32k vocab), 2 threads" $B/sheaf run tests/bench/full.toml --threads 2 $OPTS --out "$OUT/f2"
   fi
 } > "$OUT/results"
 

@@ -75,6 +75,14 @@ TEST(Copy, IdenticalAndOverlappingSides) {
   EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "wxyz"), 0.0);
   // "abcd": abc, bcd; "abce": abc, bce -> 2*1/4.
   EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "ABCE"), 0.5);
+  // The fast bound is never below the exact value.
+  std::mt19937 rng(9);
+  for (int i = 0; i < 3000; ++i) {
+    std::string a, b;
+    for (int k = 0; k < 5 + static_cast<int>(rng() % 60); ++k) a += "abcde \u00e9"[rng() % 7];
+    for (int k = 0; k < 5 + static_cast<int>(rng() % 60); ++k) b += "abcdf \u00e9"[rng() % 7];
+    ASSERT_GE(trigram_overlap_bound(a, b) + 1e-12, trigram_overlap(a, b)) << a << " / " << b;
+  }
 }
 
 TEST(Dedup, FirstOccurrenceIsKeptAndNamed) {

@@ -5,6 +5,8 @@
 
 #include <fstream>
 #include <map>
+#include <random>
+#include <tuple>
 #include <set>
 #include <sstream>
 
@@ -63,6 +65,34 @@ TEST(WordBoundaries, MatchWordBreakTestTxt) {
   // memory: $MidLetter = [\p{Word_Break = MidLetter} - [\: \uFE55 \uFF1A]]).
   EXPECT_LE(failures.size(), 20u);
   for (const auto& f : failures) EXPECT_NE(f.find("003A"), std::string::npos) << f;
+}
+
+// The fast path for simple text against ICU alone, on generated text made of
+// characters of every class the fast path handles and some it must leave to
+// ICU: boundaries and word flags must be identical.
+TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
+  const std::vector<std::string> pieces = {
+      "a", "B", "z", "7", "0", " ", "  ", ".", "'", ",", ";", ":", "_", "-", "!", "?", "\"", "(", "/", "+", "@",
+      "\u00e9", "\u00f1", "\u00df", "\u00dc", "\u0430", "\u0416", "\u03b1", "\u2019", "\u2018", "\u00b7", "\u00bf",
+      "\u00a1", "\u00ab", "\u00bb", "\u20ac", "\u2024", "\uff0e", "\u0660", "\u066b", "\u0301", "\u3000", "\u4e2d",
+      "\u3042", "\u30a2", "\u05d0", "\u0e01", "\t", "\U0001F600", "\U0001F1EA", "\u200d", "\u00ad", "\u2060", "\u0131"};
+  std::mt19937 rng(2024);
+  size_t fast = 0;
+  for (int trial = 0; trial < 20000; ++trial) {
+    std::string s;
+    int n = 1 + static_cast<int>(rng() % 12);
+    // Mostly simple text, sometimes one character the fast path refuses.
+    for (int i = 0; i < n; ++i) s += pieces[rng() % (trial % 3 == 0 ? pieces.size() : 40)];
+    std::vector<std::tuple<size_t, size_t, bool>> a, b;
+    cut_words(s, [&](size_t x, size_t y, bool w) { a.emplace_back(x, y, w); });
+    cut_words_reference(s, [&](size_t x, size_t y, bool w) { b.emplace_back(x, y, w); });
+    ASSERT_EQ(a, b) << "text: [" << s << "]";
+    size_t words = 0;
+    for (const auto& [x, y, w] : b) words += w;
+    ASSERT_EQ(count_words(s), words) << s;
+    fast += trial % 3 != 0;
+  }
+  EXPECT_GT(fast, 10000u);
 }
 
 TEST(WordBoundaries, CountsWordsNotSpacesOrPunctuation) {
