@@ -28,17 +28,30 @@ inline constexpr int kKept = -2;
 // Drops made by the runner's final check that output fields are valid TSV.
 inline constexpr int kOutputStage = -3;
 
+inline constexpr uint32_t kUnmeasured = UINT32_MAX;
+
 struct Pair {
   uint64_t line = 0;             // 1-based input line (pair index for two files)
   std::string_view raw;          // original line, or the source line (two files)
   std::string_view raw_target;   // the target line (two files only)
-  std::array<std::string_view, 2> text;  // current source and target text
+  // Current source and target text. Stages that rewrite a side call
+  // set_text(), which forgets the lengths measured on the old text.
+  std::array<std::string_view, 2> text;
+  // Lengths of the current text, measured once by whichever stage needs them
+  // first (kUnmeasured until then) and reused by later stages and statistics.
+  std::array<uint32_t, 2> words{kUnmeasured, kUnmeasured};
+  std::array<uint32_t, 2> chars{kUnmeasured, kUnmeasured};
   int drop_stage = kKept;
   std::string reason;            // reason code, optionally "code:detail"
   std::array<uint64_t, 2> key{};  // scratch: a stage's hash between its two halves
   int split = 0;                 // split index set by the split stage
 
   bool kept() const { return drop_stage == kKept; }
+  void set_text(int side, std::string_view t) {
+    text[static_cast<size_t>(side)] = t;
+    words[static_cast<size_t>(side)] = kUnmeasured;
+    chars[static_cast<size_t>(side)] = kUnmeasured;
+  }
 };
 
 struct PairBatch {

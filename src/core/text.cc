@@ -261,11 +261,42 @@ bool count_words_fast(std::string_view s, size_t& count) {
   return true;
 }
 
+// ASCII text: the same rules on bytes, with no decoding.
+bool count_words_ascii(std::string_view s, size_t& count) {
+  const uint8_t* table = word_classes();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  size_t n = s.size(), i = 0;
+  count = 0;
+  auto wordish = [](uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; };
+  while (i < n) {
+    uint8_t c = table[p[i]];
+    if (!wordish(c)) {
+      if (c == kOther) return false;
+      ++i;
+      continue;
+    }
+    uint8_t first = c, prev = c;
+    size_t start = i++;
+    for (;;) {
+      while (i < n && wordish(table[p[i]])) prev = table[p[i++]];
+      if (i + 1 >= n) break;
+      uint8_t d = table[p[i]], e = table[p[i + 1]];
+      bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
+                  (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
+      if (!join) break;
+      prev = e;
+      i += 2;
+    }
+    count += !(first == kExtendNumLet && i - start == 1);
+  }
+  return true;
+}
+
 }  // namespace
 
 size_t count_words(std::string_view s) {
   size_t n = 0;
-  if (count_words_fast(s, n)) return n;
+  if (is_ascii(s) ? count_words_ascii(s, n) : count_words_fast(s, n)) return n;
   n = 0;
   cut_words_icu(s, [&](size_t, size_t, bool w) { n += w; });
   return n;

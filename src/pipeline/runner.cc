@@ -86,6 +86,7 @@ class Pass1Writer {
       : dir_(dir), rec_(rec), names_(splits), split_(split), aligned_(aligned), keys_(splits.size()) {}
 
   Status open() {
+    for (const auto& n : names_) lengths_.push_back(&rec_.lengths[n]);
     for (const auto& n : names_) {
       files_.push_back(std::make_unique<OutputFile>());
       SHEAF_TRY(dir_.will_create(n + ".tsv"));
@@ -225,6 +226,12 @@ class Pass1Writer {
 
   void route(std::string_view s, std::string_view t, int split, const Pair& p) {
     OutputFile& f = *files_[static_cast<size_t>(split)];
+    SplitLengths& len = *lengths_[static_cast<size_t>(split)];
+    for (int side = 0; side < 2; ++side) {
+      len.chars[side].add(p.chars[static_cast<size_t>(side)]);
+      len.words[side].add(p.words[static_cast<size_t>(side)]);
+    }
+    if (p.chars[1] > 0) len.ratio.add(uint64_t{p.chars[0]} * 100 / p.chars[1]);
     row_.assign(s);
     row_ += '\t';
     row_ += t;
@@ -243,6 +250,8 @@ class Pass1Writer {
     spool_.write(std::string_view(reinterpret_cast<const char*>(&h), 8));
     spool_.write(std::string_view(reinterpret_cast<const char*>(&n0), 4));
     spool_.write(std::string_view(reinterpret_cast<const char*>(&n1), 4));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(p.chars.data()), 8));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(p.words.data()), 8));
     spool_.write(p.text[0]);
     spool_.write(p.text[1]);
   }
@@ -257,6 +266,8 @@ class Pass1Writer {
       if (!in.read(reinterpret_cast<char*>(&h), 8)) break;
       in.read(reinterpret_cast<char*>(&n0), 4);
       in.read(reinterpret_cast<char*>(&n1), 4);
+      in.read(reinterpret_cast<char*>(p.chars.data()), 8);
+      in.read(reinterpret_cast<char*>(p.words.data()), 8);
       s.resize(n0);
       t.resize(n1);
       in.read(s.data(), n0);
@@ -275,6 +286,7 @@ class Pass1Writer {
   SplitStage* split_;
   bool aligned_;
   std::vector<std::unique_ptr<OutputFile>> files_;
+  std::vector<SplitLengths*> lengths_;
   OutputFile rejected_, spool_;
   std::string row_;
   std::vector<std::unordered_set<uint64_t>> keys_;
@@ -404,14 +416,23 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                 return b;
               });
   }
+  // The output check (a field must never break the TSV it is written to) and
+  // the lengths for the summary, in parallel; then the writer, in order.
+  chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [](PairBatch* b) {
+            for (Pair& pr : b->pairs) {
+              if (!pr.kept()) continue;
+              for (int side = 0; side < 2 && pr.kept(); ++side)
+                if (has_tsv_breaker(pr.text[side]))
+                  b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
+              if (!pr.kept()) continue;
+              for (size_t side = 0; side < 2; ++side) {
+                if (pr.chars[side] == kUnmeasured) pr.chars[side] = static_cast<uint32_t>(count_code_points(pr.text[side]));
+                if (pr.words[side] == kUnmeasured) pr.words[side] = static_cast<uint32_t>(count_words(pr.text[side]));
+              }
+            }
+            return b;
+          });
   auto last_filter = tbb::make_filter<PairBatch*, void>(tbb::filter_mode::serial_in_order, [&](PairBatch* b) {
-    // The output check: a field must never break the TSV it is written to.
-    for (Pair& pr : b->pairs) {
-      if (!pr.kept()) continue;
-      for (int side = 0; side < 2 && pr.kept(); ++side)
-        if (has_tsv_breaker(pr.text[side]))
-          b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
-    }
     writer.take(*b);
     free_batches.push(b);
     if (auto st = writer.status(); !st.ok()) throw ErrorException{st.error()};

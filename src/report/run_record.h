@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "io/pair_reader.h"
+#include "report/stats.h"
 
 namespace sheaf {
 
@@ -43,6 +44,13 @@ struct Overlap {
   uint64_t keys = 0;  // keys of b also found in a
 };
 
+// Lengths of the kept pairs of one split, gathered while they are written
+// (for summary.json; not part of manifest.json).
+struct SplitLengths {
+  Histogram chars[2], words[2];
+  Histogram ratio;  // 100 x source chars / target chars
+};
+
 struct RunRecord {
   std::string tool_version = SHEAF_VERSION;
   uint64_t pipeline_hash = 0;
@@ -57,6 +65,7 @@ struct RunRecord {
   // Further sections of the record, each (key, serialized JSON value), in
   // the order the steps added them (vocabulary, shards...).
   std::vector<std::pair<std::string, std::string>> sections;
+  std::map<std::string, SplitLengths> lengths;
 };
 
 std::string run_record_json(const RunRecord& r);

@@ -27,21 +27,17 @@ using nlohmann::ordered_json;
 constexpr uint64_t kCharBin = 10, kWordBin = 2, kTokenBin = 4, kRatioBin = 10;
 constexpr size_t kBins = 50;
 
+// Alphabet coverage of a split's characters.
 struct SideStats {
-  Histogram chars, words;
   uint64_t covered = 0, letters = 0;  // character occurrences in the alphabet, all
 };
 struct SplitStats {
   SideStats side[2];
-  Histogram ratio;  // 100 x source chars / target chars
   void merge(const SplitStats& o) {
     for (int s = 0; s < 2; ++s) {
-      side[s].chars.merge(o.side[s].chars);
-      side[s].words.merge(o.side[s].words);
       side[s].covered += o.side[s].covered;
       side[s].letters += o.side[s].letters;
     }
-    ratio.merge(o.ratio);
   }
 };
 
@@ -85,14 +81,7 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
                 size_t tab = line.find('\t');
                 std::string_view side[2] = {std::string_view(line).substr(0, tab),
                                             tab == std::string::npos ? std::string_view{} : std::string_view(line).substr(tab + 1)};
-                uint64_t chars[2];
-                for (int s = 0; s < 2; ++s) {
-                  chars[s] = count_code_points(side[s]);
-                  st.side[s].chars.add(chars[s]);
-                  st.side[s].words.add(count_words(side[s]));
-                  count_coverage(side[s], vocab[s], st.side[s]);
-                }
-                if (chars[1] > 0) st.ratio.add(chars[0] * 100 / chars[1]);
+                for (int s = 0; s < 2; ++s) count_coverage(side[s], vocab[s], st.side[s]);
               }
               delete b;
             }));
@@ -161,13 +150,20 @@ Status write_summary(const StepInput& in, int threads) {
   ordered_json splits = ordered_json::object();
   ordered_json coverage = ordered_json::object();
   for (const auto& [name, pairs] : rec.splits) {
-    auto st = scan(in.dir->file(name + ".tsv"), per_side, threads);
-    if (!st.ok()) return st.error();
+    // Lengths were gathered in pass 1; alphabet coverage needs a scan, done
+    // only for the (small) splits other than train.
+    SplitStats st;
+    const SplitLengths& lengths = rec.lengths[name];
+    if (name != "train" && (per_side[0] || per_side[1])) {
+      auto scanned = scan(in.dir->file(name + ".tsv"), per_side, threads);
+      if (!scanned.ok()) return scanned.error();
+      st = std::move(scanned.value());
+    }
     ordered_json sj = {{"pairs", pairs}};
     for (int s = 0; s < 2; ++s) {
       const char* side = s ? "target" : "source";
-      ordered_json side_j = {{"chars", hist_json(st->side[s].chars, kCharBin)},
-                             {"words", hist_json(st->side[s].words, kWordBin)}};
+      ordered_json side_j = {{"chars", hist_json(lengths.chars[s], kCharBin)},
+                             {"words", hist_json(lengths.words[s], kWordBin)}};
       if (sections.contains("shards") && sections["shards"]["tokens"].contains(name)) {
         const auto& t = sections["shards"]["tokens"][name][side];
         Histogram h;
@@ -176,15 +172,15 @@ Status write_summary(const StepInput& in, int threads) {
         ordered_json tj = hist_json(h, kTokenBin);
         tj["byte_fallback_rate"] = t["byte_fallback_rate"];
         tj["unknown_tokens"] = t["unknown_tokens"];
-        uint64_t words = st->side[s].words.sum();
+        uint64_t words = lengths.words[s].sum();
         tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;
         side_j["tokens"] = tj;
       }
       sj[side] = side_j;
-      if (per_side[s] && name != "train" && st->side[s].letters > 0)
-        coverage[name][side] = static_cast<double>(st->side[s].covered) / static_cast<double>(st->side[s].letters);
+      if (per_side[s] && name != "train" && st.side[s].letters > 0)
+        coverage[name][side] = static_cast<double>(st.side[s].covered) / static_cast<double>(st.side[s].letters);
     }
-    sj["length_ratio"] = hist_json(st->ratio, kRatioBin, 100.0);
+    sj["length_ratio"] = hist_json(lengths.ratio, kRatioBin, 100.0);
     splits[name] = sj;
   }
   j["splits"] = splits;

@@ -1,11 +1,12 @@
 // Summary: the statistics of a run, written as summary.json and report.html
 // at the end of every run (docs/outputs.md specifies both).
 //
-// One parallel pass over each split's text gives characters (code points),
-// words (UAX #29) and the source/target length ratio per pair, as exact
-// histograms; the token figures come from the shards step when it ran. The
-// funnel, examples of rejections, the vocabulary and its size sweep, and the
-// split overlap come from the run record.
+// Characters (code points), words (UAX #29) and the source/target length
+// ratio per pair are exact histograms gathered in pass 1 as pairs are
+// written; the alphabet coverage of dev and test takes one parallel scan of
+// those (small) files; the token figures come from the shards step when it
+// ran. The funnel, examples of rejections, the vocabulary and its size
+// sweep, and the split overlap come from the run record.
 #pragma once
 
 #include <string>

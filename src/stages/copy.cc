@@ -4,6 +4,8 @@
 #include <unicode/utf8.h>
 
 #include <algorithm>
+
+#include "core/text.h"
 #include <vector>
 
 namespace sheaf {
@@ -13,6 +15,7 @@ namespace {
 // Lowercased code points of `s` into `out` (reused, so no allocation per pair).
 void code_points(std::string_view s, std::vector<UChar32>& out) {
   out.clear();
+  out.reserve(s.size());
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   int32_t n = static_cast<int32_t>(s.size()), i = 0;
   while (i < n) {
@@ -34,25 +37,49 @@ inline uint64_t trigram(const std::vector<UChar32>& v, size_t k) {
 }  // namespace
 
 double trigram_overlap_bound(std::string_view a, std::string_view b) {
-  // Trigrams hashed into 4096 buckets: collisions can only add matches, so
-  // this Dice is never below the exact one.
-  thread_local std::vector<UChar32> x, y;
+  // Only trigrams of three ASCII characters are compared, on bytes, hashed
+  // into 4096 buckets (collisions can only add matches); trigrams holding a
+  // non-ASCII character are assumed to match as often as they could. So the
+  // result is never below the exact value. U+0130 and U+212A, the only
+  // non-ASCII characters whose lowercase is ASCII, take the exact path.
+  auto special = [](std::string_view s) {
+    return s.find("\xC4\xB0") != std::string_view::npos || s.find("\xE2\x84\xAA") != std::string_view::npos;
+  };
+  if (special(a) || special(b)) return trigram_overlap(a, b);
+  size_t ca = count_code_points(a), cb = count_code_points(b);
+  if (ca < 3 || cb < 3) return a == b ? 1.0 : 0.0;
+  size_t nx = ca - 2, ny = cb - 2;
   thread_local std::vector<uint16_t> buckets(4096, 0);
-  code_points(a, x);
-  code_points(b, y);
-  if (x.size() < 3 || y.size() < 3) return a == b ? 1.0 : 0.0;
-  size_t nx = x.size() - 2, ny = y.size() - 2;
-  auto bucket = [](uint64_t t) { return static_cast<size_t>((t * 0x9E3779B97F4A7C15ULL) >> 52); };
-  for (size_t k = 0; k < nx; ++k) ++buckets[bucket(trigram(x, k))];
+  auto lower = [](unsigned char c) { return static_cast<uint32_t>(c >= 'A' && c <= 'Z' ? c + 32 : c); };
+  auto bucket = [](uint32_t key) { return static_cast<size_t>((key * 2654435761u) >> 20); };
+  // Calls fn(key) for every window of three ASCII bytes; returns their number.
+  auto windows = [&](std::string_view s, auto&& fn) {
+    size_t run = 0, n = 0;
+    uint32_t key = 0;
+    for (unsigned char c : s) {
+      if (c >= 0x80) {
+        run = 0;
+        continue;
+      }
+      key = ((key << 8) | lower(c)) & 0xFFFFFF;
+      if (++run >= 3) {
+        fn(key);
+        ++n;
+      }
+    }
+    return n;
+  };
+  size_t ascii_a = windows(a, [&](uint32_t k) { ++buckets[bucket(k)]; });
   size_t common = 0;
-  for (size_t k = 0; k < ny; ++k) {
-    uint16_t& c = buckets[bucket(trigram(y, k))];
+  size_t ascii_b = windows(b, [&](uint32_t k) {
+    uint16_t& c = buckets[bucket(k)];
     if (c > 0) {
       --c;
       ++common;
     }
-  }
-  for (size_t k = 0; k < nx; ++k) buckets[bucket(trigram(x, k))] = 0;
+  });
+  windows(a, [&](uint32_t k) { buckets[bucket(k)] = 0; });
+  common += std::min(nx - ascii_a, ny - ascii_b);
   return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }
 

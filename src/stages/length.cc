@@ -6,15 +6,6 @@
 
 namespace sheaf {
 
-size_t measure(std::string_view text, LengthUnit unit) {
-  switch (unit) {
-    case LengthUnit::kBytes: return text.size();
-    case LengthUnit::kChars: return count_code_points(text);
-    case LengthUnit::kWords: return count_words(text);
-  }
-  return 0;
-}
-
 double length_ratio(size_t a, size_t b, double slack) {
   double hi = static_cast<double>(std::max(a, b)) + slack;
   double lo = static_cast<double>(std::min(a, b)) + slack;
@@ -37,7 +28,7 @@ class LengthStage : public Stage {
       }
       size_t len[2];
       for (int side = 0; side < 2 && p.kept(); ++side) {
-        len[side] = measure(p.text[side], o_.unit);
+        len[side] = measured(p, side);
         if (static_cast<int64_t>(len[side]) < o_.min[side])
           batch.drop(p, index_, std::string("too-short:") + side_name(side));
         else if (o_.max[side] > 0 && static_cast<int64_t>(len[side]) > o_.max[side])
@@ -57,6 +48,20 @@ class LengthStage : public Stage {
   }
 
  private:
+  // The side's length in the stage's unit, cached on the pair.
+  size_t measured(Pair& p, int side) const {
+    auto s = static_cast<size_t>(side);
+    switch (o_.unit) {
+      case LengthUnit::kBytes: return p.text[s].size();
+      case LengthUnit::kChars:
+        if (p.chars[s] == kUnmeasured) p.chars[s] = static_cast<uint32_t>(count_code_points(p.text[s]));
+        return p.chars[s];
+      case LengthUnit::kWords:
+        if (p.words[s] == kUnmeasured) p.words[s] = static_cast<uint32_t>(count_words(p.text[s]));
+        return p.words[s];
+    }
+    return 0;
+  }
   // The longest word: a run without spaces, measured whole when it is ASCII
   // (so base64 and hashes count as one word even though UAX #29 breaks them
   // at '+' and '/'), else by UAX #29 words within the run (scripts written

@@ -28,7 +28,6 @@ struct LengthOptions {
   int64_t max_word_chars = 60;  // 0 = off
 };
 
-size_t measure(std::string_view text, LengthUnit unit);
 // The ratio the stage compares with max_ratio.
 double length_ratio(size_t a, size_t b, double slack);
 

@@ -8,6 +8,7 @@
 
 #include "core/text.h"
 
+#include <cstring>
 #include <vector>
 
 namespace sheaf {
@@ -57,7 +58,23 @@ bool already_clean(std::string_view in, bool strip, bool* valid) {
   bool clean = !in.empty() && in.front() != ' ' && in.back() != ' ';
   bool prev_space = false;
   *valid = true;
+  constexpr uint64_t kOnes = 0x0101010101010101ULL, kHigh = 0x8080808080808080ULL;
   while (i < n) {
+    // Eight ASCII bytes with no control, DEL or double space at a time.
+    if (i + 8 <= n) {
+      uint64_t w;
+      std::memcpy(&w, p + i, 8);
+      if ((w & kHigh) == 0 && ((w - 0x2020202020202020ULL) & ~w & kHigh) == 0 &&
+          (((w ^ 0x7F7F7F7F7F7F7F7FULL) - kOnes) & ~(w ^ 0x7F7F7F7F7F7F7F7FULL) & kHigh) == 0) {
+        uint64_t x = w ^ 0x2020202020202020ULL;
+        uint64_t sp = (x - kOnes) & ~x & kHigh;
+        if ((sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
+          prev_space = (sp >> 63) != 0;
+          i += 8;
+          continue;
+        }
+      }
+    }
     UChar32 c;
     if (p[i] < 0x80) {
       c = p[i++];
@@ -86,6 +103,29 @@ bool already_clean(std::string_view in, bool strip, bool* valid) {
 bool ascii_clean(std::string_view in, bool casefold) {
   if (in.empty()) return true;
   if (in.front() == ' ' || in.back() == ' ') return false;
+  if (!casefold) {
+    // Eight bytes at a time: no control byte, no DEL, no two spaces in a row.
+    const char* p = in.data();
+    size_t n = in.size(), i = 0;
+    constexpr uint64_t kOnes = 0x0101010101010101ULL, kHigh = 0x8080808080808080ULL;
+    auto has_zero = [&](uint64_t v) { return (v - kOnes) & ~v & kHigh; };
+    uint64_t prev_space = 0;
+    for (; i + 8 <= n; i += 8) {
+      uint64_t w;
+      std::memcpy(&w, p + i, 8);
+      if (((w - 0x2020202020202020ULL) & ~w & kHigh) != 0 || has_zero(w ^ 0x7F7F7F7F7F7F7F7FULL) != 0) return false;
+      uint64_t sp = has_zero(w ^ 0x2020202020202020ULL);
+      if ((sp & (sp >> 8)) != 0 || (prev_space && (sp & 0x80))) return false;
+      prev_space = sp >> 63;
+    }
+    char prev = prev_space ? ' ' : 0;
+    for (; i < n; ++i) {
+      unsigned char c = static_cast<unsigned char>(p[i]);
+      if (c < 0x20 || c == 0x7F || (c == ' ' && prev == ' ')) return false;
+      prev = static_cast<char>(c);
+    }
+    return true;
+  }
   char prev = 0;
   for (char ch : in) {
     unsigned char c = static_cast<unsigned char>(ch);
@@ -276,7 +316,7 @@ class NormalizeStage : public Stage {
         size_t repairs = 0;
         switch (norm_.apply(p.text[side], side, out, &repairs)) {
           case TextNormalizer::Outcome::kUnchanged: break;
-          case TextNormalizer::Outcome::kRewritten: p.text[side] = batch.arena.copy(out); break;
+          case TextNormalizer::Outcome::kRewritten: p.set_text(side, batch.arena.copy(out)); break;
           case TextNormalizer::Outcome::kInvalidUtf8:
             batch.drop(p, index_, std::string("invalid-utf8:") + side_name(side));
             break;

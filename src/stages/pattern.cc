@@ -36,7 +36,7 @@ class PatternStage : public Stage {
           buf.assign(t);
           RE2::GlobalReplace(&buf, *r.re, r.replacement);
           collapse_spaces(buf);
-          p.text[side] = batch.arena.copy(buf);
+          p.set_text(side, batch.arena.copy(buf));
         }
       }
     }

@@ -6,6 +6,8 @@
 #include <algorithm>
 #include <map>
 
+#include "core/text.h"
+
 namespace sheaf {
 
 std::vector<std::string> scripts_for_language(std::string_view lang) {
@@ -34,6 +36,11 @@ std::vector<std::string> scripts_for_language(std::string_view lang) {
 
 ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>& expected) {
   ScriptCount r;
+  if (is_ascii(text)) {  // ASCII letters are all Latin
+    for (unsigned char c : text) r.letters += ((c | 0x20) >= 'a' && (c | 0x20) <= 'z');
+    if (std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end()) r.expected = r.letters;
+    return r;
+  }
   const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
   bool latin_expected = std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end();
@@ -58,19 +65,58 @@ ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>&
   return r;
 }
 
+ScriptTable::ScriptTable(std::vector<UScriptCode> expected) : expected_(std::move(expected)), bmp_(0x10000, 0) {
+  latin_ = std::find(expected_.begin(), expected_.end(), USCRIPT_LATIN) != expected_.end();
+  for (UChar32 c = 0x80; c < 0x10000; ++c) {
+    if (c >= 0xD800 && c <= 0xDFFF) continue;
+    char buf[4];
+    int32_t k = 0;
+    U8_APPEND_UNSAFE(buf, k, c);
+    ScriptCount one = count_scripts(std::string_view(buf, static_cast<size_t>(k)), expected_);
+    bmp_[static_cast<size_t>(c)] = one.letters == 0 ? 0 : one.expected ? 1 : 2;
+  }
+}
+
+ScriptCount ScriptTable::count(std::string_view text) const {
+  ScriptCount r;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  while (i < n) {
+    if (p[i] < 0x80) {
+      unsigned char c = p[i++];
+      if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
+        ++r.letters;
+        r.expected += latin_;
+      }
+      continue;
+    }
+    int32_t at = i;
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    if (c < 0) continue;
+    if (c < 0x10000) {
+      uint8_t k = bmp_[static_cast<size_t>(c)];
+      r.letters += k != 0;
+      r.expected += k == 1;
+    } else {
+      ScriptCount one = count_scripts(text.substr(static_cast<size_t>(at), static_cast<size_t>(i - at)), expected_);
+      r.letters += one.letters;
+      r.expected += one.expected;
+    }
+  }
+  return r;
+}
+
 namespace {
 
 class ScriptStage : public Stage {
  public:
   ScriptStage(const StageContext& ctx, std::vector<UScriptCode> s, std::vector<UScriptCode> t, double min_ratio)
-      : index_(ctx.index), min_ratio_(min_ratio) {
-    expected_[0] = std::move(s);
-    expected_[1] = std::move(t);
-  }
+      : index_(ctx.index), tables_{ScriptTable(std::move(s)), ScriptTable(std::move(t))}, min_ratio_(min_ratio) {}
   void map(PairBatch& batch) override {
     for (Pair& p : batch.pairs) {
       for (int side = 0; side < 2 && p.kept(); ++side) {
-        ScriptCount c = count_scripts(p.text[side], expected_[side]);
+        ScriptCount c = tables_[side].count(p.text[side]);
         if (c.letters > 0 && static_cast<double>(c.expected) < min_ratio_ * static_cast<double>(c.letters))
           batch.drop(p, index_, std::string("script:") + side_name(side));
       }
@@ -79,7 +125,7 @@ class ScriptStage : public Stage {
 
  private:
   int index_;
-  std::vector<UScriptCode> expected_[2];
+  ScriptTable tables_[2];
   double min_ratio_;
 };
 

@@ -100,6 +100,12 @@ void BM_CountWords(benchmark::State& st) {
 }
 BENCHMARK(BM_CountWords);
 
+void BM_CountWordsAscii(benchmark::State& st) {
+  for (auto _ : st) benchmark::DoNotOptimize(count_words(kAscii));
+  st.SetBytesProcessed(static_cast<int64_t>(st.iterations() * kAscii.size()));
+}
+BENCHMARK(BM_CountWordsAscii);
+
 void BM_CutUnits(benchmark::State& st) {
   size_t n = 0;
   for (auto _ : st) cut_units(kLatin, false, [&](std::string_view u) { n += u.size(); });

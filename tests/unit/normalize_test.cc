@@ -6,6 +6,7 @@
 #include <unicode/utf8.h>
 
 #include <cstdio>
+#include <random>
 #include <sstream>
 
 #include "stage_util.h"
@@ -100,6 +101,27 @@ TEST(Normalize, WhitespaceBecomesOneSpaceAndEndsAreTrimmed) {
   EXPECT_EQ(norm_of(n, " a\tb\u00a0c\u2028d\u2029e\u0085f\u3000g\nh\ri  "), "a b c d e f g h i");
   EXPECT_EQ(norm_of(n, "a \t  b"), "a b");
   EXPECT_EQ(norm_of(n, "\t\u3000 "), "");
+}
+
+// The ASCII fast path against an obvious reference on generated text.
+TEST(Normalize, AsciiFastPathAgreesWithAReference) {
+  TextNormalizer n(NormalizeOptions{});
+  std::mt19937 rng(5);
+  const char alphabet[] = "ab  !\t\x01\x7f .,Z";
+  for (int i = 0; i < 20000; ++i) {
+    std::string s;
+    for (int k = 0; k < static_cast<int>(rng() % 40); ++k) s += alphabet[rng() % (sizeof alphabet - 1)];
+    std::string want;
+    for (char c : s) {
+      if (c == '\t' || c == ' ') want += ' ';
+      else if (static_cast<unsigned char>(c) >= 0x20 && c != 0x7f) want += c;
+    }
+    std::string collapsed;
+    for (char c : want)
+      if (!(c == ' ' && (collapsed.empty() || collapsed.back() == ' '))) collapsed += c;
+    while (!collapsed.empty() && collapsed.back() == ' ') collapsed.pop_back();
+    ASSERT_EQ(norm_of(n, s), collapsed) << "[" << s << "]";
+  }
 }
 
 TEST(Normalize, InvisibleCharactersGoButJoinersStay) {
