@@ -78,7 +78,7 @@ double trigram_overlap_bound(std::string_view a, std::string_view b) {
       ++common;
     }
   });
-  windows(a, [&](uint32_t k) { buckets[bucket(k)] = 0; });
+  std::fill(buckets.begin(), buckets.end(), 0);
   common += std::min(nx - ascii_a, ny - ascii_b);
   return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }

@@ -2,6 +2,7 @@
 
 #include <unicode/casemap.h>
 #include <unicode/normalizer2.h>
+#include <unicode/unorm2.h>
 #include <unicode/bytestream.h>
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
@@ -38,26 +39,38 @@ CharClass classify(UChar32 c, bool strip) {
   return CharClass::kKeep;
 }
 
-// classify() for the BMP, computed once: the scan of text that needs no
-// change is table lookups only.
+// classify() for the BMP, computed once, so that the scan of text that needs
+// no change is table lookups only. Bits 0-1: the CharClass; bit 2 (bit 3):
+// the character is NFC (NFKC) quick-check "yes" and has combining class 0,
+// so a text made only of such characters is already in that form.
+constexpr uint8_t kNfcSafe = 4, kNfkcSafe = 8;
 const uint8_t* class_table() {
   static const std::vector<uint8_t> t = [] {
     std::vector<uint8_t> v(0x10000);
-    for (UChar32 c = 0; c < 0x10000; ++c) v[static_cast<size_t>(c)] = static_cast<uint8_t>(classify(c, true));
+    for (UChar32 c = 0; c < 0x10000; ++c) {
+      uint8_t k = static_cast<uint8_t>(classify(c, true));
+      if (u_getCombiningClass(c) == 0) {
+        if (u_getIntPropertyValue(c, UCHAR_NFC_QUICK_CHECK) == UNORM_YES) k |= kNfcSafe;
+        if (u_getIntPropertyValue(c, UCHAR_NFKC_QUICK_CHECK) == UNORM_YES) k |= kNfkcSafe;
+      }
+      v[static_cast<size_t>(c)] = k;
+    }
     return v;
   }();
   return t.data();
 }
 
 // True when valid UTF-8 `in` needs no cleaning: no character to remove, no
-// space other than single ASCII spaces inside. Sets *valid.
-bool already_clean(std::string_view in, bool strip, bool* valid) {
+// space other than single ASCII spaces inside. Sets *valid, and *safe to the
+// kNfcSafe/kNfkcSafe bits that hold for every character.
+bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) {
   const uint8_t* table = class_table();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
   int32_t n = static_cast<int32_t>(in.size()), i = 0;
   bool clean = !in.empty() && in.front() != ' ' && in.back() != ' ';
   bool prev_space = false;
   *valid = true;
+  *safe = kNfcSafe | kNfkcSafe;
   constexpr uint64_t kOnes = 0x0101010101010101ULL, kHigh = 0x8080808080808080ULL;
   while (i < n) {
     // Eight ASCII bytes with no control, DEL or double space at a time.
@@ -85,7 +98,14 @@ bool already_clean(std::string_view in, bool strip, bool* valid) {
         return false;
       }
     }
-    CharClass k = c < 0x10000 ? static_cast<CharClass>(table[c]) : classify(c, true);
+    CharClass k;
+    if (c < 0x10000) {
+      k = static_cast<CharClass>(table[c] & 3);
+      *safe &= table[c];
+    } else {
+      k = classify(c, true);
+      *safe = 0;
+    }
     if (!strip && k == CharClass::kRemove) k = CharClass::kKeep;
     if (k == CharClass::kSpace) {
       if (c != ' ' || prev_space) clean = false;
@@ -238,11 +258,14 @@ TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std
   }
   // The common case: valid, clean, already normalized: one scan, no copy.
   bool valid = true;
-  if (already_clean(in, o_.strip_controls, &valid) && !o_.casefold && !o_.punctuation[side]) {
-    const icu::Normalizer2* norm = normalizer(o_.form[side]);
-    UErrorCode st = U_ZERO_ERROR;
-    if (norm == nullptr || norm->isNormalizedUTF8(icu::StringPiece(in.data(), static_cast<int32_t>(in.size())), st))
+  uint8_t safe = 0;
+  if (already_clean(in, o_.strip_controls, &valid, &safe) && !o_.casefold && !o_.punctuation[side]) {
+    NormalForm f = o_.form[side];
+    if (f == NormalForm::kNone || (f == NormalForm::kNfc && (safe & kNfcSafe)) || (f == NormalForm::kNfkc && (safe & kNfkcSafe)))
       return Outcome::kUnchanged;
+    const icu::Normalizer2* norm = normalizer(f);
+    UErrorCode st = U_ZERO_ERROR;
+    if (norm->isNormalizedUTF8(icu::StringPiece(in.data(), static_cast<int32_t>(in.size())), st)) return Outcome::kUnchanged;
   }
   std::string cur;
   bool changed = false;
