@@ -22,7 +22,7 @@ Encoder::Encoder(const Vocabulary& v, size_t max_merges) : v_(v), merges_(std::m
 
 void Encoder::encode_unit(std::string_view unit, std::vector<uint32_t>& out) const {
   auto& cache = cache_.local();
-  auto hit = cache.find(std::string(unit));
+  auto hit = cache.find(unit);
   if (hit != cache.end()) {
     out.insert(out.end(), hit->second.begin(), hit->second.end());
     return;

@@ -50,7 +50,12 @@ class Encoder {
   const Vocabulary& v_;
   size_t merges_;
   std::unordered_map<uint64_t, std::pair<uint32_t, uint32_t>> rank_;  // pair -> (rank, result)
-  mutable tbb::enumerable_thread_specific<std::unordered_map<std::string, std::vector<uint32_t>>> cache_;
+  struct ViewHash {
+    using is_transparent = void;
+    size_t operator()(std::string_view s) const { return std::hash<std::string_view>{}(s); }
+  };
+  using Cache = std::unordered_map<std::string, std::vector<uint32_t>, ViewHash, std::equal_to<>>;
+  mutable tbb::enumerable_thread_specific<Cache> cache_;
 };
 
 std::string decode(const Vocabulary& v, const std::vector<uint32_t>& ids);

@@ -6,6 +6,7 @@
 #include <unicode/utf8.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cstdio>
 #include <cstring>
 #include <fstream>
@@ -13,13 +14,14 @@
 #include <unordered_map>
 
 #include "subword/merge_learner.h"
+#include "subword/unit_counter.h"
 #include "subword/units.h"
 
 namespace sheaf {
 
 namespace {
 
-using Counts = std::unordered_map<std::string, uint64_t>;
+using Counts = UnitCounter;
 
 Status count_units(const std::vector<std::string>& files, const std::vector<int>& columns, bool split_digits,
                    int threads, Counts& total) {
@@ -62,7 +64,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                   std::string_view side[2] = {line.substr(0, tab),
                                               tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
                   for (int col : columns)
-                    cut_units(side[col], split_digits, [&](std::string_view u) { ++c[std::string(u)]; });
+                    cut_units(side[col], split_digits, [&](std::string_view u) { c.add(u); });
                   if (nl == std::string_view::npos) break;
                   b.remove_prefix(nl + 1);
                 }
@@ -70,8 +72,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
               }));
     });
   }
-  for (auto& c : local)
-    for (auto& [k, v] : c) total[k] += v;
+  for (auto& c : local) total.merge(c);
   return {};
 }
 
@@ -79,11 +80,15 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
 
 Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const std::vector<int>& columns,
                                     const TrainOptions& o, TrainReport* report) {
+  auto t0 = std::chrono::steady_clock::now();
   Counts counts;
   SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
+  auto t1 = std::chrono::steady_clock::now();
   // Word types in byte order: the learner's input must not depend on hashing.
-  std::vector<std::pair<std::string, uint64_t>> types(counts.begin(), counts.end());
-  counts.clear();
+  std::vector<std::pair<std::string, uint64_t>> types;
+  types.reserve(counts.size());
+  counts.each([&](std::string_view u, uint64_t n) { types.emplace_back(std::string(u), n); });
+  counts = UnitCounter();
   std::sort(types.begin(), types.end());
 
   // Character occurrences, weighted by word counts.
@@ -174,7 +179,9 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
                                  static_cast<unsigned long long>(count));
   };
   lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
+  auto t2 = std::chrono::steady_clock::now();
   merges = learn_merges(words, lo);
+  auto t3 = std::chrono::steady_clock::now();
   if (o.progress) std::fprintf(stderr, "\r\033[K");
   for (const Merge& m : merges) v.add_merge(m.left, m.right);
   if (report) {
@@ -184,6 +191,8 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
     report->distinct_characters = by_freq.size();
     report->merges = merges.size();
     report->stopped_early = merges.size() < lo.max_merges;
+    report->count_seconds = std::chrono::duration<double>(t1 - t0).count();
+    report->merge_seconds = std::chrono::duration<double>(t3 - t2).count();
   }
   return v;
 }

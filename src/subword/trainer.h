@@ -40,6 +40,9 @@ struct TrainReport {
   uint64_t distinct_characters = 0;
   size_t merges = 0;
   bool stopped_early = false;    // ran out of pairs with min_count occurrences
+  // Wall time of counting and of the merge phase (for benchmarks; never
+  // written into an output, which must not depend on timing).
+  double count_seconds = 0, merge_seconds = 0;
 };
 
 // `columns`: {0}, {1} or {0, 1} of each TSV file.
