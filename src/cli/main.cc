@@ -213,6 +213,8 @@ int main(int argc, char** argv) {
     if (!p.ok()) return fail(p.error());
     std::signal(SIGINT, on_signal);
     std::signal(SIGTERM, on_signal);
+    // A file-size limit (ulimit -f) must surface as a write error, not kill us.
+    std::signal(SIGXFSZ, SIG_IGN);
     ro.progress = !quiet && ::isatty(STDERR_FILENO);
     auto rec = run_pipeline(*p, ro);
     if (!rec.ok()) return fail(rec.error());

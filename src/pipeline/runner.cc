@@ -14,6 +14,7 @@
 #include <thread>
 #include <unordered_set>
 
+#include "core/interrupt.h"
 #include "core/text.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
@@ -23,11 +24,6 @@
 #include "stages/stage.h"
 
 namespace sheaf {
-
-std::atomic<bool>& interrupt_requested() {
-  static std::atomic<bool> flag{false};
-  return flag;
-}
 
 namespace {
 
@@ -380,8 +376,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   PairReader& rd = *reader.value();
 
   auto first = tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
-    if (interrupt_requested().load())
-      throw ErrorException{Error(ErrorKind::kInterrupted, "interrupted; no run record was written")};
+    throw_if_interrupted();
     PairBatch* b = nullptr;
     free_batches.pop(b);
     b->pairs.clear();
@@ -458,6 +453,11 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     return failed.error();
   }
   rec.inputs = rd.inputs();
+  if (!rec.splits.empty() && rec.splits.front().second == 0)
+    return Error(ErrorKind::kData,
+                 "no pair is left in the train split after filtering (read " + std::to_string(rec.read) +
+                     ", kept " + std::to_string(rec.kept) + "); see rejected.tsv for why, and relax the filters",
+                 Location{dir->file("train.tsv"), 0, 0, {}});
   for (size_t i = 0; i < stages.size(); ++i) rec.stages[i + 1].counters = stages[i]->counters();
 
   // Learning and encoding steps after pass 1.

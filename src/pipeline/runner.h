@@ -14,6 +14,7 @@
 #include <string>
 
 #include "core/error.h"
+#include "core/interrupt.h"
 #include "pipeline/pipeline.h"
 #include "report/run_record.h"
 
@@ -28,9 +29,6 @@ struct RunOptions {
   bool progress = false;    // progress line on standard error
   size_t batch_pairs = 4096;
 };
-
-// Set by the CLI's SIGINT/SIGTERM handler; the runner stops within a batch.
-std::atomic<bool>& interrupt_requested();
 
 Result<RunRecord> run_pipeline(const Pipeline& p, const RunOptions& o);
 

@@ -11,6 +11,7 @@
 #include <sstream>
 
 #include "core/text.h"
+#include "core/batch_pool.h"
 #include "io/output_file.h"
 #include "report/html_report.h"
 #include "report/stats.h"
@@ -58,18 +59,20 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
   std::ifstream in(path, std::ios::binary);
   if (!in) return Error(ErrorKind::kIo, "cannot read split text", Location{path, 0, 0, {}});
   tbb::enumerable_thread_specific<SplitStats> local;
+  BatchPool<std::vector<std::string>> pool(static_cast<size_t>(threads) * 4);
   tbb::task_arena arena(threads);
   arena.execute([&] {
     tbb::parallel_pipeline(
-        static_cast<size_t>(threads) * 4,
+        pool.size(),
         tbb::make_filter<void, std::vector<std::string>*>(tbb::filter_mode::serial_in_order,
                                                           [&](tbb::flow_control& fc) -> std::vector<std::string>* {
-                                                            auto* b = new std::vector<std::string>;
+                                                            std::vector<std::string>* b = pool.acquire();
+                                                            b->clear();
                                                             std::string line;
                                                             while (b->size() < 4096 && std::getline(in, line))
                                                               b->push_back(std::move(line));
                                                             if (b->empty()) {
-                                                              delete b;
+                                                              pool.release(b);
                                                               fc.stop();
                                                               return nullptr;
                                                             }
@@ -83,7 +86,7 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
                                             tab == std::string::npos ? std::string_view{} : std::string_view(line).substr(tab + 1)};
                 for (int s = 0; s < 2; ++s) count_coverage(side[s], vocab[s], st.side[s]);
               }
-              delete b;
+              pool.release(b);
             }));
   });
   SplitStats total;

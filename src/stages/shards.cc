@@ -8,6 +8,8 @@
 #include <fstream>
 #include <memory>
 
+#include "core/batch_pool.h"
+#include "core/interrupt.h"
 #include "report/stats.h"
 #include "shards/shard_writer.h"
 #include "subword/codec.h"
@@ -85,21 +87,25 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
       ++index;
       return {};
     };
-    bool eof = false;
+    BatchPool<Encoded> pool(static_cast<size_t>(threads) * 4);
     tbb::task_arena arena(threads);
     try {
       arena.execute([&] {
         tbb::parallel_pipeline(
-            static_cast<size_t>(threads) * 4,
+            pool.size(),
             tbb::make_filter<void, Encoded*>(tbb::filter_mode::serial_in_order,
                                              [&](tbb::flow_control& fc) -> Encoded* {
-                                               auto* e = new Encoded;
+                                               throw_if_interrupted();
+                                               Encoded* e = pool.acquire();
+                                               e->lines.clear();
+                                               e->src.clear();
+                                               e->tgt.clear();
+                                               e->stats[0] = e->stats[1] = EncodeStats{};
                                                std::string line;
                                                while (e->lines.size() < 2048 && std::getline(file, line))
                                                  e->lines.push_back(std::move(line));
                                                if (e->lines.empty()) {
-                                                 delete e;
-                                                 eof = true;
+                                                 pool.release(e);
                                                  fc.stop();
                                                  return nullptr;
                                                }
@@ -124,7 +130,6 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                                                        return e;
                                                      }) &
                 tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
-                  std::unique_ptr<Encoded> own(e);
                   for (int s = 0; s < 2; ++s) {
                     totals[s].tokens += e->stats[s].tokens;
                     totals[s].byte_tokens += e->stats[s].byte_tokens;
@@ -136,15 +141,18 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                     writer.add(e->src[i], e->tgt[i]);
                     if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
                       Status st = flush();
-                      if (!st.ok()) throw ErrorException{st.error()};
+                      if (!st.ok()) {
+                        pool.release(e);
+                        throw ErrorException{st.error()};
+                      }
                     }
                   }
+                  pool.release(e);
                 }));
       });
     } catch (const ErrorException& e) {
       return e.error;
     }
-    (void)eof;
     if (writer.pairs() > 0 || index == 0) SHEAF_TRY(flush());
     ordered_json sj = ordered_json::object();
     for (int s = 0; s < 2; ++s) {

@@ -111,6 +111,7 @@ std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions
       if (c <= 0) count.erase(k);
     }
     if (o.progress && merges.size() % 1000 == 0) o.progress(merges.size(), static_cast<uint64_t>(current));
+    if (o.stop && merges.size() % 256 == 0 && o.stop()) break;
   }
   return merges;
 }

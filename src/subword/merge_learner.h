@@ -44,6 +44,7 @@ struct LearnOptions {
   std::function<bool(SymbolPair, SymbolPair)> before;         // default: smaller ids first
   std::function<void(size_t done, uint64_t count)> progress;  // called every 1000 merges
   std::function<void(const Merge&)> on_merge;                 // called after each merge
+  std::function<bool()> stop;                                 // asked every 256 merges: true ends learning
 };
 
 // Learns merges; `words` is rewritten in place to the merged symbols.

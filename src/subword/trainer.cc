@@ -13,6 +13,8 @@
 #include <map>
 #include <unordered_map>
 
+#include "core/batch_pool.h"
+#include "core/interrupt.h"
 #include "subword/merge_learner.h"
 #include "subword/unit_counter.h"
 #include "subword/units.h"
@@ -30,20 +32,23 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
     std::ifstream in(path, std::ios::binary);
     if (!in) return Error(ErrorKind::kIo, "cannot read split text", Location{path, 0, 0, {}});
     std::string carry;
+    BatchPool<std::string> pool(static_cast<size_t>(threads) * 4);
     tbb::task_arena arena(threads);
     arena.execute([&] {
       tbb::parallel_pipeline(
-          static_cast<size_t>(threads) * 4,
+          pool.size(),
           tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
                                                [&](tbb::flow_control& fc) -> std::string* {
-                                                 auto* block = new std::string(std::move(carry));
+                                                 throw_if_interrupted();
+                                                 std::string* block = pool.acquire();
+                                                 block->swap(carry);
                                                  carry.clear();
                                                  size_t have = block->size();
                                                  block->resize(have + (4 << 20));
                                                  in.read(block->data() + have, 4 << 20);
                                                  block->resize(have + static_cast<size_t>(in.gcount()));
                                                  if (block->empty()) {
-                                                   delete block;
+                                                   pool.release(block);
                                                    fc.stop();
                                                    return nullptr;
                                                  }
@@ -68,7 +73,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                   if (nl == std::string_view::npos) break;
                   b.remove_prefix(nl + 1);
                 }
-                delete block;
+                pool.release(block);
               }));
     });
   }
@@ -82,7 +87,11 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
                                     const TrainOptions& o, TrainReport* report) {
   auto t0 = std::chrono::steady_clock::now();
   Counts counts;
-  SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
+  try {
+    SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
+  } catch (const ErrorException& e) {
+    return e.error;
+  }
   auto t1 = std::chrono::steady_clock::now();
   // Word types in byte order: the learner's input must not depend on hashing.
   std::vector<std::pair<std::string, uint64_t>> types;
@@ -180,7 +189,9 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   };
   lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
   auto t2 = std::chrono::steady_clock::now();
+  lo.stop = [] { return interrupt_requested().load(); };
   merges = learn_merges(words, lo);
+  if (interrupt_requested().load()) return interrupted_error();
   auto t3 = std::chrono::steady_clock::now();
   if (o.progress) std::fprintf(stderr, "\r\033[K");
   for (const Merge& m : merges) v.add_merge(m.left, m.right);
