@@ -137,7 +137,8 @@ Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) 
       b.drop(p, kReadStage, std::move(oversize_reason[i]));
       continue;
     }
-    if (std::memchr(p.raw.data(), 0, p.raw.size()) || std::memchr(p.raw_target.data(), 0, p.raw_target.size())) {
+    auto has_nul = [](std::string_view v) { return !v.empty() && std::memchr(v.data(), 0, v.size()) != nullptr; };
+    if (has_nul(p.raw) || has_nul(p.raw_target)) {
       b.drop(p, kReadStage, "nul-byte");
       continue;
     }

@@ -69,7 +69,8 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   ordered_json section = {{"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")},
                           {"bos", bos}, {"eos", eos}};
   ordered_json splits = ordered_json::object();
-  for (const auto& [split, count] : rec.splits) {
+  for (const auto& entry : rec.splits) {
+    const std::string split = entry.first;  // captured below (clang 14 cannot capture bindings)
     std::ifstream file(in.dir->file(split + ".tsv"), std::ios::binary);
     if (!file) return Error(ErrorKind::kIo, "cannot read split text", Location{in.dir->file(split + ".tsv"), 0, 0, {}});
     ShardWriter writer(set);
