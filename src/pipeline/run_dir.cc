@@ -4,6 +4,7 @@
 #include <fstream>
 #include <set>
 
+#include "io/output_file.h"
 #include "report/run_record.h"
 
 namespace fs = std::filesystem;
@@ -85,6 +86,18 @@ Status RunDir::will_create(const std::string& rel) const {
   std::error_code ec;
   fs::path parent = (fs::path(dir_) / rel).parent_path();
   fs::create_directories(parent, ec);
+  return {};
+}
+
+Status write_output(const RunDir& dir, RunRecord& rec, OutputEntry entry, std::string_view bytes) {
+  SHEAF_TRY(dir.will_create(entry.path));
+  OutputFile f;
+  SHEAF_TRY(f.open(dir.file(entry.path)));
+  f.write(bytes);
+  SHEAF_TRY(f.commit());
+  entry.size = f.size();
+  entry.checksum = f.checksum();
+  rec.outputs.push_back(std::move(entry));
   return {};
 }
 

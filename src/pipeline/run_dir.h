@@ -15,6 +15,7 @@
 
 #include <cstdio>
 #include <string>
+#include <string_view>
 
 #include "core/error.h"
 
@@ -32,5 +33,13 @@ class RunDir {
  private:
   std::string dir_;
 };
+
+struct OutputEntry;
+struct RunRecord;
+
+// Writes a whole output file atomically and lists it in the run record;
+// `entry` gives its path, kind, split, side and record count (size and
+// checksum are filled in).
+Status write_output(const RunDir& dir, RunRecord& rec, OutputEntry entry, std::string_view bytes);
 
 }  // namespace sheaf

@@ -44,15 +44,10 @@ struct SplitStats {
 
 void count_coverage(std::string_view s, const Vocabulary* v, SideStats& st) {
   if (v == nullptr) return;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  while (i < n) {
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  for_each_char(s, [&](UChar32, std::string_view bytes) {
     ++st.letters;
-    st.covered += v->char_id(s.substr(static_cast<size_t>(at), static_cast<size_t>(i - at))) >= 0;
-  }
+    st.covered += v->char_id(bytes) >= 0;
+  });
 }
 
 Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int threads) {
@@ -200,21 +195,8 @@ Status write_summary(const StepInput& in, int threads) {
   if (!rec.stopped_after.empty()) j["stopped_after"] = rec.stopped_after;
 
   std::string text = j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
-  SHEAF_TRY(in.dir->will_create("summary.json"));
-  OutputFile f;
-  SHEAF_TRY(f.open(in.dir->file("summary.json")));
-  f.write(text);
-  SHEAF_TRY(f.commit());
-  rec.outputs.push_back({"summary.json", "summary", "", "", 1, f.size(), f.checksum()});
-
-  std::string html = render_report(text);
-  SHEAF_TRY(in.dir->will_create("report.html"));
-  OutputFile h;
-  SHEAF_TRY(h.open(in.dir->file("report.html")));
-  h.write(html);
-  SHEAF_TRY(h.commit());
-  rec.outputs.push_back({"report.html", "report", "", "", 1, h.size(), h.checksum()});
-  return {};
+  SHEAF_TRY(write_output(*in.dir, rec, {"summary.json", "summary", "", "", 1}, text));
+  return write_output(*in.dir, rec, {"report.html", "report", "", "", 1}, render_report(text));
 }
 
 Result<std::string> summary_text(const std::string& summary_json) {

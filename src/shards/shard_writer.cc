@@ -65,20 +65,19 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   h.flags = s_.flags;
   h.shard_index = shard_index;
   std::string body(kShardHeaderSize, '\0');
-  h.source_offsets = body.size();
-  put_offsets(body, src_, order);
-  pad(body);
-  h.source_ids = body.size();
+  // One side: its offsets, then its ids, each starting on a 64-byte boundary.
+  auto side = [&](const std::vector<std::vector<uint32_t>>& ids, uint64_t& offsets_at, uint64_t& ids_at) {
+    offsets_at = body.size();
+    put_offsets(body, ids, order);
+    pad(body);
+    ids_at = body.size();
+    put_ids(body, ids, order, s_.id_width);
+    pad(body);
+  };
+  side(src_, h.source_offsets, h.source_ids);
+  side(tgt_, h.target_offsets, h.target_ids);
   h.source_count = src_ids_;
-  put_ids(body, src_, order, s_.id_width);
-  pad(body);
-  h.target_offsets = body.size();
-  put_offsets(body, tgt_, order);
-  pad(body);
-  h.target_ids = body.size();
   h.target_count = tgt_ids_;
-  put_ids(body, tgt_, order, s_.id_width);
-  pad(body);
   h.file_size = body.size() + 8;
   h.body_crc32 = static_cast<uint32_t>(
       crc32(0, reinterpret_cast<const Bytef*>(body.data() + kShardHeaderSize), static_cast<uInt>(body.size() - kShardHeaderSize)));

@@ -195,12 +195,7 @@ Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const Stage
       v.add_merge(tk.left, tk.right);
     }
     std::string rel = "vocab." + job.side + ".txt";
-    SHEAF_TRY(in.dir->will_create(rel));
-    OutputFile f;
-    SHEAF_TRY(f.open(in.dir->file(rel)));
-    f.write(v.serialize());
-    SHEAF_TRY(f.commit());
-    rec.outputs.push_back({rel, "vocabulary", "", job.side, v.size(), f.size(), f.checksum()});
+    SHEAF_TRY(write_output(*in.dir, rec, {rel, "vocabulary", "", job.side, v.size()}, v.serialize()));
     files.push_back(rel);
 
     ordered_json sweep = ordered_json::object();

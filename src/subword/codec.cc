@@ -28,22 +28,7 @@ void Encoder::encode_unit(std::string_view unit, std::vector<uint32_t>& out) con
     return;
   }
   std::vector<uint32_t> s;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(unit.data());
-  int32_t n = static_cast<int32_t>(unit.size()), i = 0;
-  while (i < n) {
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
-    std::string_view ch = unit.substr(static_cast<size_t>(at), static_cast<size_t>(i - at));
-    int64_t id = c < 0 ? -1 : v_.char_id(ch);
-    if (id >= 0) {
-      s.push_back(static_cast<uint32_t>(id));
-    } else if (v_.info().byte_fallback) {
-      for (char b : ch) s.push_back(v_.byte_token(static_cast<uint8_t>(b)));
-    } else {
-      s.push_back(v_.special(kUnk));
-    }
-  }
+  v_.initial_symbols(unit, s);
   // Apply merges lowest rank first; each pass merges every occurrence of the
   // best pair, left to right, as learning did.
   std::vector<uint32_t> next;

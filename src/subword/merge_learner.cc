@@ -14,7 +14,8 @@ inline SymbolPair unkey(uint64_t k) { return {static_cast<uint32_t>(k >> 32), st
 }  // namespace
 
 std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions& o) {
-  auto mergeable = [&](uint32_t s) { return !o.mergeable || o.mergeable(s); };
+  const uint32_t first_mergeable = o.first_mergeable;
+  auto mergeable = [first_mergeable](uint32_t s) { return s >= first_mergeable; };
   auto before = [&](uint64_t a, uint64_t b) {
     if (o.before) return o.before(unkey(a), unkey(b));
     return a < b;
@@ -22,7 +23,8 @@ std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions
 
   std::unordered_map<uint64_t, int64_t> count;
   std::unordered_map<uint64_t, std::vector<uint32_t>> where;
-  count.reserve(words.size() * 2);
+  count.reserve(words.size() * 4);
+  where.reserve(words.size() * 4);
   for (uint32_t w = 0; w < words.size(); ++w) {
     const auto& s = words[w].symbols;
     for (size_t i = 0; i + 1 < s.size(); ++i) {

@@ -40,7 +40,7 @@ struct LearnOptions {
   size_t max_merges = 0;
   uint64_t min_count = 2;
   uint32_t first_new_id = 0;
-  std::function<bool(uint32_t)> mergeable;                    // default: every symbol
+  uint32_t first_mergeable = 0;                               // smaller ids never merge (byte tokens)
   std::function<bool(SymbolPair, SymbolPair)> before;         // default: smaller ids first
   std::function<void(size_t done, uint64_t count)> progress;  // called every 1000 merges
   std::function<void(const Merge&)> on_merge;                 // called after each merge

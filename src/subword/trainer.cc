@@ -15,6 +15,7 @@
 
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
+#include "core/text.h"
 #include "subword/merge_learner.h"
 #include "subword/unit_counter.h"
 #include "subword/units.h"
@@ -105,15 +106,11 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   uint64_t total_chars = 0, total_units = 0;
   for (const auto& [w, n] : types) {
     total_units += n;
-    const uint8_t* p = reinterpret_cast<const uint8_t*>(w.data());
-    int32_t len = static_cast<int32_t>(w.size()), i = 0;
-    while (i < len) {
-      UChar32 c;
-      U8_NEXT(p, i, len, c);
-      if (c < 0) continue;
+    for_each_char(w, [&, n = n](UChar32 c, std::string_view) {
+      if (c < 0) return;
       chars[c] += n;
       total_chars += n;
-    }
+    });
   }
   std::vector<std::pair<UChar32, uint64_t>> by_freq(chars.begin(), chars.end());
   std::sort(by_freq.begin(), by_freq.end(), [](const auto& a, const auto& b) {
@@ -146,17 +143,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   for (const auto& [w, n] : types) {
     WordType t;
     t.count = n;
-    const uint8_t* p = reinterpret_cast<const uint8_t*>(w.data());
-    int32_t len = static_cast<int32_t>(w.size()), i = 0;
-    while (i < len) {
-      int32_t at = i;
-      UChar32 c;
-      U8_NEXT(p, i, len, c);
-      int64_t id = c < 0 ? -1 : v.char_id(std::string_view(w).substr(static_cast<size_t>(at), static_cast<size_t>(i - at)));
-      if (id >= 0) t.symbols.push_back(static_cast<uint32_t>(id));
-      else
-        for (int32_t k = at; k < i; ++k) t.symbols.push_back(v.byte_token(p[k]));
-    }
+    v.initial_symbols(w, t.symbols);
     words.push_back(std::move(t));
   }
 
@@ -167,8 +154,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   lo.max_merges = o.size - fixed;
   lo.min_count = o.min_count;
   lo.first_new_id = static_cast<uint32_t>(v.size());
-  uint32_t first_char = v.first_char();
-  lo.mergeable = [first_char](uint32_t s) { return s >= first_char; };
+  lo.first_mergeable = v.first_char();
   lo.before = [&bytes](SymbolPair a, SymbolPair b) {
     const std::string &al = bytes[a.left], &ar = bytes[a.right], &bl = bytes[b.left], &br = bytes[b.right];
     // Compare al+ar with bl+br without building them.

@@ -127,6 +127,19 @@ int64_t Vocabulary::char_id(std::string_view utf8) const {
   return it == chars_.end() ? -1 : static_cast<int64_t>(it->second);
 }
 
+void Vocabulary::initial_symbols(std::string_view text, std::vector<uint32_t>& out) const {
+  for_each_char(text, [&](UChar32 c, std::string_view bytes) {
+    int64_t id = c < 0 ? -1 : char_id(bytes);
+    if (id >= 0) {
+      out.push_back(static_cast<uint32_t>(id));
+    } else if (info_.byte_fallback) {
+      for (char b : bytes) out.push_back(byte_token(static_cast<uint8_t>(b)));
+    } else {
+      out.push_back(special(kUnk));
+    }
+  });
+}
+
 namespace {
 
 std::string body_of(const Vocabulary& v) {

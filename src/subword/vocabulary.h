@@ -65,6 +65,10 @@ class Vocabulary {
   size_t merges() const { return tokens_.size() - first_merge(); }
   // Token id of a character of the alphabet (its UTF-8), or -1.
   int64_t char_id(std::string_view utf8) const;
+  // Appends the symbols a text starts from before merges: each character's
+  // token, or for a character outside the alphabet its byte tokens (the
+  // unknown token without byte fallback).
+  void initial_symbols(std::string_view text, std::vector<uint32_t>& out) const;
   const VocabularyInfo& info() const { return info_; }
   // XXH3-64 of the serialized file without its checksum line: shards record
   // it so that they are never read with another vocabulary.

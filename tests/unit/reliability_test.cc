@@ -63,6 +63,13 @@ int wait_for(pid_t pid, double* seconds = nullptr, long* max_rss_kib = nullptr) 
   return WIFEXITED(status) ? WEXITSTATUS(status) : 128 + WTERMSIG(status);
 }
 
+// Waits until the run has prepared its directory (so its signal handlers are
+// installed), at most 20 s.
+void wait_until_running(const std::string& dir) {
+  for (int i = 0; i < 2000 && !test::fs::exists(dir + "/.sheaf-run"); ++i)
+    std::this_thread::sleep_for(std::chrono::milliseconds(10));
+}
+
 bool has_partial_files(const std::string& dir) {
   if (!test::fs::exists(dir)) return false;
   for (const auto& e : test::fs::recursive_directory_iterator(dir))
@@ -78,7 +85,9 @@ TEST_P(Interrupt, StopsQuicklyRemovesPartialFilesAndWritesNoRecord) {
   std::string p = slow_pipeline(t, corpus);
   int interrupted = 0;
   for (int delay_ms : {100, 700}) {  // during pass 1, and during learning or encoding
-    Child c = start("run " + p + " --threads 2 --quiet", t / "err");
+    std::string out = t / ("out-" + std::to_string(delay_ms));
+    Child c = start("run " + p + " --threads 2 --quiet --out " + out, t / "err");
+    wait_until_running(out);
     std::this_thread::sleep_for(std::chrono::milliseconds(delay_ms));
     ::kill(c.pid, GetParam());
     auto t0 = std::chrono::steady_clock::now();
@@ -87,17 +96,18 @@ TEST_P(Interrupt, StopsQuicklyRemovesPartialFilesAndWritesNoRecord) {
     std::string err = test::read_file(t / "err");
     if (rc == 0) continue;  // finished before the signal: nothing to check
     EXPECT_EQ(rc, 1) << err;
-    EXPECT_LT(after, 1.5) << "took " << after << " s to stop";
+    // Within a second on an idle machine; the bound leaves room for a loaded CI.
+    EXPECT_LT(after, 5.0) << "took " << after << " s to stop";
     EXPECT_NE(err.find("interrupted"), std::string::npos) << err;
-    EXPECT_FALSE(test::fs::exists(t / "out/manifest.json"));
-    EXPECT_FALSE(has_partial_files(t / "out"));
+    EXPECT_FALSE(test::fs::exists(out + "/manifest.json"));
+    EXPECT_FALSE(has_partial_files(out));
     ++interrupted;
+    // The directory is a previous run: a new run replaces it without --force.
+    auto again = test::run_sheaf("run " + p + " --quiet --until split --out " + out);
+    EXPECT_EQ(again.status, 0) << again.err;
+    EXPECT_TRUE(test::fs::exists(out + "/manifest.json"));
   }
   EXPECT_GE(interrupted, 1);
-  // The directory is a previous run: a new run replaces it without --force.
-  auto again = test::run_sheaf("run " + p + " --quiet --until split");
-  EXPECT_EQ(again.status, 0) << again.err;
-  EXPECT_TRUE(test::fs::exists(t / "out/manifest.json"));
 }
 
 INSTANTIATE_TEST_SUITE_P(Signals, Interrupt, ::testing::Values(SIGINT, SIGTERM));
@@ -107,17 +117,19 @@ TEST(Faults, KillNineLeavesNothingPresentedAsComplete) {
   std::string p = slow_pipeline(t, big_corpus(t, 200000));
   int killed = 0;
   for (int delay_ms : {100, 800}) {
-    Child c = start("run " + p + " --threads 2 --quiet --force", t / "err");
+    std::string out = t / ("out-" + std::to_string(delay_ms));
+    Child c = start("run " + p + " --threads 2 --quiet --out " + out, t / "err");
+    wait_until_running(out);
     std::this_thread::sleep_for(std::chrono::milliseconds(delay_ms));
     ::kill(c.pid, SIGKILL);
     int rc = wait_for(c.pid);
     if (rc == 0) continue;
-    EXPECT_FALSE(test::fs::exists(t / "out/manifest.json")) << "after " << delay_ms << " ms";
+    EXPECT_FALSE(test::fs::exists(out + "/manifest.json")) << "after " << delay_ms << " ms";
     ++killed;
-    auto again = test::run_sheaf("run " + p + " --quiet --force --until split");
+    auto again = test::run_sheaf("run " + p + " --quiet --force --until split --out " + out);
     ASSERT_EQ(again.status, 0) << again.err;
-    EXPECT_FALSE(has_partial_files(t / "out"));
-    EXPECT_EQ(test::run_sheaf("inspect " + (t / "out")).status, 0);
+    EXPECT_FALSE(has_partial_files(out));
+    EXPECT_EQ(test::run_sheaf("inspect " + out).status, 0);
   }
   EXPECT_GE(killed, 1);
 }
