@@ -69,6 +69,8 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   ordered_json section = {{"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")},
                           {"bos", bos}, {"eos", eos}};
   ordered_json splits = ordered_json::object();
+  // Which tokens the train split uses, per side, for "unused_in_train".
+  std::vector<bool> used[2] = {std::vector<bool>(vs.size(), false), std::vector<bool>(vt.size(), false)};
   for (const auto& entry : rec.splits) {
     const std::string split = entry.first;  // captured below (clang 14 cannot capture bindings)
     std::ifstream file(in.dir->file(split + ".tsv"), std::ios::binary);
@@ -137,6 +139,10 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                     totals[s].unknown += e->stats[s].unknown;
                   }
                   for (size_t i = 0; i < e->src.size(); ++i) {
+                    if (split == "train") {
+                      for (uint32_t id : e->src[i]) used[0][id] = true;
+                      for (uint32_t id : e->tgt[i]) used[1][id] = true;
+                    }
                     tokens[0].add(e->src[i].size());
                     tokens[1].add(e->tgt[i].size());
                     writer.add(e->src[i], e->tgt[i]);
@@ -171,6 +177,19 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
     splits[split] = sj;
   }
   section["tokens"] = splits;
+  // Tokens (other than special and byte tokens) that no train sentence uses.
+  auto unused = [](const Vocabulary& v, const std::vector<bool>& u) {
+    uint64_t n = 0;
+    for (uint32_t id = v.first_char(); id < v.size(); ++id) n += !u[id];
+    return n;
+  };
+  if (vocab_files.size() > 1) {
+    section["unused_in_train"] = {{"source", unused(vs, used[0])}, {"target", unused(vt, used[1])}};
+  } else {
+    std::vector<bool> both(vs.size());
+    for (size_t i = 0; i < both.size(); ++i) both[i] = used[0][i] || used[1][i];
+    section["unused_in_train"] = {{"shared", unused(vs, both)}};
+  }
   rec.sections.emplace_back("shards", section.dump());
   return {};
 }

@@ -179,6 +179,11 @@ TEST_F(DemoRun, SummaryAgreesWithWcAndFileSizes) {
   ASSERT_TRUE(s.contains("vocabulary"));
   EXPECT_EQ(s["vocabulary"]["vocabularies"][0]["sweep"]["source"].size(), 4u);
   EXPECT_TRUE(s["vocabulary"]["alphabet_coverage_of_other_splits"].contains("dev"));
+  // Learned on train, so every merged token comes from train text; a few may
+  // still be unused after encoding (a merge can be consumed by later merges).
+  ASSERT_TRUE(s["vocabulary"].contains("unused_in_train"));
+  uint64_t unused = s["vocabulary"]["unused_in_train"]["shared"].get<uint64_t>();
+  EXPECT_LT(unused, 1200u - 260u);
 }
 
 TEST_F(DemoRun, StatsPrintsTheSummaryAgain) {
