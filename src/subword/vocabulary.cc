@@ -260,10 +260,11 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     } else {
       if (f.size() != 4) return fail(ln + 1, "a merged token needs LEFT+RIGHT");
       size_t plus = f[3].find('+');
+      if (plus == std::string_view::npos) return fail(ln + 1, "a merged token needs LEFT+RIGHT");
       uint64_t a = 0, b = 0;
       auto ra = std::from_chars(f[3].data(), f[3].data() + plus, a);
       auto rb = std::from_chars(f[3].data() + plus + 1, f[3].data() + f[3].size(), b);
-      if (plus == std::string_view::npos || ra.ec != std::errc() || rb.ec != std::errc() || a >= id || b >= id || a < 4 || b < 4)
+      if (ra.ec != std::errc() || rb.ec != std::errc() || a >= id || b >= id || a < 4 || b < 4)
         return fail(ln + 1, "a merged token must join two earlier tokens");
       merges.emplace_back(static_cast<uint32_t>(a), static_cast<uint32_t>(b));
       (void)bytes;
