@@ -114,6 +114,20 @@ const uint8_t* word_classes() {
   return table.data();
 }
 
+// The class of the code point at p[i], advancing i; kOther for anything the
+// fast path leaves to ICU (including ill-formed UTF-8 and supplementary
+// planes).
+inline uint8_t class_at(const uint8_t* table, const uint8_t* p, int32_t n, int32_t& i) {
+  UChar32 c;
+  if (p[i] < 0x80) {
+    c = p[i++];
+  } else {
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || c > 0xFFFF) return kOther;
+  }
+  return table[c];
+}
+
 // Classes of every code point of `s` with their byte offsets; false if a
 // character needs ICU.
 bool classify_simple(std::string_view s, std::vector<std::pair<uint32_t, uint8_t>>& out) {
@@ -123,14 +137,7 @@ bool classify_simple(std::string_view s, std::vector<std::pair<uint32_t, uint8_t
   out.clear();
   while (i < n) {
     int32_t at = i;
-    UChar32 c;
-    if (p[i] < 0x80) {
-      c = p[i++];
-    } else {
-      U8_NEXT(p, i, n, c);
-      if (c < 0 || c > 0xFFFF) return false;
-    }
-    uint8_t k = table[c];
+    uint8_t k = class_at(table, p, n, i);
     if (k == kOther) return false;
     out.emplace_back(static_cast<uint32_t>(at), k);
   }
@@ -207,19 +214,6 @@ void cut_words_reference(std::string_view s, const std::function<void(size_t, si
 
 namespace {
 
-// The class of the code point at p[i], advancing i; kOther for anything the
-// fast path leaves to ICU (including ill-formed UTF-8 and supplementary
-// planes).
-inline uint8_t class_at(const uint8_t* table, const uint8_t* p, int32_t n, int32_t& i) {
-  UChar32 c;
-  if (p[i] < 0x80) {
-    c = p[i++];
-  } else {
-    U8_NEXT(p, i, n, c);
-    if (c < 0 || c > 0xFFFF) return kOther;
-  }
-  return table[c];
-}
 
 // Counts words in one pass without storing classes; false if the text needs
 // ICU. Same rules as segment_simple.
