@@ -104,6 +104,9 @@ const uint8_t* word_classes() {
       else if (wb == U_WB_MIDNUMLET || wb == U_WB_SINGLE_QUOTE) k = kMidNumLet;
       else if (wb == U_WB_MIDNUM) k = kMidNum;
       else if (wb == U_WB_EXTENDNUMLET) k = kExtendNumLet;
+      // Double_Quote joins only between Hebrew letters (WB7b, WB7c), which
+      // send text to ICU; anywhere else it is a segment of its own (WB999).
+      else if (wb == U_WB_DOUBLE_QUOTE) k = kPunct;
       else if (wb == U_WB_OTHER && (gc & (U_GC_P_MASK | U_GC_S_MASK)) && !u_hasBinaryProperty(c, UCHAR_EXTENDED_PICTOGRAPHIC) &&
                !u_hasBinaryProperty(c, UCHAR_IDEOGRAPHIC))
         k = kPunct;
@@ -208,6 +211,56 @@ void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool
     return;
   }
   cut_words_icu(s, fn);
+}
+
+namespace {
+
+// segment_simple's rules on ASCII bytes, with no decoding and no class
+// vector.
+// False (and `ends` as it was) if a character needs ICU.
+bool segment_ascii(std::string_view s, std::vector<uint32_t>& ends) {
+  const uint8_t* table = word_classes();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  size_t n = s.size(), i = 0, had = ends.size();
+  auto wordish = [](uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; };
+  while (i < n) {
+    uint8_t c = table[p[i]];
+    if (c == kOther) {  // controls
+      ends.resize(had);
+      return false;
+    }
+    if (c == kSpace) {
+      while (i < n && p[i] == ' ') ++i;
+    } else if (wordish(c)) {
+      uint8_t prev = c;
+      ++i;
+      for (;;) {
+        while (i < n && wordish(table[p[i]])) prev = table[p[i++]];
+        if (i + 1 >= n) break;
+        uint8_t d = table[p[i]], e = table[p[i + 1]];
+        bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
+                    (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
+        if (!join) break;
+        prev = e;
+        i += 2;
+      }
+    } else {
+      ++i;
+    }
+    ends.push_back(static_cast<uint32_t>(i));
+  }
+  return true;
+}
+
+}  // namespace
+
+void word_segment_ends(std::string_view s, std::vector<uint32_t>& ends) {
+  if (is_ascii(s) && segment_ascii(s, ends)) return;
+  if (classify_simple(s, t_classes)) {
+    segment_simple(s, t_classes, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
+    return;
+  }
+  cut_words_icu(s, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
 }
 
 void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) { cut_words_icu(s, fn); }

@@ -4,7 +4,7 @@
 // alphabet token or, if it is not in the alphabet, into its UTF-8 byte tokens
 // (or the unknown token when byte fallback is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
-// cached. decode() concatenates the bytes of the tokens, skipping special
+// cached per thread. decode() concatenates the bytes of the tokens, skipping special
 // tokens, so decode(encode(x)) == x for every valid UTF-8 x when byte
 // fallback is on.
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
@@ -17,9 +17,9 @@
 
 #include <string>
 #include <string_view>
-#include <unordered_map>
 #include <vector>
 
+#include "subword/pair_map.h"
 #include "subword/vocabulary.h"
 
 namespace sheaf {
@@ -46,16 +46,36 @@ class Encoder {
   size_t effective_size() const { return v_.first_merge() + merges_; }
 
  private:
-  void encode_unit(std::string_view unit, std::vector<uint32_t>& out) const;
+  struct Rank {
+    uint32_t rank, result;
+  };
+  // Encoded units of one thread: a flat table keyed by the unit's XXH3-64,
+  // bytes and ids in two arenas; emptied when full.
+  class UnitCache {
+   public:
+    // The ids of `unit`, or nullptr.
+    const uint32_t* find(std::string_view unit, uint64_t hash, uint32_t& n) const;
+    void add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n);
+
+   private:
+    struct Slot {
+      uint64_t hash;
+      uint32_t bytes_at, bytes_len, ids_at, ids_len;
+    };
+    std::vector<Slot> slots_;
+    std::string bytes_;
+    std::vector<uint32_t> ids_;
+    size_t size_ = 0;
+  };
+  struct Scratch {
+    UnitCache cache;
+    std::vector<uint32_t> ends, symbols, next;
+  };
+  void encode_unit(std::string_view unit, Scratch& s) const;
   const Vocabulary& v_;
   size_t merges_;
-  std::unordered_map<uint64_t, std::pair<uint32_t, uint32_t>> rank_;  // pair -> (rank, result)
-  struct ViewHash {
-    using is_transparent = void;
-    size_t operator()(std::string_view s) const { return std::hash<std::string_view>{}(s); }
-  };
-  using Cache = std::unordered_map<std::string, std::vector<uint32_t>, ViewHash, std::equal_to<>>;
-  mutable tbb::enumerable_thread_specific<Cache> cache_;
+  PairMap<Rank> rank_;
+  mutable tbb::enumerable_thread_specific<Scratch> scratch_;
 };
 
 std::string decode(const Vocabulary& v, const std::vector<uint32_t>& ids);

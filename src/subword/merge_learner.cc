@@ -1,121 +1,208 @@
 #include "subword/merge_learner.h"
 
 #include <algorithm>
-#include <queue>
-#include <unordered_map>
+
+#include "subword/pair_map.h"
 
 namespace sheaf {
 
+void WordList::add(std::span<const uint32_t> symbols, uint64_t count) {
+  counts_.push_back(count);
+  offsets_.push_back(symbols_.size());
+  lengths_.push_back(static_cast<uint32_t>(symbols.size()));
+  symbols_.insert(symbols_.end(), symbols.begin(), symbols.end());
+}
+
 namespace {
 
-inline uint64_t key(uint32_t a, uint32_t b) { return (static_cast<uint64_t>(a) << 32) | b; }
+inline uint64_t key(uint32_t a, uint32_t b) { return pair_key(a, b); }
 inline SymbolPair unkey(uint64_t k) { return {static_cast<uint32_t>(k >> 32), static_cast<uint32_t>(k)}; }
+
+// A pair's count and the index of its list of holder words.
+struct PairInfo {
+  int64_t count;
+  uint32_t list;
+};
+using PairTable = PairMap<PairInfo>;
+
+struct Entry {
+  int64_t count;
+  uint64_t pair;
+};
+
+// Heap order: higher counts first, then the pair that the tie rule puts first.
+struct Worse {
+  const LearnOptions* o;
+  bool operator()(const Entry& a, const Entry& b) const {
+    if (a.count != b.count) return a.count < b.count;
+    if (o->before) return o->before(unkey(b.pair), unkey(a.pair));
+    return b.pair < a.pair;
+  }
+};
+
+// The learner's state: pair counts, holder lists, the heap.
+class Learner {
+ public:
+  Learner(WordList& words, const LearnOptions& o) : words_(words), o_(o), min_(static_cast<int64_t>(o.min_count)) {
+    if (min_ < 1) min_ = 1;
+  }
+
+  std::vector<Merge> run() {
+    count_initial_pairs();
+    std::vector<Merge> merges;
+    uint32_t next_id = o_.first_new_id;
+    while (merges.size() < o_.max_merges && !heap_.empty()) {
+      std::pop_heap(heap_.begin(), heap_.end(), Worse{&o_});
+      Entry top = heap_.back();
+      heap_.pop_back();
+      PairTable::Slot* slot = pairs_.find(top.pair);
+      if (slot == nullptr) continue;  // fell below min_count
+      if (slot->value.count != top.count) {  // stale: counts only fall, so queue the pair again
+        push(slot->value.count, top.pair);
+        continue;
+      }
+      SymbolPair pr = unkey(top.pair);
+      uint32_t z = next_id++;
+      merges.push_back({pr.left, pr.right, z, static_cast<uint64_t>(top.count)});
+      if (o_.on_merge) o_.on_merge(merges.back());
+      std::vector<uint32_t> holders = std::move(lists_[slot->value.list]);
+      release_list(slot->value.list);
+      pairs_.erase(slot);
+      fresh_.clear();
+      for (uint32_t w : holders) merge_in_word(w, pr.left, pr.right, z);
+      // Pairs made by this merge are complete now: keep those that could
+      // still be merged.
+      for (uint64_t k : fresh_) {
+        PairTable::Slot* s = pairs_.find(k);
+        if (s->value.count < min_) {
+          release_list(s->value.list);
+          pairs_.erase(s);
+        } else {
+          push(s->value.count, k);
+        }
+      }
+      if (o_.progress && merges.size() % 1000 == 0) o_.progress(merges.size(), static_cast<uint64_t>(top.count));
+      if (o_.stop && merges.size() % 256 == 0 && o_.stop()) break;
+    }
+    return merges;
+  }
+
+ private:
+  bool mergeable(uint32_t s) const { return s >= o_.first_mergeable; }
+
+  void push(int64_t count, uint64_t k) {
+    heap_.push_back({count, k});
+    std::push_heap(heap_.begin(), heap_.end(), Worse{&o_});
+  }
+
+  uint32_t new_list() {
+    if (!free_lists_.empty()) {
+      uint32_t i = free_lists_.back();
+      free_lists_.pop_back();
+      return i;
+    }
+    lists_.emplace_back();
+    return static_cast<uint32_t>(lists_.size() - 1);
+  }
+  void release_list(uint32_t i) {
+    std::vector<uint32_t>().swap(lists_[i]);
+    free_lists_.push_back(i);
+  }
+
+  // Adds `c` occurrences of pair k held by word w; records pairs it creates
+  // in fresh_ when `track` is set.
+  void add(uint64_t k, int64_t c, uint32_t w, bool track) {
+    bool created;
+    PairTable::Slot* s = pairs_.insert(k, created);
+    if (created) {
+      s->value.list = new_list();
+      if (track) fresh_.push_back(k);
+    }
+    s->value.count += c;
+    auto& list = lists_[s->value.list];
+    if (list.empty() || list.back() != w) list.push_back(w);
+  }
+  void remove(uint64_t k, int64_t c) {
+    PairTable::Slot* s = pairs_.find(k);
+    if (s == nullptr) return;  // already forgotten: below min_count
+    s->value.count -= c;
+    if (s->value.count < min_) {
+      release_list(s->value.list);
+      pairs_.erase(s);
+    }
+  }
+
+  void count_initial_pairs() {
+    for (uint32_t w = 0; w < words_.size(); ++w) {
+      auto s = words_.word(w);
+      int64_t c = static_cast<int64_t>(words_.count(w));
+      for (size_t i = 0; i + 1 < s.size(); ++i)
+        if (mergeable(s[i]) && mergeable(s[i + 1])) add(key(s[i], s[i + 1]), c, w, false);
+    }
+    std::vector<uint64_t> rare;
+    pairs_.each([&](PairTable::Slot& s) {
+      if (s.value.count < min_) rare.push_back(s.key);
+      else heap_.push_back({s.value.count, s.key});
+    });
+    for (uint64_t k : rare) {
+      PairTable::Slot* s = pairs_.find(k);
+      release_list(s->value.list);
+      pairs_.erase(s);
+    }
+    std::make_heap(heap_.begin(), heap_.end(), Worse{&o_});
+  }
+
+  // Replaces the occurrences of (a, b) in word w by z, left to right, and
+  // updates the counts of the pairs next to each occurrence only.
+  void merge_in_word(uint32_t w, uint32_t a, uint32_t b, uint32_t z) {
+    std::span<uint32_t> s = words_.word(w);
+    size_t n = s.size(), first = 0;
+    while (first + 1 < n && !(s[first] == a && s[first + 1] == b)) ++first;
+    if (first + 1 >= n) return;  // an entry left from before an earlier merge changed the word
+    old_.assign(s.begin(), s.end());
+    merged_old_.assign(n, 0);
+    merged_new_.assign(n, 0);
+    size_t m = first;
+    for (size_t r = first; r < n;) {
+      if (r + 1 < n && old_[r] == a && old_[r + 1] == b) {
+        merged_old_[r] = merged_old_[r + 1] = 1;
+        merged_new_[m] = 1;
+        s[m++] = z;
+        r += 2;
+      } else {
+        s[m++] = old_[r++];
+      }
+    }
+    words_.set_length(w, static_cast<uint32_t>(m));
+    int64_t c = static_cast<int64_t>(words_.count(w));
+    uint64_t ab = key(a, b);
+    // Pairs of the old word that touch an occurrence are gone...
+    for (size_t j = first > 0 ? first - 1 : 0; j + 1 < n; ++j) {
+      if (!(merged_old_[j] | merged_old_[j + 1])) continue;
+      uint64_t k = key(old_[j], old_[j + 1]);
+      if (k != ab && mergeable(old_[j]) && mergeable(old_[j + 1])) remove(k, c);
+    }
+    // ...and the new word's pairs that touch z are new.
+    for (size_t j = first > 0 ? first - 1 : 0; j + 1 < m; ++j) {
+      if (!(merged_new_[j] | merged_new_[j + 1])) continue;
+      if (mergeable(s[j]) && mergeable(s[j + 1])) add(key(s[j], s[j + 1]), c, w, true);
+    }
+  }
+
+  WordList& words_;
+  const LearnOptions& o_;
+  int64_t min_;
+  PairTable pairs_;
+  std::vector<std::vector<uint32_t>> lists_;
+  std::vector<uint32_t> free_lists_;
+  std::vector<Entry> heap_;
+  std::vector<uint64_t> fresh_;
+  std::vector<uint32_t> old_;
+  std::vector<uint8_t> merged_old_, merged_new_;
+};
 
 }  // namespace
 
-std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions& o) {
-  const uint32_t first_mergeable = o.first_mergeable;
-  auto mergeable = [first_mergeable](uint32_t s) { return s >= first_mergeable; };
-  auto before = [&](uint64_t a, uint64_t b) {
-    if (o.before) return o.before(unkey(a), unkey(b));
-    return a < b;
-  };
-
-  std::unordered_map<uint64_t, int64_t> count;
-  std::unordered_map<uint64_t, std::vector<uint32_t>> where;
-  count.reserve(words.size() * 4);
-  where.reserve(words.size() * 4);
-  for (uint32_t w = 0; w < words.size(); ++w) {
-    const auto& s = words[w].symbols;
-    for (size_t i = 0; i + 1 < s.size(); ++i) {
-      if (!mergeable(s[i]) || !mergeable(s[i + 1])) continue;
-      uint64_t k = key(s[i], s[i + 1]);
-      count[k] += static_cast<int64_t>(words[w].count);
-      auto& v = where[k];
-      if (v.empty() || v.back() != w) v.push_back(w);
-    }
-  }
-
-  struct Entry {
-    int64_t count;
-    uint64_t pair;
-  };
-  auto worse = [&](const Entry& a, const Entry& b) {
-    if (a.count != b.count) return a.count < b.count;
-    return before(b.pair, a.pair);  // the pair that comes first is better
-  };
-  std::priority_queue<Entry, std::vector<Entry>, decltype(worse)> heap(worse);
-  for (const auto& [k, c] : count) heap.push({c, k});
-
-  std::vector<Merge> merges;
-  std::vector<uint32_t> fresh;
-  std::unordered_map<uint64_t, int64_t> delta;
-  uint32_t next_id = o.first_new_id;
-  while (merges.size() < o.max_merges && !heap.empty()) {
-    Entry top = heap.top();
-    heap.pop();
-    auto it = count.find(top.pair);
-    int64_t current = it == count.end() ? 0 : it->second;
-    if (current != top.count) {  // stale: counts only fall, so re-queue
-      if (current > 0) heap.push({current, top.pair});
-      continue;
-    }
-    if (current <= 0 || static_cast<uint64_t>(current) < o.min_count) break;
-    SymbolPair pr = unkey(top.pair);
-    uint32_t z = next_id++;
-    merges.push_back({pr.left, pr.right, z, static_cast<uint64_t>(current)});
-    if (o.on_merge) o.on_merge(merges.back());
-
-    std::vector<uint32_t> holders = std::move(where[top.pair]);
-    where.erase(top.pair);
-    delta.clear();
-    for (uint32_t w : holders) {
-      auto& s = words[w].symbols;
-      int64_t c = static_cast<int64_t>(words[w].count);
-      bool has = false;
-      for (size_t i = 0; i + 1 < s.size(); ++i)
-        if (s[i] == pr.left && s[i + 1] == pr.right) {
-          has = true;
-          break;
-        }
-      if (!has) continue;  // a stale entry of the index
-      for (size_t i = 0; i + 1 < s.size(); ++i)
-        if (mergeable(s[i]) && mergeable(s[i + 1])) delta[key(s[i], s[i + 1])] -= c;
-      fresh.clear();
-      for (size_t i = 0; i < s.size();) {
-        if (i + 1 < s.size() && s[i] == pr.left && s[i + 1] == pr.right) {
-          fresh.push_back(z);
-          i += 2;
-        } else {
-          fresh.push_back(s[i]);
-          ++i;
-        }
-      }
-      s.swap(fresh);
-      for (size_t i = 0; i + 1 < s.size(); ++i) {
-        if (!mergeable(s[i]) || !mergeable(s[i + 1])) continue;
-        uint64_t k = key(s[i], s[i + 1]);
-        delta[k] += c;
-        if (s[i] == z || s[i + 1] == z) {
-          auto& v = where[k];
-          if (v.empty() || v.back() != w) v.push_back(w);
-        }
-      }
-    }
-    // Apply the changes in a fixed order (the map's order must not matter).
-    std::vector<std::pair<uint64_t, int64_t>> changes(delta.begin(), delta.end());
-    std::sort(changes.begin(), changes.end());
-    for (const auto& [k, d] : changes) {
-      if (d == 0) continue;
-      int64_t& c = count[k];
-      c += d;
-      if (d > 0) heap.push({c, k});  // only pairs with the new symbol grow
-      if (c <= 0) count.erase(k);
-    }
-    if (o.progress && merges.size() % 1000 == 0) o.progress(merges.size(), static_cast<uint64_t>(current));
-    if (o.stop && merges.size() % 256 == 0 && o.stop()) break;
-  }
-  return merges;
-}
+std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o) { return Learner(words, o).run(); }
 
 }  // namespace sheaf

@@ -6,9 +6,14 @@
 // Each step merges the most frequent adjacent pair of mergeable symbols into
 // a new symbol (ids first_new_id, first_new_id + 1, ...), replacing its
 // non-overlapping occurrences left to right in every word. It is incremental:
-// pair counts, an index from each pair to the words holding it, and a
-// priority queue with lazy invalidation, so a step touches only the words
-// that hold the merged pair.
+// pair counts in a flat table, an index from each pair to the words holding
+// it, and a heap with lazy invalidation, so a step touches only the words
+// that hold the merged pair, and in them only the pairs next to a merged
+// occurrence.
+// A pair that occurs fewer than `min_count` times can never be merged (an
+// existing pair's count only falls; a pair is created only by the merge that
+// makes its newer symbol), so such pairs are forgotten at once: they cost no
+// index, no heap entry and no memory afterwards.
 // Ties between pairs of equal count go to the pair for which `before(a, b)`
 // is true (a strict weak order on pairs); the vocabulary uses the byte order
 // of the merged tokens (docs/vocabulary-format.md). Learning stops after
@@ -18,13 +23,33 @@
 
 #include <cstdint>
 #include <functional>
+#include <span>
 #include <vector>
 
 namespace sheaf {
 
-struct WordType {
-  std::vector<uint32_t> symbols;
-  uint64_t count = 0;
+// Word types with their counts, symbols stored back to back (one allocation
+// for millions of short words). Learning shortens words in place.
+class WordList {
+ public:
+  void add(std::span<const uint32_t> symbols, uint64_t count);
+  size_t size() const { return counts_.size(); }
+  uint64_t count(size_t w) const { return counts_[w]; }
+  std::span<const uint32_t> word(size_t w) const { return {symbols_.data() + offsets_[w], lengths_[w]}; }
+  std::span<uint32_t> word(size_t w) { return {symbols_.data() + offsets_[w], lengths_[w]}; }
+  void set_length(size_t w, uint32_t n) { lengths_[w] = n; }
+  void reserve(size_t words, size_t symbols) {
+    counts_.reserve(words);
+    offsets_.reserve(words);
+    lengths_.reserve(words);
+    symbols_.reserve(symbols);
+  }
+
+ private:
+  std::vector<uint32_t> symbols_;
+  std::vector<uint64_t> offsets_;
+  std::vector<uint32_t> lengths_;
+  std::vector<uint64_t> counts_;
 };
 
 struct Merge {
@@ -48,6 +73,6 @@ struct LearnOptions {
 };
 
 // Learns merges; `words` is rewritten in place to the merged symbols.
-std::vector<Merge> learn_merges(std::vector<WordType>& words, const LearnOptions& o);
+std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o);
 
 }  // namespace sheaf

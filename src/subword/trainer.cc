@@ -62,6 +62,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                                                }) &
               tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
                 Counts& c = local.local();
+                thread_local std::vector<uint32_t> ends;
                 std::string_view b(*block);
                 while (!b.empty()) {
                   size_t nl = b.find('\n');
@@ -69,8 +70,15 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                   size_t tab = line.find('\t');
                   std::string_view side[2] = {line.substr(0, tab),
                                               tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
-                  for (int col : columns)
-                    cut_units(side[col], split_digits, [&](std::string_view u) { c.add(u); });
+                  for (int col : columns) {
+                    ends.clear();
+                    unit_ends(side[col], split_digits, ends);
+                    uint32_t from = 0;
+                    for (uint32_t e : ends) {
+                      c.add(side[col].substr(from, e - from));
+                      from = e;
+                    }
+                  }
                   if (nl == std::string_view::npos) break;
                   b.remove_prefix(nl + 1);
                 }
@@ -94,25 +102,30 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
     return e.error;
   }
   auto t1 = std::chrono::steady_clock::now();
-  // Word types in byte order: the learner's input must not depend on hashing.
-  std::vector<std::pair<std::string, uint64_t>> types;
+  // Word types, as views into the counter (alive until the words are built),
+  // in the counter's order: that order depends on hashing and threads, but
+  // nothing learned depends on it (pair counts are sums; the next merge is
+  // chosen by count and then by the tie rule).
+  std::vector<std::pair<std::string_view, uint64_t>> types;
   types.reserve(counts.size());
-  counts.each([&](std::string_view u, uint64_t n) { types.emplace_back(std::string(u), n); });
-  counts = UnitCounter();
-  std::sort(types.begin(), types.end());
+  counts.each([&](std::string_view u, uint64_t n) { types.emplace_back(u, n); });
 
-  // Character occurrences, weighted by word counts.
-  std::unordered_map<UChar32, uint64_t> chars;
+  // Character occurrences, weighted by word counts: a flat table for the BMP.
+  std::vector<uint64_t> bmp(0x10000, 0);
+  std::unordered_map<UChar32, uint64_t> astral;
   uint64_t total_chars = 0, total_units = 0;
   for (const auto& [w, n] : types) {
     total_units += n;
     for_each_char(w, [&, n = n](UChar32 c, std::string_view) {
       if (c < 0) return;
-      chars[c] += n;
+      if (c < 0x10000) bmp[static_cast<size_t>(c)] += n;
+      else astral[c] += n;
       total_chars += n;
     });
   }
-  std::vector<std::pair<UChar32, uint64_t>> by_freq(chars.begin(), chars.end());
+  std::vector<std::pair<UChar32, uint64_t>> by_freq(astral.begin(), astral.end());
+  for (UChar32 c = 0; c < 0x10000; ++c)
+    if (bmp[static_cast<size_t>(c)]) by_freq.emplace_back(c, bmp[static_cast<size_t>(c)]);
   std::sort(by_freq.begin(), by_freq.end(), [](const auto& a, const auto& b) {
     return a.second != b.second ? a.second > b.second : a.first < b.first;
   });
@@ -138,14 +151,19 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
                       o.split_digits, o.byte_fallback};
   Vocabulary v = Vocabulary::build(o.specials, o.special_ids, alphabet, info);
 
-  std::vector<WordType> words;
-  words.reserve(types.size());
+  WordList words;
+  size_t type_bytes = 0;
+  for (const auto& [w, n] : types) type_bytes += w.size();
+  words.reserve(types.size(), type_bytes);
+  std::vector<uint32_t> symbols;
   for (const auto& [w, n] : types) {
-    WordType t;
-    t.count = n;
-    v.initial_symbols(w, t.symbols);
-    words.push_back(std::move(t));
+    symbols.clear();
+    v.initial_symbols(w, symbols);
+    words.add(symbols, n);
   }
+  size_t n_types = types.size();
+  types = {};
+  counts = UnitCounter();
 
   // Token bytes as they grow, for the tie-breaking rule.
   std::vector<std::string> bytes;
@@ -182,7 +200,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   if (o.progress) std::fprintf(stderr, "\r\033[K");
   for (const Merge& m : merges) v.add_merge(m.left, m.right);
   if (report) {
-    report->word_types = types.size();
+    report->word_types = n_types;
     report->word_units = total_units;
     report->characters = total_chars;
     report->distinct_characters = by_freq.size();

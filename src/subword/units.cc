@@ -9,51 +9,66 @@ namespace sheaf {
 
 namespace {
 
-// Emits `seg` (which may start with spaces) cut at every decimal digit.
-void emit_digits(std::string_view seg, const std::function<void(std::string_view)>& unit) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(seg.data());
-  int32_t n = static_cast<int32_t>(seg.size()), i = 0;
-  size_t start = 0;
+bool only_spaces(std::string_view s) { return s.find_first_not_of(' ') == std::string_view::npos; }
+
+// Cuts the unit [from, to) of `text` at every decimal digit.
+void digit_ends(std::string_view text, size_t from, size_t to, std::vector<uint32_t>& ends) {
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(to), i = static_cast<int32_t>(from);
+  size_t start = from;
   while (i < n) {
     int32_t at = i;
     UChar32 c;
     U8_NEXT(p, i, n, c);
-    if (c >= 0 && u_isdigit(c)) {
+    if (c >= 0 && (c < 0x80 ? (c >= '0' && c <= '9') : u_isdigit(c))) {
       // Everything before the digit (spaces, letters) is one unit, unless it
       // is only the spaces that lead this digit.
-      bool only_spaces = seg.substr(start, static_cast<size_t>(at) - start).find_first_not_of(' ') == std::string_view::npos;
-      if (!only_spaces) {
-        unit(seg.substr(start, static_cast<size_t>(at) - start));
+      if (!only_spaces(text.substr(start, static_cast<size_t>(at) - start))) {
+        ends.push_back(static_cast<uint32_t>(at));
         start = static_cast<size_t>(at);
       }
-      unit(seg.substr(start, static_cast<size_t>(i) - start));
+      ends.push_back(static_cast<uint32_t>(i));
       start = static_cast<size_t>(i);
     }
   }
-  if (start < seg.size()) unit(seg.substr(start));
+  if (start < to) ends.push_back(static_cast<uint32_t>(to));
 }
+
+thread_local std::vector<uint32_t> t_segments;
 
 }  // namespace
 
-void cut_units(std::string_view text, bool split_digits, const std::function<void(std::string_view)>& unit) {
-  size_t pending = 0;  // start of spaces waiting for the next segment
+void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& ends) {
+  std::vector<uint32_t>& seg = t_segments;
+  seg.clear();
+  word_segment_ends(text, seg);
+  size_t b = 0, pending = 0;  // pending: start of spaces waiting for the next segment
   bool have_pending = false;
-  cut_words(text, [&](size_t b, size_t e, bool) {
-    std::string_view seg = text.substr(b, e - b);
-    if (seg.find_first_not_of(' ') == std::string_view::npos) {
+  for (uint32_t e : seg) {
+    if (text[b] == ' ' && only_spaces(text.substr(b, e - b))) {
       if (!have_pending) {
         pending = b;
         have_pending = true;
       }
-      return;
+    } else {
+      size_t from = have_pending ? pending : b;
+      have_pending = false;
+      if (split_digits) digit_ends(text, from, e, ends);
+      else ends.push_back(e);
     }
-    size_t from = have_pending ? pending : b;
-    have_pending = false;
-    std::string_view u = text.substr(from, e - from);
-    if (split_digits) emit_digits(u, unit);
-    else unit(u);
-  });
-  if (have_pending) unit(text.substr(pending));
+    b = e;
+  }
+  if (have_pending) ends.push_back(static_cast<uint32_t>(text.size()));
+}
+
+void cut_units(std::string_view text, bool split_digits, const std::function<void(std::string_view)>& unit) {
+  std::vector<uint32_t> ends;
+  unit_ends(text, split_digits, ends);
+  uint32_t b = 0;
+  for (uint32_t e : ends) {
+    unit(text.substr(b, e - b));
+    b = e;
+  }
 }
 
 }  // namespace sheaf

@@ -11,11 +11,19 @@
 // Thread-safe.
 #pragma once
 
+#include <cstdint>
 #include <functional>
 #include <string_view>
+#include <vector>
 
 namespace sheaf {
 
+// Appends the end offset of every unit of `text` to `ends`: units tile the
+// text, so unit k is [ends[k-1], ends[k]) (ends[-1] = 0). The form for hot
+// loops: no call per unit.
+void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& ends);
+
+// Calls unit(u) for every unit, in order.
 void cut_units(std::string_view text, bool split_digits, const std::function<void(std::string_view)>& unit);
 
 }  // namespace sheaf

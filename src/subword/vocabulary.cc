@@ -109,8 +109,17 @@ Vocabulary Vocabulary::build(const std::array<std::string, 4>& specials, const s
   v.tokens_.resize(4);
   for (int s = 0; s < 4; ++s) v.tokens_[special_ids[static_cast<size_t>(s)]] = Token{TokenKind::kSpecial, specials[static_cast<size_t>(s)]};
   for (int b = 0; b < 256; ++b) v.tokens_.push_back(Token{TokenKind::kByte, std::string(1, static_cast<char>(b))});
+  v.bmp_ids_.assign(0x10000, kNoChar);
   for (const auto& c : alphabet) {
-    v.chars_[c] = static_cast<uint32_t>(v.tokens_.size());
+    // Only an entry of exactly one character can ever match one.
+    int32_t i = 0, n = static_cast<int32_t>(c.size());
+    UChar32 cp = -1;
+    if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(c.data()), i, n, cp);
+    uint32_t id = static_cast<uint32_t>(v.tokens_.size());
+    if (cp >= 0 && i == n) {
+      if (cp < 0x10000) v.bmp_ids_[static_cast<size_t>(cp)] = id;
+      else v.astral_ids_[cp] = id;
+    }
     v.tokens_.push_back(Token{TokenKind::kChar, c});
   }
   v.alphabet_size_ = alphabet.size();
@@ -123,13 +132,15 @@ uint32_t Vocabulary::add_merge(uint32_t left, uint32_t right) {
 }
 
 int64_t Vocabulary::char_id(std::string_view utf8) const {
-  auto it = chars_.find(std::string(utf8));
-  return it == chars_.end() ? -1 : static_cast<int64_t>(it->second);
+  int32_t i = 0, n = static_cast<int32_t>(utf8.size());
+  UChar32 c = -1;
+  if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(utf8.data()), i, n, c);
+  return i == n ? id_of(c) : -1;
 }
 
 void Vocabulary::initial_symbols(std::string_view text, std::vector<uint32_t>& out) const {
   for_each_char(text, [&](UChar32 c, std::string_view bytes) {
-    int64_t id = c < 0 ? -1 : char_id(bytes);
+    int64_t id = id_of(c);
     if (id >= 0) {
       out.push_back(static_cast<uint32_t>(id));
     } else if (info_.byte_fallback) {

@@ -15,6 +15,8 @@
 #include <unordered_map>
 #include <vector>
 
+#include <unicode/umachine.h>
+
 #include "core/error.h"
 
 namespace sheaf {
@@ -80,7 +82,20 @@ class Vocabulary {
   std::vector<Token> tokens_;
   std::array<uint32_t, 4> special_ids_{0, 1, 2, 3};
   size_t alphabet_size_ = 0;
-  std::unordered_map<std::string, uint32_t> chars_;
+  // Token ids of the alphabet's characters: a flat table for the BMP (the
+  // encoder looks up every character), a map above it.
+  static constexpr uint32_t kNoChar = UINT32_MAX;
+  std::vector<uint32_t> bmp_ids_;
+  std::unordered_map<UChar32, uint32_t> astral_ids_;
+  int64_t id_of(UChar32 c) const {
+    if (c < 0) return -1;
+    if (c < 0x10000) {
+      uint32_t id = bmp_ids_.empty() ? kNoChar : bmp_ids_[static_cast<size_t>(c)];
+      return id == kNoChar ? int64_t{-1} : int64_t{id};
+    }
+    auto it = astral_ids_.find(c);
+    return it == astral_ids_.end() ? -1 : static_cast<int64_t>(it->second);
+  }
   VocabularyInfo info_;
 };
 

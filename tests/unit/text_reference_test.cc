@@ -87,6 +87,10 @@ TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
     cut_words(s, [&](size_t x, size_t y, bool w) { a.emplace_back(x, y, w); });
     cut_words_reference(s, [&](size_t x, size_t y, bool w) { b.emplace_back(x, y, w); });
     ASSERT_EQ(a, b) << "text: [" << s << "]";
+    std::vector<uint32_t> ends;
+    word_segment_ends(s, ends);
+    ASSERT_EQ(ends.size(), b.size()) << s;
+    for (size_t k = 0; k < ends.size(); ++k) ASSERT_EQ(ends[k], std::get<1>(b[k])) << s;
     size_t words = 0;
     for (const auto& [x, y, w] : b) words += w;
     ASSERT_EQ(count_words(s), words) << s;
