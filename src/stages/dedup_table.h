@@ -8,6 +8,8 @@
 #include <cstdint>
 #include <vector>
 
+#include "core/huge_pages.h"
+
 namespace sheaf {
 
 template <int kWords>
@@ -53,7 +55,7 @@ class DedupTable {
     return true;
   }
   void grow() {
-    std::vector<Slot> old;
+    HugeVector<Slot> old;
     old.swap(slots_);
     slots_.assign(old.size() * 2, Slot{});
     size_t mask = slots_.size() - 1;
@@ -64,7 +66,7 @@ class DedupTable {
       slots_[i] = s;
     }
   }
-  std::vector<Slot> slots_;
+  HugeVector<Slot> slots_;
   size_t size_ = 0;
 };
 

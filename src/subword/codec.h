@@ -46,35 +46,37 @@ class Encoder {
   size_t effective_size() const { return v_.first_merge() + merges_; }
 
  private:
-  struct Rank {
-    uint32_t rank, result;
-  };
   // Encoded units of one thread: a flat table keyed by the unit's XXH3-64,
-  // bytes and ids in two arenas; emptied when full.
+  // one cache line a unit with its bytes and ids inside, so that a hit costs
+  // one memory access (prefetched by encode()). Units longer than 22 bytes
+  // or of more than 8 ids are not kept; once full, it adds nothing more.
   class UnitCache {
    public:
     // The ids of `unit`, or nullptr.
     const uint32_t* find(std::string_view unit, uint64_t hash, uint32_t& n) const;
     void add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n);
+    void prefetch(uint64_t hash) const;
 
    private:
-    struct Slot {
-      uint64_t hash;
-      uint32_t bytes_at, bytes_len, ids_at, ids_len;
+    struct alignas(64) Slot {
+      uint64_t hash;  // 0: empty (a unit whose hash is 0 is never kept)
+      uint8_t bytes_len, ids_len;
+      char bytes[22];
+      uint32_t ids[8];
     };
-    std::vector<Slot> slots_;
-    std::string bytes_;
-    std::vector<uint32_t> ids_;
+    HugeVector<Slot> slots_;
     size_t size_ = 0;
   };
   struct Scratch {
     UnitCache cache;
-    std::vector<uint32_t> ends, symbols, next;
+    std::vector<uint32_t> ends, symbols, ranks;
+    std::vector<uint64_t> hashes;
+    std::vector<uint8_t> merged;
   };
   void encode_unit(std::string_view unit, Scratch& s) const;
   const Vocabulary& v_;
   size_t merges_;
-  PairMap<Rank> rank_;
+  PairMap<uint32_t> rank_;  // pair -> rank (merge id - first merge id)
   mutable tbb::enumerable_thread_specific<Scratch> scratch_;
 };
 

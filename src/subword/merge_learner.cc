@@ -6,11 +6,14 @@
 
 namespace sheaf {
 
-void WordList::add(std::span<const uint32_t> symbols, uint64_t count) {
-  counts_.push_back(count);
-  offsets_.push_back(symbols_.size());
-  lengths_.push_back(static_cast<uint32_t>(symbols.size()));
-  symbols_.insert(symbols_.end(), symbols.begin(), symbols.end());
+bool WordList::add(std::span<const uint32_t> symbols, uint64_t count) {
+  if (store_.size() + kHeader + symbols.size() > UINT32_MAX) return false;
+  starts_.push_back(static_cast<Handle>(store_.size()));
+  store_.push_back(static_cast<uint32_t>(symbols.size()));
+  store_.push_back(static_cast<uint32_t>(count));
+  store_.push_back(static_cast<uint32_t>(count >> 32));
+  store_.insert(store_.end(), symbols.begin(), symbols.end());
+  return true;
 }
 
 namespace {
@@ -69,7 +72,12 @@ class Learner {
       release_list(slot->value.list);
       pairs_.erase(slot);
       fresh_.clear();
-      for (uint32_t w : holders) merge_in_word(w, pr.left, pr.right, z);
+      // Holder lists are in ascending order; reading ahead hides most of
+      // the cost of visiting words spread over memory.
+      for (size_t i = 0; i < holders.size(); ++i) {
+        if (i + 16 < holders.size()) __builtin_prefetch(words_.address(holders[i + 16]));
+        merge_in_word(holders[i], pr.left, pr.right, z);
+      }
       // Pairs made by this merge are complete now: keep those that could
       // still be merged.
       for (uint64_t k : fresh_) {
@@ -133,8 +141,9 @@ class Learner {
   }
 
   void count_initial_pairs() {
-    for (uint32_t w = 0; w < words_.size(); ++w) {
-      auto s = words_.word(w);
+    for (size_t i = 0; i < words_.size(); ++i) {
+      WordList::Handle w = words_.handle(i);
+      auto s = words_.symbols(w);
       int64_t c = static_cast<int64_t>(words_.count(w));
       for (size_t i = 0; i + 1 < s.size(); ++i)
         if (mergeable(s[i]) && mergeable(s[i + 1])) add(key(s[i], s[i + 1]), c, w, false);
@@ -154,8 +163,8 @@ class Learner {
 
   // Replaces the occurrences of (a, b) in word w by z, left to right, and
   // updates the counts of the pairs next to each occurrence only.
-  void merge_in_word(uint32_t w, uint32_t a, uint32_t b, uint32_t z) {
-    std::span<uint32_t> s = words_.word(w);
+  void merge_in_word(WordList::Handle w, uint32_t a, uint32_t b, uint32_t z) {
+    std::span<uint32_t> s = words_.symbols(w);
     size_t n = s.size(), first = 0;
     while (first + 1 < n && !(s[first] == a && s[first + 1] == b)) ++first;
     if (first + 1 >= n) return;  // an entry left from before an earlier merge changed the word

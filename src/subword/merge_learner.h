@@ -26,30 +26,37 @@
 #include <span>
 #include <vector>
 
+#include "core/huge_pages.h"
+
 namespace sheaf {
 
-// Word types with their counts, symbols stored back to back (one allocation
-// for millions of short words). Learning shortens words in place.
+// Word types with their counts, in one array: per word its length, its
+// count (two 32-bit halves) and its symbols, so that reading a word touches
+// one place in memory. Learning shortens words in place. A word is named by
+// its Handle (where it starts); index w = the w-th word added.
 class WordList {
  public:
-  void add(std::span<const uint32_t> symbols, uint64_t count);
-  size_t size() const { return counts_.size(); }
-  uint64_t count(size_t w) const { return counts_[w]; }
-  std::span<const uint32_t> word(size_t w) const { return {symbols_.data() + offsets_[w], lengths_[w]}; }
-  std::span<uint32_t> word(size_t w) { return {symbols_.data() + offsets_[w], lengths_[w]}; }
-  void set_length(size_t w, uint32_t n) { lengths_[w] = n; }
+  using Handle = uint32_t;
+  // False (and nothing added) when the array would pass 2^32 entries.
+  [[nodiscard]] bool add(std::span<const uint32_t> symbols, uint64_t count);
+  size_t size() const { return starts_.size(); }
+  Handle handle(size_t w) const { return starts_[w]; }
+  std::span<const uint32_t> word(size_t w) const { return symbols(starts_[w]); }
+
+  uint64_t count(Handle h) const { return static_cast<uint64_t>(store_[h + 1]) | static_cast<uint64_t>(store_[h + 2]) << 32; }
+  std::span<uint32_t> symbols(Handle h) { return {store_.data() + h + kHeader, store_[h]}; }
+  std::span<const uint32_t> symbols(Handle h) const { return {store_.data() + h + kHeader, store_[h]}; }
+  void set_length(Handle h, uint32_t n) { store_[h] = n; }
+  const uint32_t* address(Handle h) const { return store_.data() + h; }
   void reserve(size_t words, size_t symbols) {
-    counts_.reserve(words);
-    offsets_.reserve(words);
-    lengths_.reserve(words);
-    symbols_.reserve(symbols);
+    starts_.reserve(words);
+    store_.reserve(words * kHeader + symbols);
   }
 
  private:
-  std::vector<uint32_t> symbols_;
-  std::vector<uint64_t> offsets_;
-  std::vector<uint32_t> lengths_;
-  std::vector<uint64_t> counts_;
+  static constexpr uint32_t kHeader = 3;
+  HugeVector<uint32_t> store_;
+  std::vector<Handle> starts_;
 };
 
 struct Merge {

@@ -11,6 +11,8 @@
 #include <cstdint>
 #include <vector>
 
+#include "core/huge_pages.h"
+
 namespace sheaf {
 
 inline uint64_t pair_key(uint32_t left, uint32_t right) { return (static_cast<uint64_t>(left) << 32) | right; }
@@ -79,7 +81,7 @@ class PairMap {
  private:
   size_t home(uint64_t k) const { return static_cast<size_t>((k * 0x9E3779B97F4A7C15ULL) >> shift_); }
   void rehash(size_t n) {
-    std::vector<Slot> old(n, Slot{kEmpty, Value{}});
+    HugeVector<Slot> old(n, Slot{kEmpty, Value{}});
     old.swap(slots_);
     mask_ = n - 1;
     shift_ = 64 - std::countr_zero(n);
@@ -90,7 +92,7 @@ class PairMap {
       slots_[i] = s;
     }
   }
-  std::vector<Slot> slots_;
+  HugeVector<Slot> slots_;
   size_t size_ = 0, mask_ = 0;
   int shift_ = 0;
 };

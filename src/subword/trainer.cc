@@ -73,11 +73,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                   for (int col : columns) {
                     ends.clear();
                     unit_ends(side[col], split_digits, ends);
-                    uint32_t from = 0;
-                    for (uint32_t e : ends) {
-                      c.add(side[col].substr(from, e - from));
-                      from = e;
-                    }
+                    c.add_units(side[col], ends);
                   }
                   if (nl == std::string_view::npos) break;
                   b.remove_prefix(nl + 1);
@@ -159,7 +155,9 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   for (const auto& [w, n] : types) {
     symbols.clear();
     v.initial_symbols(w, symbols);
-    words.add(symbols, n);
+    if (!words.add(symbols, n))
+      return Error(ErrorKind::kData, "the " + o.side + " training text has more distinct word units than the learner can hold (" +
+                                         std::to_string(types.size()) + "); learn on a sample of the train split");
   }
   size_t n_types = types.size();
   types = {};

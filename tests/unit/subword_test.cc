@@ -35,7 +35,7 @@ struct ToyDict {
       std::vector<uint32_t> symbols;
       for (char c : w) symbols.push_back(id(std::string(1, c)));
       symbols.push_back(id("</w>"));
-      out.add(symbols, n);
+      EXPECT_TRUE(out.add(symbols, n));
     }
     return out;
   }
@@ -159,7 +159,7 @@ TEST(MergeLearner, AgreesWithANaiveLearnerOnRandomCorpora) {
       for (int i = 0; i < len; ++i) t.symbols.push_back(static_cast<uint32_t>(rng() % alphabet));
       t.count = 1 + rng() % 6;
       words.push_back(t);
-      list.add(t.symbols, t.count);
+      ASSERT_TRUE(list.add(t.symbols, t.count));
     }
     LearnOptions o;
     o.max_merges = 80;
