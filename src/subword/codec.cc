@@ -48,15 +48,7 @@ void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_
 }
 
 Encoder::Encoder(const Vocabulary& v, size_t max_merges)
-    : v_(v), merges_(std::min(max_merges, v.merges())), rank_(merges_) {
-  for (size_t r = 0; r < merges_; ++r) {
-    uint32_t id = v.first_merge() + static_cast<uint32_t>(r);
-    const Token& t = v.token(id);
-    bool created;
-    auto* slot = rank_.insert(pair_key(t.left, t.right), created);
-    if (created) slot->value = static_cast<uint32_t>(r);  // a repeated pair keeps its first rank
-  }
-}
+    : v_(v), merges_(std::min(max_merges, v.merges())), rank_(v, merges_) {}
 
 // Leaves the unit's ids in sc.symbols. Applies merges lowest rank first;
 // each step merges every occurrence of the best pair, left to right, as
@@ -68,10 +60,7 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
   std::vector<uint8_t>& merged = sc.merged;
   s.clear();
   v_.initial_symbols(unit, s);
-  auto rank_of = [&](uint32_t a, uint32_t b) {
-    const auto* slot = rank_.find(pair_key(a, b));
-    return slot == nullptr ? UINT32_MAX : slot->value;
-  };
+  auto rank_of = [&](uint32_t a, uint32_t b) { return rank_.find(a, b); };
   size_t n = s.size();
   if (n < 2) return;
   rank.resize(n);

@@ -19,7 +19,8 @@
 #include <string_view>
 #include <vector>
 
-#include "subword/pair_map.h"
+#include "core/huge_pages.h"
+#include "subword/merge_ranks.h"
 #include "subword/vocabulary.h"
 
 namespace sheaf {
@@ -76,7 +77,7 @@ class Encoder {
   void encode_unit(std::string_view unit, Scratch& s) const;
   const Vocabulary& v_;
   size_t merges_;
-  PairMap<uint32_t> rank_;  // pair -> rank (merge id - first merge id)
+  MergeRanks rank_;
   mutable tbb::enumerable_thread_specific<Scratch> scratch_;
 };
 

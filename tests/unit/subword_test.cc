@@ -11,6 +11,7 @@
 #include "stages/normalize.h"
 #include "subword/codec.h"
 #include "subword/merge_learner.h"
+#include "subword/merge_ranks.h"
 #include "subword/trainer.h"
 #include "subword/units.h"
 #include "test_util.h"
@@ -289,6 +290,95 @@ TEST(Codec, MergesApplyInOrderAndSmallerSizesArePrefixes) {
   EXPECT_EQ(none.encode(s).size(), s.size());  // one token per character
   EXPECT_EQ(some.effective_size(), v.first_merge() + 10);
   for (uint32_t id : some.encode(s)) EXPECT_LT(id, v.first_merge() + 10);
+}
+
+// A naive encoder: for each unit, find the lowest-rank pair by scanning the
+// whole sequence against a std::map, merge its occurrences left to right,
+// repeat. The fast one keeps ranks beside the symbols and caches units (hits,
+// misses, units too long to cache): the ids must be the same.
+std::vector<uint32_t> naive_encode(const Vocabulary& v, size_t merges, const std::string& text) {
+  std::map<std::pair<uint32_t, uint32_t>, uint32_t> rank;
+  for (size_t r = 0; r < merges; ++r) {
+    const Token& t = v.token(v.first_merge() + static_cast<uint32_t>(r));
+    rank.emplace(std::pair(t.left, t.right), static_cast<uint32_t>(r));
+  }
+  std::vector<uint32_t> out;
+  cut_units(text, v.info().split_digits, [&](std::string_view u) {
+    std::vector<uint32_t> s;
+    v.initial_symbols(u, s);
+    for (;;) {
+      uint32_t best = UINT32_MAX;
+      for (size_t k = 0; k + 1 < s.size(); ++k) {
+        auto it = rank.find({s[k], s[k + 1]});
+        if (it != rank.end()) best = std::min(best, it->second);
+      }
+      if (best == UINT32_MAX) break;
+      const Token& t = v.token(v.first_merge() + best);
+      std::vector<uint32_t> next;
+      for (size_t k = 0; k < s.size();) {
+        if (k + 1 < s.size() && s[k] == t.left && s[k + 1] == t.right) {
+          next.push_back(v.first_merge() + best);
+          k += 2;
+        } else {
+          next.push_back(s[k++]);
+        }
+      }
+      s = next;
+    }
+    out.insert(out.end(), s.begin(), s.end());
+  });
+  return out;
+}
+
+TEST(Codec, AgreesWithANaiveEncoder) {
+  test::TempDir t;
+  Vocabulary v = small_vocabulary(t, 600);
+  const std::vector<std::string> words = {"garden", "gardeners", "jard\u00edn", "nine", "nueve", "sunset", "semillas",
+                                          "hortelanos", "abierto", "domingo", "gardengardengardengarden",
+                                          "seedsseedsseedsseedsseeds", "aaaa", "eee", "\u0416\u0416", "10:30", "d\u2019"};
+  std::mt19937 rng(5);
+  for (size_t merges : {size_t{0}, size_t{7}, size_t{60}, v.merges()}) {
+    Encoder enc(v, merges);
+    for (int i = 0; i < 300; ++i) {
+      std::string s;
+      int n = 1 + static_cast<int>(rng() % 10);
+      for (int k = 0; k < n; ++k) s += (k ? " " : "") + words[rng() % words.size()];
+      ASSERT_EQ(enc.encode(s), naive_encode(v, merges, s)) << merges << " merges: " << s;
+    }
+  }
+}
+
+// Vocabularies of 2^21 tokens and more keep merge ranks in a wide map, smaller
+// ones in packed 64-bit slots: both must give every merge its first rank and
+// nothing else a rank.
+TEST(MergeRanks, PackedAndWideTablesAgree) {
+  Vocabulary v = Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
+  std::mt19937 rng(3);
+  uint32_t a = v.first_char(), b = a + 1, c = a + 2;
+  v.add_merge(a, b);
+  v.add_merge(a, b);  // repeated: keeps rank 0
+  while (v.size() < (size_t{1} << 21) + 10) {
+    uint32_t hi = static_cast<uint32_t>(v.size());
+    // A character on the left keeps token bytes short (about ln n of them).
+    v.add_merge(a + static_cast<uint32_t>(rng() % 3), v.first_char() + rng() % (hi - v.first_char()));
+  }
+  MergeRanks wide(v, v.merges()), packed(v, 40000);
+  EXPECT_EQ(wide.find(a, b), 0u);
+  EXPECT_EQ(packed.find(a, b), 0u);
+  EXPECT_EQ(packed.find(c, c), UINT32_MAX);
+  for (int i = 0; i < 20000; ++i) {
+    uint32_t r = static_cast<uint32_t>(rng() % v.merges());
+    const Token& t = v.token(v.first_merge() + r);
+    uint32_t w = wide.find(t.left, t.right);
+    ASSERT_LE(w, r);  // its rank, or the earlier rank of the same pair
+    const Token& first = v.token(v.first_merge() + w);
+    ASSERT_EQ(std::pair(first.left, first.right), std::pair(t.left, t.right));
+    if (r < 40000) {
+      ASSERT_EQ(packed.find(t.left, t.right), w);
+    }
+    uint32_t x = v.first_char() + static_cast<uint32_t>(rng() % 3), y = static_cast<uint32_t>(v.size() + rng() % 100);
+    ASSERT_EQ(wide.find(x, y), UINT32_MAX);
+  }
 }
 
 TEST(Codec, WithoutByteFallbackRareCharactersAreUnknown) {
