@@ -11,35 +11,44 @@
 
 namespace sheaf {
 
-void ShardWriter::add(const std::vector<uint32_t>& source, const std::vector<uint32_t>& target) {
-  src_.push_back(source);
-  tgt_.push_back(target);
-  src_ids_ += source.size();
-  tgt_ids_ += target.size();
+void ShardWriter::add(std::span<const uint32_t> source, std::span<const uint32_t> target) {
+  src_.ids.insert(src_.ids.end(), source.begin(), source.end());
+  src_.ends.push_back(src_.ids.size());
+  tgt_.ids.insert(tgt_.ids.end(), target.begin(), target.end());
+  tgt_.ends.push_back(tgt_.ids.size());
 }
 
 namespace {
 
-void put_ids(std::string& out, const std::vector<std::vector<uint32_t>>& side, const std::vector<size_t>& order,
-             uint32_t width) {
+template <typename Side>
+void put_ids(std::string& out, const Side& side, const std::vector<size_t>& order, uint32_t width) {
+  size_t at = out.size();
+  out.resize(at + side.ids.size() * width);
+  char* p = out.data() + at;
   for (size_t i : order) {
-    for (uint32_t id : side[i]) {
+    const uint32_t* ids = side.ids.data() + side.begin(i);
+    for (uint64_t k = 0, n = side.length(i); k < n; ++k) {
       if (width == 2) {
-        uint16_t v = static_cast<uint16_t>(id);
-        out.append(reinterpret_cast<const char*>(&v), 2);
+        uint16_t v = static_cast<uint16_t>(ids[k]);
+        std::memcpy(p, &v, 2);
       } else {
-        out.append(reinterpret_cast<const char*>(&id), 4);
+        std::memcpy(p, &ids[k], 4);
       }
+      p += width;
     }
   }
 }
 
-void put_offsets(std::string& out, const std::vector<std::vector<uint32_t>>& side, const std::vector<size_t>& order) {
-  uint64_t at = 0;
-  out.append(reinterpret_cast<const char*>(&at), 8);
+template <typename Side>
+void put_offsets(std::string& out, const Side& side, const std::vector<size_t>& order) {
+  size_t at = out.size();
+  out.resize(at + 8 * (order.size() + 1));
+  char* p = out.data() + at;
+  uint64_t end = 0;
+  std::memcpy(p, &end, 8);
   for (size_t i : order) {
-    at += side[i].size();
-    out.append(reinterpret_cast<const char*>(&at), 8);
+    end += side.length(i);
+    std::memcpy(p += 8, &end, 8);
   }
 }
 
@@ -48,25 +57,26 @@ void pad(std::string& out) { out.resize(align_up(out.size()), '\0'); }
 }  // namespace
 
 Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_t shard_index) {
-  std::vector<size_t> order(src_.size());
+  std::vector<size_t> order(pairs());
   std::iota(order.begin(), order.end(), 0);
   if (s_.order == kLengthOrder)
     std::stable_sort(order.begin(), order.end(), [&](size_t a, size_t b) {
-      return std::pair(src_[a].size(), tgt_[a].size()) < std::pair(src_[b].size(), tgt_[b].size());
+      return std::pair(src_.length(a), tgt_.length(a)) < std::pair(src_.length(b), tgt_.length(b));
     });
   ShardHeader h{};
   std::memcpy(h.magic, kShardMagic, 8);
   h.version = kShardFormat;
   h.id_width = s_.id_width;
-  h.pairs = src_.size();
+  h.pairs = pairs();
   h.source_vocab = s_.source_vocab;
   h.target_vocab = s_.target_vocab;
   h.order = s_.order;
   h.flags = s_.flags;
   h.shard_index = shard_index;
   std::string body(kShardHeaderSize, '\0');
+  body.reserve(kShardHeaderSize + 2 * 64 + (pairs() + 1) * 16 + id_bytes() + 8);
   // One side: its offsets, then its ids, each starting on a 64-byte boundary.
-  auto side = [&](const std::vector<std::vector<uint32_t>>& ids, uint64_t& offsets_at, uint64_t& ids_at) {
+  auto side = [&](const Side& ids, uint64_t& offsets_at, uint64_t& ids_at) {
     offsets_at = body.size();
     put_offsets(body, ids, order);
     pad(body);
@@ -76,8 +86,8 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   };
   side(src_, h.source_offsets, h.source_ids);
   side(tgt_, h.target_offsets, h.target_ids);
-  h.source_count = src_ids_;
-  h.target_count = tgt_ids_;
+  h.source_count = src_.ids.size();
+  h.target_count = tgt_.ids.size();
   h.file_size = body.size() + 8;
   h.body_crc32 = static_cast<uint32_t>(
       crc32(0, reinterpret_cast<const Bytef*>(body.data() + kShardHeaderSize), static_cast<uInt>(body.size() - kShardHeaderSize)));
@@ -92,9 +102,8 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   f.write(body);
   SHEAF_TRY(f.commit());
   Written w{f.size(), f.checksum(), h.pairs};
-  src_.clear();
-  tgt_.clear();
-  src_ids_ = tgt_ids_ = 0;
+  src_ = Side{};
+  tgt_ = Side{};
   return w;
 }
 

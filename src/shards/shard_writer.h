@@ -3,6 +3,7 @@
 // step feeds it in input order.
 #pragma once
 
+#include <span>
 #include <string>
 #include <vector>
 
@@ -22,9 +23,9 @@ class ShardWriter {
  public:
   explicit ShardWriter(ShardSettings s) : s_(s) {}
 
-  void add(const std::vector<uint32_t>& source, const std::vector<uint32_t>& target);
-  uint64_t pairs() const { return src_.size(); }
-  uint64_t id_bytes() const { return (src_ids_ + tgt_ids_) * s_.id_width; }
+  void add(std::span<const uint32_t> source, std::span<const uint32_t> target);
+  uint64_t pairs() const { return src_.ends.size(); }
+  uint64_t id_bytes() const { return (src_.ids.size() + tgt_.ids.size()) * s_.id_width; }
 
   // Writes the collected pairs to `path`; clears the writer.
   struct Written {
@@ -33,9 +34,15 @@ class ShardWriter {
   Result<Written> write(const std::string& path, uint32_t shard_index);
 
  private:
+  // One side's pairs: all ids back to back, and where each pair ends.
+  struct Side {
+    std::vector<uint32_t> ids;
+    std::vector<uint64_t> ends;
+    uint64_t begin(size_t i) const { return i == 0 ? 0 : ends[i - 1]; }
+    uint64_t length(size_t i) const { return ends[i] - begin(i); }
+  };
   ShardSettings s_;
-  std::vector<std::vector<uint32_t>> src_, tgt_;
-  uint64_t src_ids_ = 0, tgt_ids_ = 0;
+  Side src_, tgt_;
 };
 
 }  // namespace sheaf

@@ -7,9 +7,12 @@
 #include <cstdio>
 #include <fstream>
 #include <memory>
+#include <optional>
+#include <span>
 
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
+#include "io/line_blocks.h"
 #include "report/stats.h"
 #include "shards/shard_writer.h"
 #include "subword/codec.h"
@@ -36,10 +39,17 @@ namespace {
 
 using nlohmann::ordered_json;
 
+// A block of whole lines of a split file and their ids, per side: all ids
+// back to back and where each pair's ids end.
 struct Encoded {
-  std::vector<std::string> lines;
-  std::vector<std::vector<uint32_t>> src, tgt;
+  std::string text;
+  std::vector<uint32_t> ids[2];
+  std::vector<uint64_t> ends[2];
   EncodeStats stats[2];
+  std::span<const uint32_t> pair(int side, size_t i) const {
+    uint64_t b = i == 0 ? 0 : ends[side][i - 1];
+    return {ids[side].data() + b, ends[side][i] - b};
+  }
 };
 
 }  // namespace
@@ -55,7 +65,11 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   }
   const Vocabulary& vs = vocabs[0];
   const Vocabulary& vt = vocabs.size() > 1 ? vocabs[1] : vocabs[0];
-  Encoder enc_s(vs), enc_t(vt);
+  // One encoder (and one cache per thread) for both sides of a shared vocabulary.
+  Encoder enc_s(vs);
+  std::optional<Encoder> own_t;
+  if (vocabs.size() > 1) own_t.emplace(vt);
+  const Encoder& enc_t = own_t ? *own_t : enc_s;
   ShardSettings set;
   set.id_width = std::max(vs.size(), vt.size()) <= 65536 ? 2 : 4;
   set.source_vocab = vs.checksum();
@@ -74,6 +88,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   for (const auto& entry : rec.splits) {
     const std::string split = entry.first;  // captured below (clang 14 cannot capture bindings)
     std::ifstream file(in.dir->file(split + ".tsv"), std::ios::binary);
+    std::string carry;
     if (!file) return Error(ErrorKind::kIo, "cannot read split text", Location{in.dir->file(split + ".tsv"), 0, 0, {}});
     ShardWriter writer(set);
     uint32_t index = 0;
@@ -100,14 +115,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                                              [&](tbb::flow_control& fc) -> Encoded* {
                                                throw_if_interrupted();
                                                Encoded* e = pool.acquire();
-                                               e->lines.clear();
-                                               e->src.clear();
-                                               e->tgt.clear();
-                                               e->stats[0] = e->stats[1] = EncodeStats{};
-                                               std::string line;
-                                               while (e->lines.size() < 2048 && std::getline(file, line))
-                                                 e->lines.push_back(std::move(line));
-                                               if (e->lines.empty()) {
+                                               if (!read_line_block(file, e->text, carry, 1 << 20)) {
                                                  pool.release(e);
                                                  fc.stop();
                                                  return nullptr;
@@ -116,20 +124,25 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                                              }) &
                 tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel,
                                                      [&](Encoded* e) {
-                                                       e->src.resize(e->lines.size());
-                                                       e->tgt.resize(e->lines.size());
-                                                       for (size_t i = 0; i < e->lines.size(); ++i) {
-                                                         std::string_view l = e->lines[i];
-                                                         size_t tab = l.find('\t');
-                                                         auto& s = e->src[i];
-                                                         auto& t = e->tgt[i];
-                                                         if (bos) s.push_back(vs.special(kBos));
-                                                         enc_s.encode(l.substr(0, tab), s, &e->stats[0]);
-                                                         if (eos) s.push_back(vs.special(kEos));
-                                                         if (bos) t.push_back(vt.special(kBos));
-                                                         enc_t.encode(l.substr(tab + 1), t, &e->stats[1]);
-                                                         if (eos) t.push_back(vt.special(kEos));
+                                                       for (int s = 0; s < 2; ++s) {
+                                                         e->ids[s].clear();
+                                                         e->ends[s].clear();
+                                                         e->stats[s] = EncodeStats{};
                                                        }
+                                                       for_each_line(e->text, [&](std::string_view l) {
+                                                         size_t tab = l.find('\t');
+                                                         std::string_view side[2] = {
+                                                             l.substr(0, tab),
+                                                             tab == std::string_view::npos ? std::string_view{} : l.substr(tab + 1)};
+                                                         for (int s = 0; s < 2; ++s) {
+                                                           const Vocabulary& v = s == 0 ? vs : vt;
+                                                           auto& ids = e->ids[s];
+                                                           if (bos) ids.push_back(v.special(kBos));
+                                                           (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
+                                                           if (eos) ids.push_back(v.special(kEos));
+                                                           e->ends[s].push_back(ids.size());
+                                                         }
+                                                       });
                                                        return e;
                                                      }) &
                 tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
@@ -138,14 +151,15 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                     totals[s].byte_tokens += e->stats[s].byte_tokens;
                     totals[s].unknown += e->stats[s].unknown;
                   }
-                  for (size_t i = 0; i < e->src.size(); ++i) {
+                  for (size_t i = 0; i < e->ends[0].size(); ++i) {
+                    auto src = e->pair(0, i), tgt = e->pair(1, i);
                     if (split == "train") {
-                      for (uint32_t id : e->src[i]) used[0][id] = true;
-                      for (uint32_t id : e->tgt[i]) used[1][id] = true;
+                      for (uint32_t id : src) used[0][id] = true;
+                      for (uint32_t id : tgt) used[1][id] = true;
                     }
-                    tokens[0].add(e->src[i].size());
-                    tokens[1].add(e->tgt[i].size());
-                    writer.add(e->src[i], e->tgt[i]);
+                    tokens[0].add(src.size());
+                    tokens[1].add(tgt.size());
+                    writer.add(src, tgt);
                     if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
                       Status st = flush();
                       if (!st.ok()) {

@@ -16,6 +16,7 @@
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "core/text.h"
+#include "io/line_blocks.h"
 #include "subword/merge_learner.h"
 #include "subword/unit_counter.h"
 #include "subword/units.h"
@@ -42,31 +43,17 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                                                [&](tbb::flow_control& fc) -> std::string* {
                                                  throw_if_interrupted();
                                                  std::string* block = pool.acquire();
-                                                 block->swap(carry);
-                                                 carry.clear();
-                                                 size_t have = block->size();
-                                                 block->resize(have + (4 << 20));
-                                                 in.read(block->data() + have, 4 << 20);
-                                                 block->resize(have + static_cast<size_t>(in.gcount()));
-                                                 if (block->empty()) {
+                                                 if (!read_line_block(in, *block, carry, 4 << 20)) {
                                                    pool.release(block);
                                                    fc.stop();
                                                    return nullptr;
-                                                 }
-                                                 size_t nl = block->rfind('\n');
-                                                 if (in && nl != std::string::npos) {
-                                                   carry = block->substr(nl + 1);
-                                                   block->resize(nl + 1);
                                                  }
                                                  return block;
                                                }) &
               tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
                 Counts& c = local.local();
                 thread_local std::vector<uint32_t> ends;
-                std::string_view b(*block);
-                while (!b.empty()) {
-                  size_t nl = b.find('\n');
-                  std::string_view line = b.substr(0, nl);
+                for_each_line(*block, [&](std::string_view line) {
                   size_t tab = line.find('\t');
                   std::string_view side[2] = {line.substr(0, tab),
                                               tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
@@ -75,9 +62,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                     unit_ends(side[col], split_digits, ends);
                     c.add_units(side[col], ends);
                   }
-                  if (nl == std::string_view::npos) break;
-                  b.remove_prefix(nl + 1);
-                }
+                });
                 pool.release(block);
               }));
     });

@@ -1,0 +1,41 @@
+// Reading a file of lines in large blocks of whole lines, for the steps that
+// read the split files sheaf itself wrote (learning, encoding): no per-line
+// allocation, and each block can go to another thread.
+#pragma once
+
+#include <istream>
+#include <string>
+
+namespace sheaf {
+
+// Fills `block` with `carry` and then up to `bytes` more bytes of `in`, and
+// moves a last line without its newline back into `carry` unless the file has
+// ended. Returns false when there is nothing left to read.
+inline bool read_line_block(std::istream& in, std::string& block, std::string& carry, size_t bytes) {
+  block.swap(carry);
+  carry.clear();
+  size_t have = block.size();
+  block.resize(have + bytes);
+  in.read(block.data() + have, static_cast<std::streamsize>(bytes));
+  block.resize(have + static_cast<size_t>(in.gcount()));
+  if (block.empty()) return false;
+  size_t nl = block.rfind('\n');
+  if (in && nl != std::string::npos) {
+    carry.assign(block, nl + 1);
+    block.resize(nl + 1);
+  }
+  return true;
+}
+
+// Calls fn(line) for every line of a block (without its newline).
+template <typename Fn>
+void for_each_line(std::string_view block, Fn&& fn) {
+  while (!block.empty()) {
+    size_t nl = block.find('\n');
+    fn(block.substr(0, nl));
+    if (nl == std::string_view::npos) break;
+    block.remove_prefix(nl + 1);
+  }
+}
+
+}  // namespace sheaf
