@@ -1,6 +1,7 @@
 // Times the two phases of learning a vocabulary on a TSV corpus:
 //   sheaf_bench_learn corpus.tsv SIZE THREADS
 // prints: word-unit counting seconds, merge-phase seconds, word types, merges.
+// With SHEAF_BENCH_PROGRESS set, learning reports its progress on stderr.
 #include <cstdio>
 #include <cstdlib>
 
@@ -16,6 +17,7 @@ int main(int argc, char** argv) {
   o.threads = std::atoi(argv[3]);
   o.specials = {"p", "u", "b", "e"};
   o.side = "shared";
+  o.progress = std::getenv("SHEAF_BENCH_PROGRESS") != nullptr;
   sheaf::TrainReport r;
   auto v = sheaf::train_vocabulary({argv[1]}, {0, 1}, o, &r);
   if (!v.ok()) {
