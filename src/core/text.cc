@@ -215,6 +215,25 @@ void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool
 
 namespace {
 
+inline bool ascii_wordish(uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; }
+
+// The end of the word that starts at p[i] (a letter, digit or '_') in ASCII
+// text: letters, digits and '_', joined across one mid-word character
+// between two letters (WB6, WB7) or two digits (WB11, WB12).
+inline size_t ascii_word_end(const uint8_t* table, const uint8_t* p, size_t n, size_t i) {
+  uint8_t prev = table[p[i++]];
+  for (;;) {
+    while (i < n && ascii_wordish(table[p[i]])) prev = table[p[i++]];
+    if (i + 1 >= n) return i;
+    uint8_t d = table[p[i]], e = table[p[i + 1]];
+    bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
+                (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
+    if (!join) return i;
+    prev = e;
+    i += 2;
+  }
+}
+
 // segment_simple's rules on ASCII bytes, with no decoding and no class
 // vector.
 // False (and `ends` as it was) if a character needs ICU.
@@ -222,7 +241,6 @@ bool segment_ascii(std::string_view s, std::vector<uint32_t>& ends) {
   const uint8_t* table = word_classes();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   size_t n = s.size(), i = 0, had = ends.size();
-  auto wordish = [](uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; };
   while (i < n) {
     uint8_t c = table[p[i]];
     if (c == kOther) {  // controls
@@ -231,19 +249,8 @@ bool segment_ascii(std::string_view s, std::vector<uint32_t>& ends) {
     }
     if (c == kSpace) {
       while (i < n && p[i] == ' ') ++i;
-    } else if (wordish(c)) {
-      uint8_t prev = c;
-      ++i;
-      for (;;) {
-        while (i < n && wordish(table[p[i]])) prev = table[p[i++]];
-        if (i + 1 >= n) break;
-        uint8_t d = table[p[i]], e = table[p[i + 1]];
-        bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
-                    (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
-        if (!join) break;
-        prev = e;
-        i += 2;
-      }
+    } else if (ascii_wordish(c)) {
+      i = ascii_word_end(table, p, n, i);
     } else {
       ++i;
     }
@@ -314,27 +321,16 @@ bool count_words_ascii(std::string_view s, size_t& count) {
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   size_t n = s.size(), i = 0;
   count = 0;
-  auto wordish = [](uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; };
   while (i < n) {
     uint8_t c = table[p[i]];
-    if (!wordish(c)) {
+    if (!ascii_wordish(c)) {
       if (c == kOther) return false;
       ++i;
       continue;
     }
-    uint8_t first = c, prev = c;
-    size_t start = i++;
-    for (;;) {
-      while (i < n && wordish(table[p[i]])) prev = table[p[i++]];
-      if (i + 1 >= n) break;
-      uint8_t d = table[p[i]], e = table[p[i + 1]];
-      bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
-                  (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
-      if (!join) break;
-      prev = e;
-      i += 2;
-    }
-    count += !(first == kExtendNumLet && i - start == 1);
+    size_t start = i;
+    i = ascii_word_end(table, p, n, i);
+    count += !(c == kExtendNumLet && i - start == 1);
   }
   return true;
 }
