@@ -1,7 +1,12 @@
 #include "subword/merge_learner.h"
 
-#include <algorithm>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
 
+#include <algorithm>
+#include <memory>
+
+#include "core/batch_pool.h"
 #include "subword/pair_map.h"
 
 namespace sheaf {
@@ -48,6 +53,9 @@ class Learner {
  public:
   Learner(WordList& words, const LearnOptions& o) : words_(words), o_(o), min_(static_cast<int64_t>(o.min_count)) {
     if (min_ < 1) min_ = 1;
+    if (o.threads > 1) arena_ = std::make_unique<tbb::task_arena>(o.threads);
+    for (size_t i = 0; i < free_.size(); ++i) blocks_.push_back(free_.acquire());
+    for (Block* b : blocks_) free_.release(b);
   }
 
   std::vector<Merge> run() {
@@ -72,12 +80,7 @@ class Learner {
       release_list(slot->value.list);
       pairs_.erase(slot);
       fresh_.clear();
-      // Holder lists are in ascending order; reading ahead hides most of
-      // the cost of visiting words spread over memory.
-      for (size_t i = 0; i < holders.size(); ++i) {
-        if (i + 16 < holders.size()) __builtin_prefetch(words_.address(holders[i + 16]));
-        merge_in_word(holders[i], pr.left, pr.right, z);
-      }
+      merge_in_words(holders, pr.left, pr.right, z);
       // Pairs made by this merge are complete now: keep those that could
       // still be merged.
       for (uint64_t k : fresh_) {
@@ -161,25 +164,104 @@ class Learner {
     std::make_heap(heap_.begin(), heap_.end(), Worse{&o_});
   }
 
+  // A change to a pair's count found while rewriting words: `word` holds the
+  // pair now, or is kRemoved for occurrences that are gone.
+  struct Delta {
+    uint64_t pair;
+    int64_t count;
+    WordList::Handle word;
+  };
+  static constexpr WordList::Handle kRemoved = UINT32_MAX;
+  // What rewriting words needs of its own; one per block in flight.
+  struct Block {
+    size_t begin = 0, end = 0;
+    std::vector<Delta> deltas;
+    std::vector<uint32_t> old;
+    std::vector<uint8_t> merged_old, merged_new;
+  };
+  static constexpr size_t kBlockWords = 8192;
+
+  // Merges (a, b) into z in every holder word. Rewriting a word needs nothing
+  // of the pair table, so large merges run as a pipeline: blocks of words
+  // are rewritten in parallel while the count changes of earlier blocks are
+  // applied in holder order. The table sees exactly the sequence of changes
+  // of a serial run, so the result does not depend on the thread count.
+  void merge_in_words(const std::vector<uint32_t>& holders, uint32_t a, uint32_t b, uint32_t z) {
+    auto rewrite = [&](Block& blk) {
+      blk.deltas.clear();
+      // Holder lists are in ascending order; reading ahead hides most of
+      // the cost of visiting words spread over memory.
+      for (size_t i = blk.begin; i < blk.end; ++i) {
+        if (i + 16 < blk.end) __builtin_prefetch(words_.address(holders[i + 16]));
+        merge_in_word(holders[i], a, b, z, blk);
+      }
+    };
+    if (!arena_ || holders.size() < 2 * kBlockWords) {
+      Block& blk = *blocks_.front();
+      blk.begin = 0;
+      blk.end = holders.size();
+      rewrite(blk);
+      apply(blk.deltas);
+      return;
+    }
+    size_t next = 0;
+    arena_->execute([&] {
+      tbb::parallel_pipeline(
+          blocks_.size(),
+          tbb::make_filter<void, Block*>(tbb::filter_mode::serial_in_order,
+                                         [&](tbb::flow_control& fc) -> Block* {
+                                           if (next >= holders.size()) {
+                                             fc.stop();
+                                             return nullptr;
+                                           }
+                                           Block* blk = free_.acquire();
+                                           blk->begin = next;
+                                           blk->end = next = std::min(holders.size(), next + kBlockWords);
+                                           return blk;
+                                         }) &
+              tbb::make_filter<Block*, Block*>(tbb::filter_mode::parallel,
+                                               [&](Block* blk) {
+                                                 rewrite(*blk);
+                                                 return blk;
+                                               }) &
+              tbb::make_filter<Block*, void>(tbb::filter_mode::serial_in_order, [&](Block* blk) {
+                apply(blk->deltas);
+                free_.release(blk);
+              }));
+    });
+  }
+
+  void apply(const std::vector<Delta>& deltas) {
+    for (const Delta& d : deltas) {
+      if (d.word == kRemoved) remove(d.pair, d.count);
+      else add(d.pair, d.count, d.word, true);
+    }
+  }
+
   // Replaces the occurrences of (a, b) in word w by z, left to right, and
-  // updates the counts of the pairs next to each occurrence only.
-  void merge_in_word(WordList::Handle w, uint32_t a, uint32_t b, uint32_t z) {
+  // records the count changes of the pairs next to each occurrence only.
+  // Touches word w and `blk` only: words of one holder list can be rewritten
+  // in parallel.
+  void merge_in_word(WordList::Handle w, uint32_t a, uint32_t b, uint32_t z, Block& blk) {
     std::span<uint32_t> s = words_.symbols(w);
     size_t n = s.size(), first = 0;
     while (first + 1 < n && !(s[first] == a && s[first + 1] == b)) ++first;
     if (first + 1 >= n) return;  // an entry left from before an earlier merge changed the word
-    old_.assign(s.begin(), s.end());
-    merged_old_.assign(n, 0);
-    merged_new_.assign(n, 0);
+    auto& old = blk.old;
+    auto& merged_old = blk.merged_old;
+    auto& merged_new = blk.merged_new;
+    old.assign(s.begin(), s.end());
+    merged_old.assign(n, 0);
+    merged_new.assign(n, 0);
     size_t m = first;
     for (size_t r = first; r < n;) {
-      if (r + 1 < n && old_[r] == a && old_[r + 1] == b) {
-        merged_old_[r] = merged_old_[r + 1] = 1;
-        merged_new_[m] = 1;
+      if (r + 1 < n && old[r] == a && old[r + 1] == b) {
+        merged_old[r] = merged_old[r + 1] = 1;
+        merged_new[m] = 1;
         s[m++] = z;
         r += 2;
       } else {
-        s[m++] = old_[r++];
+        s[m++] = old[r++];
       }
     }
     words_.set_length(w, static_cast<uint32_t>(m));
@@ -187,14 +269,14 @@ class Learner {
     uint64_t ab = key(a, b);
     // Pairs of the old word that touch an occurrence are gone...
     for (size_t j = first > 0 ? first - 1 : 0; j + 1 < n; ++j) {
-      if (!(merged_old_[j] | merged_old_[j + 1])) continue;
-      uint64_t k = key(old_[j], old_[j + 1]);
-      if (k != ab && mergeable(old_[j]) && mergeable(old_[j + 1])) remove(k, c);
+      if (!(merged_old[j] | merged_old[j + 1])) continue;
+      uint64_t k = key(old[j], old[j + 1]);
+      if (k != ab && mergeable(old[j]) && mergeable(old[j + 1])) blk.deltas.push_back({k, c, kRemoved});
     }
     // ...and the new word's pairs that touch z are new.
     for (size_t j = first > 0 ? first - 1 : 0; j + 1 < m; ++j) {
-      if (!(merged_new_[j] | merged_new_[j + 1])) continue;
-      if (mergeable(s[j]) && mergeable(s[j + 1])) add(key(s[j], s[j + 1]), c, w, true);
+      if (!(merged_new[j] | merged_new[j + 1])) continue;
+      if (mergeable(s[j]) && mergeable(s[j + 1])) blk.deltas.push_back({key(s[j], s[j + 1]), c, w});
     }
   }
 
@@ -206,8 +288,9 @@ class Learner {
   std::vector<uint32_t> free_lists_;
   std::vector<Entry> heap_;
   std::vector<uint64_t> fresh_;
-  std::vector<uint32_t> old_;
-  std::vector<uint8_t> merged_old_, merged_new_;
+  std::unique_ptr<tbb::task_arena> arena_;  // only with more than one thread
+  BatchPool<Block> free_{4};
+  std::vector<Block*> blocks_;
 };
 
 }  // namespace

@@ -77,6 +77,7 @@ struct LearnOptions {
   std::function<void(size_t done, uint64_t count)> progress;  // called every 1000 merges
   std::function<void(const Merge&)> on_merge;                 // called after each merge
   std::function<bool()> stop;                                 // asked every 256 merges: true ends learning
+  int threads = 1;  // large merges rewrite words on this many threads; the result is the same
 };
 
 // Learns merges; `words` is rewritten in place to the merged symbols.

@@ -156,6 +156,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   lo.min_count = o.min_count;
   lo.first_new_id = static_cast<uint32_t>(v.size());
   lo.first_mergeable = v.first_char();
+  lo.threads = o.threads;
   lo.before = [&bytes](SymbolPair a, SymbolPair b) {
     const std::string &al = bytes[a.left], &ar = bytes[a.right], &bl = bytes[b.left], &br = bytes[b.right];
     // Compare al+ar with bl+br without building them.

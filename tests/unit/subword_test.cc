@@ -7,6 +7,7 @@
 #include <map>
 #include <random>
 #include <sstream>
+#include <tuple>
 
 #include "stages/normalize.h"
 #include "subword/codec.h"
@@ -179,6 +180,38 @@ TEST(MergeLearner, AgreesWithANaiveLearnerOnRandomCorpora) {
       auto s = list.word(w);
       ASSERT_EQ(std::vector<uint32_t>(s.begin(), s.end()), words[w].symbols) << "trial " << trial << " word " << w;
     }
+  }
+}
+
+// Merges whose holder lists are long rewrite words on several threads and
+// apply count changes in holder order: the merges, their counts and the final
+// words must be those of one thread. 100,000 words over 4 symbols give holder
+// lists of tens of thousands of words.
+TEST(MergeLearner, ThreadsGiveTheSameMerges) {
+  std::mt19937 rng(13);
+  WordList one, two;
+  for (int w = 0; w < 100000; ++w) {
+    std::vector<uint32_t> symbols;
+    int len = 2 + static_cast<int>(rng() % 11);
+    for (int i = 0; i < len; ++i) symbols.push_back(static_cast<uint32_t>(rng() % 4));
+    uint64_t count = 1 + rng() % 3;
+    ASSERT_TRUE(one.add(symbols, count));
+    ASSERT_TRUE(two.add(symbols, count));
+  }
+  LearnOptions o;
+  o.max_merges = 300;
+  o.first_new_id = 100;
+  auto a = learn_merges(one, o);
+  o.threads = 2;
+  auto b = learn_merges(two, o);
+  ASSERT_EQ(a.size(), b.size());
+  ASSERT_GT(a[0].count, 40000u);  // far more holders than two blocks of 8,192 words
+  for (size_t i = 0; i < a.size(); ++i) {
+    ASSERT_EQ(std::tuple(a[i].left, a[i].right, a[i].count), std::tuple(b[i].left, b[i].right, b[i].count)) << i;
+  }
+  for (size_t w = 0; w < one.size(); ++w) {
+    auto x = one.word(w), y = two.word(w);
+    ASSERT_TRUE(std::equal(x.begin(), x.end(), y.begin(), y.end())) << w;
   }
 }
 
