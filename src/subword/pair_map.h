@@ -32,7 +32,6 @@ class PairMap {
     rehash(n);
   }
 
-  size_t size() const { return size_; }
   Slot* find(uint64_t k) {
     for (size_t i = home(k);; i = (i + 1) & mask_) {
       if (slots_[i].key == k) return &slots_[i];
