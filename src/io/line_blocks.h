@@ -3,8 +3,10 @@
 // allocation, and each block can go to another thread.
 #pragma once
 
+#include <array>
 #include <istream>
 #include <string>
+#include <string_view>
 
 namespace sheaf {
 
@@ -25,6 +27,12 @@ inline bool read_line_block(std::istream& in, std::string& block, std::string& c
     block.resize(nl + 1);
   }
   return true;
+}
+
+// The source and target of a split-file line (target empty without a tab).
+inline std::array<std::string_view, 2> tsv_sides(std::string_view line) {
+  size_t tab = line.find('\t');
+  return {line.substr(0, tab), tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
 }
 
 // Calls fn(line) for every line of a block (without its newline).

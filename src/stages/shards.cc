@@ -130,10 +130,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                                                          e->stats[s] = EncodeStats{};
                                                        }
                                                        for_each_line(e->text, [&](std::string_view l) {
-                                                         size_t tab = l.find('\t');
-                                                         std::string_view side[2] = {
-                                                             l.substr(0, tab),
-                                                             tab == std::string_view::npos ? std::string_view{} : l.substr(tab + 1)};
+                                                         auto side = tsv_sides(l);
                                                          for (int s = 0; s < 2; ++s) {
                                                            const Vocabulary& v = s == 0 ? vs : vt;
                                                            auto& ids = e->ids[s];

@@ -54,8 +54,6 @@ class Learner {
   Learner(WordList& words, const LearnOptions& o) : words_(words), o_(o), min_(static_cast<int64_t>(o.min_count)) {
     if (min_ < 1) min_ = 1;
     if (o.threads > 1) arena_ = std::make_unique<tbb::task_arena>(o.threads);
-    for (size_t i = 0; i < free_.size(); ++i) blocks_.push_back(free_.acquire());
-    for (Block* b : blocks_) free_.release(b);
   }
 
   std::vector<Merge> run() {
@@ -197,17 +195,16 @@ class Learner {
       }
     };
     if (!arena_ || holders.size() < 2 * kBlockWords) {
-      Block& blk = *blocks_.front();
-      blk.begin = 0;
-      blk.end = holders.size();
-      rewrite(blk);
-      apply(blk.deltas);
+      serial_.begin = 0;
+      serial_.end = holders.size();
+      rewrite(serial_);
+      apply(serial_.deltas);
       return;
     }
     size_t next = 0;
     arena_->execute([&] {
       tbb::parallel_pipeline(
-          blocks_.size(),
+          free_.size(),
           tbb::make_filter<void, Block*>(tbb::filter_mode::serial_in_order,
                                          [&](tbb::flow_control& fc) -> Block* {
                                            if (next >= holders.size()) {
@@ -289,8 +286,8 @@ class Learner {
   std::vector<Entry> heap_;
   std::vector<uint64_t> fresh_;
   std::unique_ptr<tbb::task_arena> arena_;  // only with more than one thread
-  BatchPool<Block> free_{4};
-  std::vector<Block*> blocks_;
+  Block serial_;              // for merges too small to share
+  BatchPool<Block> free_{4};  // blocks in flight in a shared merge
 };
 
 }  // namespace

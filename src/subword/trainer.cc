@@ -54,9 +54,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
                 Counts& c = local.local();
                 thread_local std::vector<uint32_t> ends;
                 for_each_line(*block, [&](std::string_view line) {
-                  size_t tab = line.find('\t');
-                  std::string_view side[2] = {line.substr(0, tab),
-                                              tab == std::string_view::npos ? std::string_view{} : line.substr(tab + 1)};
+                  auto side = tsv_sides(line);
                   for (int col : columns) {
                     ends.clear();
                     unit_ends(side[col], split_digits, ends);
@@ -83,27 +81,23 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
     return e.error;
   }
   auto t1 = std::chrono::steady_clock::now();
-  // Word types, as views into the counter (alive until the words are built),
-  // in the counter's order: that order depends on hashing and threads, but
-  // nothing learned depends on it (pair counts are sums; the next merge is
-  // chosen by count and then by the tie rule).
-  std::vector<std::pair<std::string_view, uint64_t>> types;
-  types.reserve(counts.size());
-  counts.each([&](std::string_view u, uint64_t n) { types.emplace_back(u, n); });
-
+  // Word types are read straight from the counter, in its order: that order
+  // depends on hashing and threads, but nothing learned depends on it (pair
+  // counts are sums; the next merge is chosen by count and then by the tie
+  // rule).
   // Character occurrences, weighted by word counts: a flat table for the BMP.
   std::vector<uint64_t> bmp(0x10000, 0);
   std::unordered_map<UChar32, uint64_t> astral;
   uint64_t total_chars = 0, total_units = 0;
-  for (const auto& [w, n] : types) {
+  counts.each([&](std::string_view w, uint64_t n) {
     total_units += n;
-    for_each_char(w, [&, n = n](UChar32 c, std::string_view) {
+    for_each_char(w, [&](UChar32 c, std::string_view) {
       if (c < 0) return;
       if (c < 0x10000) bmp[static_cast<size_t>(c)] += n;
       else astral[c] += n;
       total_chars += n;
     });
-  }
+  });
   std::vector<std::pair<UChar32, uint64_t>> by_freq(astral.begin(), astral.end());
   for (UChar32 c = 0; c < 0x10000; ++c)
     if (bmp[static_cast<size_t>(c)]) by_freq.emplace_back(c, bmp[static_cast<size_t>(c)]);
@@ -134,18 +128,19 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
 
   WordList words;
   size_t type_bytes = 0;
-  for (const auto& [w, n] : types) type_bytes += w.size();
-  words.reserve(types.size(), type_bytes);
+  counts.each([&](std::string_view w, uint64_t) { type_bytes += w.size(); });
+  words.reserve(counts.size(), type_bytes);
   std::vector<uint32_t> symbols;
-  for (const auto& [w, n] : types) {
+  bool fits = true;
+  counts.each([&](std::string_view w, uint64_t n) {
     symbols.clear();
     v.initial_symbols(w, symbols);
-    if (!words.add(symbols, n))
-      return Error(ErrorKind::kData, "the " + o.side + " training text has more distinct word units than the learner can hold (" +
-                                         std::to_string(types.size()) + "); learn on a sample of the train split");
-  }
-  size_t n_types = types.size();
-  types = {};
+    fits = fits && words.add(symbols, n);
+  });
+  if (!fits)
+    return Error(ErrorKind::kData, "the " + o.side + " training text has more distinct word units than the learner can hold (" +
+                                       std::to_string(counts.size()) + "); learn on a sample of the train split");
+  size_t n_types = counts.size();
   counts = UnitCounter();
 
   // Token bytes as they grow, for the tie-breaking rule.
