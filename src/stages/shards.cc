@@ -1,12 +1,14 @@
 #include "stages/shards.h"
 
-#include <nlohmann/json.hpp>
+#include <oneapi/tbb/parallel_for.h>
 #include <oneapi/tbb/parallel_pipeline.h>
 #include <oneapi/tbb/task_arena.h>
 
 #include <cstdio>
+#include <filesystem>
 #include <fstream>
 #include <memory>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <span>
 
@@ -27,7 +29,12 @@ const StageKind& shards_kind() {
       {
           {"max_pairs", FieldType::kInt, int64_t{500000}, "pairs per shard at most", 1, 4e9},
           {"max_bytes", FieldType::kInt, int64_t{0}, "bytes of ids per shard at most (0 = no limit)", 0, 1e15},
-          {"order", FieldType::kChoice, std::string("input"), "input order, or grouped by length within each shard", 0, 0,
+          {"order",
+           FieldType::kChoice,
+           std::string("input"),
+           "input order, or grouped by length within each shard",
+           0,
+           0,
            {"input", "length"}},
           {"bos", FieldType::kBool, false, "put the begin-of-sequence id before each side"},
           {"eos", FieldType::kBool, true, "put the end-of-sequence id after each side"},
@@ -54,7 +61,8 @@ struct Encoded {
 
 }  // namespace
 
-Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files, int threads) {
+Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files,
+                  std::vector<LearnedUnits> units, int threads) {
   const Params& p = spec.params;
   RunRecord& rec = *in.record;
   std::vector<Vocabulary> vocabs;
@@ -65,11 +73,29 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   }
   const Vocabulary& vs = vocabs[0];
   const Vocabulary& vt = vocabs.size() > 1 ? vocabs[1] : vocabs[0];
-  // One encoder (and one cache per thread) for both sides of a shared vocabulary.
-  Encoder enc_s(vs);
+  // The encoders' caches are sized for the split files; one encoder (and one
+  // cache) for both sides of a shared vocabulary.
+  uint64_t text_bytes = 0;
+  for (const auto& entry : rec.splits) {
+    std::error_code ec;
+    uint64_t n = std::filesystem::file_size(in.dir->file(entry.first + ".tsv"), ec);
+    if (!ec) text_bytes += n;
+  }
+  Encoder enc_s(vs, SIZE_MAX, text_bytes);
   std::optional<Encoder> own_t;
-  if (vocabs.size() > 1) own_t.emplace(vt);
+  if (vocabs.size() > 1) own_t.emplace(vt, SIZE_MAX, text_bytes);
   const Encoder& enc_t = own_t ? *own_t : enc_s;
+  tbb::task_arena arena(threads);
+  for (size_t f = 0; f < std::min(units.size(), size_t{2}); ++f) {
+    const LearnedUnits& u = units[f];
+    const Encoder& enc = f == 0 ? enc_s : enc_t;
+    arena.execute([&] {
+      tbb::parallel_for(tbb::blocked_range<size_t>(0, u.size(), 1 << 14), [&](const tbb::blocked_range<size_t>& r) {
+        for (size_t k = r.begin(); k < r.end(); ++k) enc.remember(u.unit(k), u.ids.word(k));
+      });
+    });
+  }
+  units.clear();
   ShardSettings set;
   set.id_width = std::max(vs.size(), vt.size()) <= 65536 ? 2 : 4;
   set.source_vocab = vs.checksum();
@@ -80,8 +106,8 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   uint64_t max_pairs = static_cast<uint64_t>(p.integer("max_pairs"));
   uint64_t max_bytes = static_cast<uint64_t>(p.integer("max_bytes"));
 
-  ordered_json section = {{"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")},
-                          {"bos", bos}, {"eos", eos}};
+  ordered_json section = {
+      {"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")}, {"bos", bos}, {"eos", eos}};
   ordered_json splits = ordered_json::object();
   // Which tokens the train split uses, per side, for "unused_in_train".
   std::vector<bool> used[2] = {std::vector<bool>(vs.size(), false), std::vector<bool>(vt.size(), false)};
@@ -106,67 +132,62 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
       return {};
     };
     BatchPool<Encoded> pool(static_cast<size_t>(threads) * 4);
-    tbb::task_arena arena(threads);
     try {
       arena.execute([&] {
         tbb::parallel_pipeline(
             pool.size(),
-            tbb::make_filter<void, Encoded*>(tbb::filter_mode::serial_in_order,
-                                             [&](tbb::flow_control& fc) -> Encoded* {
-                                               throw_if_interrupted();
-                                               Encoded* e = pool.acquire();
-                                               if (!read_line_block(file, e->text, carry, 1 << 20)) {
-                                                 pool.release(e);
-                                                 fc.stop();
-                                                 return nullptr;
-                                               }
-                                               return e;
-                                             }) &
-                tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel,
-                                                     [&](Encoded* e) {
-                                                       for (int s = 0; s < 2; ++s) {
-                                                         e->ids[s].clear();
-                                                         e->ends[s].clear();
-                                                         e->stats[s] = EncodeStats{};
-                                                       }
-                                                       for_each_line(e->text, [&](std::string_view l) {
-                                                         auto side = tsv_sides(l);
-                                                         for (int s = 0; s < 2; ++s) {
-                                                           const Vocabulary& v = s == 0 ? vs : vt;
-                                                           auto& ids = e->ids[s];
-                                                           if (bos) ids.push_back(v.special(kBos));
-                                                           (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
-                                                           if (eos) ids.push_back(v.special(kEos));
-                                                           e->ends[s].push_back(ids.size());
-                                                         }
-                                                       });
-                                                       return e;
-                                                     }) &
-                tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
-                  for (int s = 0; s < 2; ++s) {
-                    totals[s].tokens += e->stats[s].tokens;
-                    totals[s].byte_tokens += e->stats[s].byte_tokens;
-                    totals[s].unknown += e->stats[s].unknown;
+            tbb::make_filter<void, Encoded*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> Encoded* {
+              throw_if_interrupted();
+              Encoded* e = pool.acquire();
+              if (!read_line_block(file, e->text, carry, 1 << 20)) {
+                pool.release(e);
+                fc.stop();
+                return nullptr;
+              }
+              return e;
+            }) & tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel, [&](Encoded* e) {
+              for (int s = 0; s < 2; ++s) {
+                e->ids[s].clear();
+                e->ends[s].clear();
+                e->stats[s] = EncodeStats{};
+              }
+              for_each_line(e->text, [&](std::string_view l) {
+                auto side = tsv_sides(l);
+                for (int s = 0; s < 2; ++s) {
+                  const Vocabulary& v = s == 0 ? vs : vt;
+                  auto& ids = e->ids[s];
+                  if (bos) ids.push_back(v.special(kBos));
+                  (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
+                  if (eos) ids.push_back(v.special(kEos));
+                  e->ends[s].push_back(ids.size());
+                }
+              });
+              return e;
+            }) & tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
+              for (int s = 0; s < 2; ++s) {
+                totals[s].tokens += e->stats[s].tokens;
+                totals[s].byte_tokens += e->stats[s].byte_tokens;
+                totals[s].unknown += e->stats[s].unknown;
+              }
+              for (size_t i = 0; i < e->ends[0].size(); ++i) {
+                auto src = e->pair(0, i), tgt = e->pair(1, i);
+                if (split == "train") {
+                  for (uint32_t id : src) used[0][id] = true;
+                  for (uint32_t id : tgt) used[1][id] = true;
+                }
+                tokens[0].add(src.size());
+                tokens[1].add(tgt.size());
+                writer.add(src, tgt);
+                if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
+                  Status st = flush();
+                  if (!st.ok()) {
+                    pool.release(e);
+                    throw ErrorException{st.error()};
                   }
-                  for (size_t i = 0; i < e->ends[0].size(); ++i) {
-                    auto src = e->pair(0, i), tgt = e->pair(1, i);
-                    if (split == "train") {
-                      for (uint32_t id : src) used[0][id] = true;
-                      for (uint32_t id : tgt) used[1][id] = true;
-                    }
-                    tokens[0].add(src.size());
-                    tokens[1].add(tgt.size());
-                    writer.add(src, tgt);
-                    if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
-                      Status st = flush();
-                      if (!st.ok()) {
-                        pool.release(e);
-                        throw ErrorException{st.error()};
-                      }
-                    }
-                  }
-                  pool.release(e);
-                }));
+                }
+              }
+              pool.release(e);
+            }));
       });
     } catch (const ErrorException& e) {
       return e.error;

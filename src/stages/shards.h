@@ -14,11 +14,16 @@
 #include <vector>
 
 #include "pipeline/steps.h"
+#include "subword/trainer.h"
 
 namespace sheaf {
 
 const StageKind& shards_kind();
 
-Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files, int threads);
+// `units`: per vocabulary file, its training units with their ids (trainer.h)
+// or empty; the encoders start from them, so train is not encoded twice,
+// and free them before encoding.
+Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files,
+                  std::vector<LearnedUnits> units, int threads);
 
 }  // namespace sheaf

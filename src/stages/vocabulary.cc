@@ -1,10 +1,10 @@
 #include "stages/vocabulary.h"
 
-#include <nlohmann/json.hpp>
 #include <unistd.h>
 
 #include <algorithm>
 #include <fstream>
+#include <nlohmann/json.hpp>
 
 #include "core/text.h"
 #include "io/output_file.h"
@@ -20,9 +20,14 @@ const StageKind& vocabulary_kind() {
       "learns a BPE vocabulary on the train split and measures a range of sizes on dev",
       StageRole::kVocabulary,
       {
-          {"size", FieldType::kInt, int64_t{8000}, "vocabulary size: 4 special + 256 byte + alphabet + merges", 261, 4e9},
-          {"shared", FieldType::kChoice, std::string("auto"),
-           "one vocabulary for both sides, one per side, or auto (shared when the scripts match)", 0, 0,
+          {"size", FieldType::kInt, int64_t{8000}, "vocabulary size: 4 special + 256 byte + alphabet + merges", 261,
+           4e9},
+          {"shared",
+           FieldType::kChoice,
+           std::string("auto"),
+           "one vocabulary for both sides, one per side, or auto (shared when the scripts match)",
+           0,
+           0,
            {"auto", "shared", "separate"}},
           {"min_count", FieldType::kInt, int64_t{2}, "stop merging when the best pair occurs fewer times", 1, 1e18},
           {"alphabet_coverage", FieldType::kNumber, 0.9999,
@@ -38,8 +43,8 @@ const StageKind& vocabulary_kind() {
            "ids of pad, unk, bos and eos: an order of 0, 1, 2, 3", 0, 3},
           {"sweep", FieldType::kIntList, std::vector<int64_t>{2000, 4000, 8000, 16000, 32000},
            "sizes measured on dev to help choose a size (learning runs up to the largest)", 261, 4e9},
-          {"sweep_max_length", FieldType::kInt, int64_t{128}, "the sweep reports the share of sentences longer than this",
-           1, 1e9},
+          {"sweep_max_length", FieldType::kInt, int64_t{128},
+           "the sweep reports the share of sentences longer than this", 1, 1e9},
       }};
   return k;
 }
@@ -76,12 +81,14 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
     t.special_ids[i] = static_cast<uint32_t>(ids[i]);
   }
   if (!ok)
-    return Error(ErrorKind::kPipeline,
-                 "stage \"" + spec.name + "\": special_ids must give pad, unk, bos and eos the ids 0, 1, 2 and 3 in some order",
-                 q.where("special_ids").empty() ? spec.where : q.where("special_ids"));
+    return Error(
+        ErrorKind::kPipeline,
+        "stage \"" + spec.name + "\": special_ids must give pad, unk, bos and eos the ids 0, 1, 2 and 3 in some order",
+        q.where("special_ids").empty() ? spec.where : q.where("special_ids"));
   for (const auto& s : t.specials)
     if (s.empty())
-      return Error(ErrorKind::kPipeline, "stage \"" + spec.name + "\": special token spellings must not be empty", spec.where);
+      return Error(ErrorKind::kPipeline, "stage \"" + spec.name + "\": special token spellings must not be empty",
+                   spec.where);
   return plan;
 }
 
@@ -104,12 +111,15 @@ std::vector<std::string> column(const std::string& path, int col) {
 ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev, const std::vector<int64_t>& sizes,
                         int64_t max_len) {
   ordered_json rows = ordered_json::array();
-  uint64_t words = 0;
-  for (const auto& s : dev) words += count_words(s);
+  uint64_t words = 0, bytes = 0;
+  for (const auto& s : dev) {
+    words += count_words(s);
+    bytes += s.size();
+  }
   for (int64_t size : sizes) {
     size_t fixed = v.first_merge();
     if (static_cast<size_t>(size) < fixed) continue;
-    Encoder enc(v, static_cast<size_t>(size) - fixed);
+    Encoder enc(v, static_cast<size_t>(size) - fixed, bytes);
     EncodeStats st;
     std::vector<uint64_t> per;
     std::vector<uint32_t> ids;
@@ -121,17 +131,18 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
       over += static_cast<int64_t>(ids.size()) > max_len;
     }
     Distribution d = distribution_of(per);
-    ordered_json r = {{"size", size},
-                      {"effective_size", enc.effective_size()},
-                      {"sentences", d.count},
-                      {"tokens", st.tokens},
-                      {"mean_tokens", d.mean},
-                      {"p95_tokens", d.p95},
-                      {"p99_tokens", d.p99},
-                      {"max_tokens", d.max},
-                      {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
-                      {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
-                      {"byte_fallback_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
+    ordered_json r = {
+        {"size", size},
+        {"effective_size", enc.effective_size()},
+        {"sentences", d.count},
+        {"tokens", st.tokens},
+        {"mean_tokens", d.mean},
+        {"p95_tokens", d.p95},
+        {"p99_tokens", d.p99},
+        {"max_tokens", d.max},
+        {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
+        {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
+        {"byte_fallback_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
     rows.push_back(r);
   }
   return rows;
@@ -139,7 +150,7 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
 
 }  // namespace
 
-Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads) {
+Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads) {
   auto plan = vocabulary_plan(*in.pipeline, spec);
   if (!plan.ok()) return plan.error();
   RunRecord& rec = *in.record;
@@ -174,14 +185,15 @@ Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const Stage
                           {"learned_up_to", plan->train.size},
                           {"sweep_split", have_dev ? "dev" : "train"}};
   ordered_json vocabs = ordered_json::array();
-  std::vector<std::string> files;
+  LearnedVocabularies out;
   for (const auto& job : jobs) {
     TrainOptions t = plan->train;
     t.side = job.side;
     t.threads = threads;
     t.progress = ::isatty(STDERR_FILENO);
     TrainReport report;
-    auto learned = train_vocabulary({train}, job.columns, t, &report);
+    LearnedUnits units;
+    auto learned = train_vocabulary({train}, job.columns, t, &report, &units);
     if (!learned.ok()) return learned.error();
     const Vocabulary& full = *learned;
     // The vocabulary written: the first (size - fixed) merges.
@@ -196,7 +208,9 @@ Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const Stage
     }
     std::string rel = "vocab." + job.side + ".txt";
     SHEAF_TRY(write_output(*in.dir, rec, {rel, "vocabulary", "", job.side, v.size()}, v.serialize()));
-    files.push_back(rel);
+    out.files.push_back(rel);
+    if (keep < full.merges()) units = LearnedUnits{};  // encodings with merges the file does not have
+    out.units.push_back(std::move(units));
 
     ordered_json sweep = ordered_json::object();
     for (int col : job.columns) {
@@ -222,7 +236,7 @@ Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const Stage
   }
   section["vocabularies"] = vocabs;
   rec.sections.emplace_back("vocabulary", section.dump());
-  return files;
+  return out;
 }
 
 }  // namespace sheaf

@@ -25,16 +25,22 @@ const StageKind& vocabulary_kind();
 
 struct VocabularyPlan {
   bool shared = true;
-  TrainOptions train;      // size = the largest size learned
-  size_t size = 0;         // the size written
+  TrainOptions train;  // size = the largest size learned
+  size_t size = 0;     // the size written
   std::vector<int64_t> sweep;
   int64_t sweep_max_length = 128;
 };
 Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec);
 
+struct LearnedVocabularies {
+  std::vector<std::string> files;  // relative to the run directory: one, or source then target
+  // Per file, the training units with their ids, when the file holds every
+  // learned merge (else empty): the shard step starts its encoders from them.
+  std::vector<LearnedUnits> units;
+};
+
 // Learns, writes the vocabulary file(s), evaluates the sweep; adds outputs and
-// a "vocabulary" section to the run record. Returns the vocabulary files'
-// paths relative to the run directory (one, or source then target).
-Result<std::vector<std::string>> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads);
+// a "vocabulary" section to the run record.
+Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads);
 
 }  // namespace sheaf

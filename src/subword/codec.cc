@@ -10,23 +10,43 @@
 namespace sheaf {
 
 namespace {
-// Per thread: 2^20 slots of 64 bytes (64 MiB), filled to 3/4 at most.
-constexpr size_t kCacheSlots = 1 << 20;
-constexpr size_t kCacheUnits = kCacheSlots / 4 * 3;
+// At most 2^22 slots of 32 bytes (128 MiB), filled to 3/4 at most; fewer
+// for less text (a text of b bytes has fewer than b/4 distinct units in
+// practice), at least 2^12.
+size_t cache_slots(uint64_t text_bytes) {
+  constexpr size_t kMin = size_t{1} << 12, kMax = size_t{1} << 22;
+  if (text_bytes == 0) return kMax;
+  size_t n = kMin;
+  while (n < kMax && n < text_bytes / 4) n <<= 1;
+  return n;
+}
 }  // namespace
 
 void Encoder::UnitCache::prefetch(uint64_t hash) const {
-  if (!slots_.empty()) __builtin_prefetch(&slots_[hash & (kCacheSlots - 1)]);
+  if (const Slot* t = table_.load(std::memory_order_acquire)) __builtin_prefetch(&t[hash & (slots_ - 1)]);
 }
 
-const uint32_t* Encoder::UnitCache::find(std::string_view unit, uint64_t hash, uint32_t& n) const {
-  if (slots_.empty() || hash == 0) return nullptr;
-  for (size_t i = hash & (kCacheSlots - 1);; i = (i + 1) & (kCacheSlots - 1)) {
-    const Slot& s = slots_[i];
-    if (s.hash == 0) return nullptr;
-    if (s.hash == hash && s.bytes_len == unit.size() && std::memcmp(s.bytes, unit.data(), unit.size()) == 0) {
-      n = s.ids_len;
-      return s.ids;
+bool Encoder::UnitCache::find(std::string_view unit, uint64_t hash, std::vector<uint32_t>& out) const {
+  const Slot* t = table_.load(std::memory_order_acquire);
+  if (t == nullptr || hash <= kWriting) return false;
+  for (size_t i = hash & (slots_ - 1);; i = (i + 1) & (slots_ - 1)) {
+    const Slot& s = t[i];
+    uint64_t h = s.hash.load(std::memory_order_acquire);
+    if (h == kEmpty) return false;
+    if (h == hash && s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0) {
+      const char* p = s.data + s.bytes_len;
+      for (uint32_t k = 0; k < s.ids_len; ++k, p += id_bytes_) {
+        if (id_bytes_ == 2) {
+          uint16_t id;
+          std::memcpy(&id, p, 2);
+          out.push_back(id);
+        } else {
+          uint32_t id;
+          std::memcpy(&id, p, 4);
+          out.push_back(id);
+        }
+      }
+      return true;
     }
   }
 }
@@ -34,21 +54,42 @@ const uint32_t* Encoder::UnitCache::find(std::string_view unit, uint64_t hash, u
 void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n) {
   // Once full, the cache keeps what it has: in text whose words follow
   // Zipf's law the units seen first are mostly the frequent ones.
-  if (hash == 0 || unit.size() > sizeof(Slot::bytes) || n > std::size(Slot{}.ids) || size_ >= kCacheUnits) return;
-  if (slots_.empty()) slots_.assign(kCacheSlots, Slot{});
-  size_t i = hash & (kCacheSlots - 1);
-  while (slots_[i].hash != 0) i = (i + 1) & (kCacheSlots - 1);
-  Slot& s = slots_[i];
-  s.hash = hash;
-  s.bytes_len = static_cast<uint8_t>(unit.size());
-  s.ids_len = static_cast<uint8_t>(n);
-  std::memcpy(s.bytes, unit.data(), unit.size());
-  std::copy(ids, ids + n, s.ids);
-  ++size_;
+  if (hash <= kWriting || unit.size() + n * id_bytes_ > kData ||
+      size_.load(std::memory_order_relaxed) >= slots_ / 4 * 3)
+    return;
+  std::call_once(allocated_, [&] {
+    store_ = HugeVector<Slot>(slots_);
+    table_.store(store_.data(), std::memory_order_release);
+  });
+  Slot* t = store_.data();
+  for (size_t i = hash & (slots_ - 1);; i = (i + 1) & (slots_ - 1)) {
+    Slot& s = t[i];
+    uint64_t h = s.hash.load(std::memory_order_acquire);
+    if (h == hash && s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0) return;
+    if (h != kEmpty || !s.hash.compare_exchange_strong(h, kWriting, std::memory_order_acquire)) continue;
+    s.bytes_len = static_cast<uint8_t>(unit.size());
+    s.ids_len = static_cast<uint8_t>(n);
+    std::memcpy(s.data, unit.data(), unit.size());
+    char* p = s.data + unit.size();
+    for (uint32_t k = 0; k < n; ++k, p += id_bytes_) {
+      if (id_bytes_ == 2) {
+        uint16_t id = static_cast<uint16_t>(ids[k]);
+        std::memcpy(p, &id, 2);
+      } else {
+        std::memcpy(p, &ids[k], 4);
+      }
+    }
+    s.hash.store(hash, std::memory_order_release);
+    size_.fetch_add(1, std::memory_order_relaxed);
+    return;
+  }
 }
 
-Encoder::Encoder(const Vocabulary& v, size_t max_merges)
-    : v_(v), merges_(std::min(max_merges, v.merges())), rank_(v, merges_) {}
+Encoder::Encoder(const Vocabulary& v, size_t max_merges, uint64_t text_bytes)
+    : v_(v),
+      merges_(std::min(max_merges, v.merges())),
+      rank_(v, merges_),
+      cache_(cache_slots(text_bytes), v.size() <= 65536) {}
 
 // Leaves the unit's ids in sc.symbols. Applies merges lowest rank first;
 // each step merges every occurrence of the best pair, left to right, as
@@ -92,6 +133,10 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
   s.resize(n);
 }
 
+void Encoder::remember(std::string_view unit, std::span<const uint32_t> ids) const {
+  cache_.add(unit, XXH3_64bits(unit.data(), unit.size()), ids.data(), static_cast<uint32_t>(ids.size()));
+}
+
 void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const {
   size_t start = out.size();
   Scratch& sc = scratch_.local();
@@ -103,21 +148,17 @@ void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeSt
   uint32_t from = 0;
   for (size_t k = 0; k < sc.ends.size(); ++k) {
     sc.hashes[k] = XXH3_64bits(text.data() + from, sc.ends[k] - from);
-    sc.cache.prefetch(sc.hashes[k]);
+    cache_.prefetch(sc.hashes[k]);
     from = sc.ends[k];
   }
   from = 0;
   for (size_t k = 0; k < sc.ends.size(); ++k) {
     std::string_view unit = text.substr(from, sc.ends[k] - from);
     from = sc.ends[k];
-    uint32_t n = 0;
-    if (const uint32_t* ids = sc.cache.find(unit, sc.hashes[k], n)) {
-      out.insert(out.end(), ids, ids + n);
-      continue;
-    }
+    if (cache_.find(unit, sc.hashes[k], out)) continue;
     encode_unit(unit, sc);
     out.insert(out.end(), sc.symbols.begin(), sc.symbols.end());
-    sc.cache.add(unit, sc.hashes[k], sc.symbols.data(), static_cast<uint32_t>(sc.symbols.size()));
+    cache_.add(unit, sc.hashes[k], sc.symbols.data(), static_cast<uint32_t>(sc.symbols.size()));
   }
   if (stats) {
     stats->tokens += out.size() - start;

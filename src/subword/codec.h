@@ -4,17 +4,20 @@
 // alphabet token or, if it is not in the alphabet, into its UTF-8 byte tokens
 // (or the unknown token when byte fallback is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
-// cached per thread. decode() concatenates the bytes of the tokens, skipping special
+// cached in one table shared by the threads. decode() concatenates the bytes of the tokens, skipping special
 // tokens, so decode(encode(x)) == x for every valid UTF-8 x when byte
 // fallback is on.
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
 // k merges is the first k merges of a larger one, which is how one learning
 // run serves a whole size sweep.
-// Thread-safe: the cache is per thread.
+// Thread-safe: encode() may run on many threads at once.
 #pragma once
 
 #include <oneapi/tbb/enumerable_thread_specific.h>
 
+#include <atomic>
+#include <mutex>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -33,7 +36,9 @@ struct EncodeStats {
 
 class Encoder {
  public:
-  explicit Encoder(const Vocabulary& v, size_t max_merges = SIZE_MAX);
+  // `text_bytes`: about how much text it will encode (0 = unknown), which
+  // sizes the cache of encoded units.
+  explicit Encoder(const Vocabulary& v, size_t max_merges = SIZE_MAX, uint64_t text_bytes = 0);
 
   void encode(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats = nullptr) const;
   std::vector<uint32_t> encode(std::string_view text) const {
@@ -41,35 +46,48 @@ class Encoder {
     encode(text, out);
     return out;
   }
+  // Keeps `ids` as the encoding of `unit` (which they must be, e.g. from the
+  // learner: trainer.h's LearnedUnits), so encode() finds it. Thread-safe.
+  void remember(std::string_view unit, std::span<const uint32_t> ids) const;
   const Vocabulary& vocabulary() const { return v_; }
   // Size of the vocabulary this encoder uses (specials, bytes, alphabet and
   // the merges it applies).
   size_t effective_size() const { return v_.first_merge() + merges_; }
 
  private:
-  // Encoded units of one thread: a flat table keyed by the unit's XXH3-64,
-  // one cache line a unit with its bytes and ids inside, so that a hit costs
-  // one memory access (prefetched by encode()). Units longer than 22 bytes
-  // or of more than 8 ids are not kept; once full, it adds nothing more.
+  // Encoded units, shared by all threads: a flat table keyed by the unit's
+  // XXH3-64, half a cache line a unit with its bytes and ids inside, so that
+  // a hit costs one memory access (prefetched by encode()). Insert-only and
+  // lock-free: a thread claims an empty slot, fills it and then publishes
+  // its hash; readers look only at published slots, so a unit being written
+  // is a miss, never a wrong answer. A unit is kept if its bytes and ids
+  // (16 bits each for a vocabulary of at most 65,536 tokens, else 32) fit in
+  // 22 bytes; once 3/4 full, the table adds nothing more. It is allocated on
+  // the first add.
   class UnitCache {
    public:
-    // The ids of `unit`, or nullptr.
-    const uint32_t* find(std::string_view unit, uint64_t hash, uint32_t& n) const;
+    UnitCache(size_t slots, bool narrow_ids) : slots_(slots), id_bytes_(narrow_ids ? 2 : 4) {}
+    // Appends the ids of `unit` to `out`; false if it is not kept.
+    bool find(std::string_view unit, uint64_t hash, std::vector<uint32_t>& out) const;
     void add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n);
     void prefetch(uint64_t hash) const;
 
    private:
-    struct alignas(64) Slot {
-      uint64_t hash;  // 0: empty (a unit whose hash is 0 is never kept)
+    static constexpr uint64_t kEmpty = 0, kWriting = 1;  // units of these hashes are never kept
+    static constexpr size_t kData = 22;
+    struct alignas(32) Slot {
+      std::atomic<uint64_t> hash;
       uint8_t bytes_len, ids_len;
-      char bytes[22];
-      uint32_t ids[8];
+      char data[kData];  // the unit's bytes, then its ids
     };
-    HugeVector<Slot> slots_;
-    size_t size_ = 0;
+    size_t slots_;
+    uint32_t id_bytes_;
+    std::once_flag allocated_;
+    HugeVector<Slot> store_;
+    std::atomic<const Slot*> table_{nullptr};
+    std::atomic<size_t> size_{0};
   };
   struct Scratch {
-    UnitCache cache;
     std::vector<uint32_t> ends, symbols, ranks;
     std::vector<uint64_t> hashes;
     std::vector<uint8_t> merged;
@@ -78,6 +96,7 @@ class Encoder {
   const Vocabulary& v_;
   size_t merges_;
   MergeRanks rank_;
+  mutable UnitCache cache_;
   mutable tbb::enumerable_thread_specific<Scratch> scratch_;
 };
 

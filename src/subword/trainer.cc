@@ -25,56 +25,103 @@ namespace sheaf {
 
 namespace {
 
-using Counts = UnitCounter;
+// Word-unit counts in partitions of the hash space, one counter each.
+class Counts {
+ public:
+  explicit Counts(size_t parts) : parts_(parts) {}
+  UnitCounter& part(size_t p) { return parts_[p]; }
+  size_t parts() const { return parts_.size(); }
+  size_t size() const {
+    size_t n = 0;
+    for (const auto& c : parts_) n += c.size();
+    return n;
+  }
+  template <typename Fn>
+  void each(Fn&& fn) const {
+    for (const auto& c : parts_) c.each(fn);
+  }
+  void clear() { std::vector<UnitCounter>().swap(parts_); }
 
+ private:
+  std::vector<UnitCounter> parts_;
+};
+
+// A block of whole lines of a split file and its units, hashed and sorted
+// into partitions.
+struct UnitBlock {
+  std::string text;
+  std::vector<std::vector<HashedUnit>> parts;
+};
+
+// Reading, cutting and hashing run on all threads; each partition's counter
+// is a serial filter of its own, so with n threads n counters fill at once
+// (each on another block), every unit is counted in exactly one table, and
+// nothing is merged at the end. Counts are exact sums: the result does not
+// depend on the thread count.
 Status count_units(const std::vector<std::string>& files, const std::vector<int>& columns, bool split_digits,
-                   int threads, Counts& total) {
-  tbb::enumerable_thread_specific<Counts> local;
+                   int threads, Counts& counts) {
+  const size_t parts = counts.parts();
   for (const auto& path : files) {
     std::ifstream in(path, std::ios::binary);
     if (!in) return Error(ErrorKind::kIo, "cannot read split text", Location{path, 0, 0, {}});
     std::string carry;
-    BatchPool<std::string> pool(static_cast<size_t>(threads) * 4);
+    BatchPool<UnitBlock> pool(static_cast<size_t>(threads) * 4);
+    auto cut = [&](UnitBlock* b) {
+      thread_local std::vector<uint32_t> ends;
+      b->parts.resize(parts);
+      for (auto& p : b->parts) p.clear();
+      const char* base = b->text.data();
+      for_each_line(b->text, [&](std::string_view line) {
+        auto side = tsv_sides(line);
+        for (int col : columns) {
+          std::string_view t = side[col];
+          ends.clear();
+          unit_ends(t, split_digits, ends);
+          uint32_t from = 0, at = static_cast<uint32_t>(t.data() - base);
+          for (uint32_t e : ends) {
+            uint64_t h = UnitCounter::hash(t.substr(from, e - from));
+            b->parts[UnitCounter::partition_of(h, parts)].push_back({h, at + from, e - from});
+            from = e;
+          }
+        }
+      });
+      return b;
+    };
+    tbb::filter<void, UnitBlock*> chain =
+        tbb::make_filter<void, UnitBlock*>(tbb::filter_mode::serial_in_order,
+                                           [&](tbb::flow_control& fc) -> UnitBlock* {
+                                             throw_if_interrupted();
+                                             UnitBlock* b = pool.acquire();
+                                             if (!read_line_block(in, b->text, carry, 1 << 20)) {
+                                               pool.release(b);
+                                               fc.stop();
+                                               return nullptr;
+                                             }
+                                             return b;
+                                           }) &
+        tbb::make_filter<UnitBlock*, UnitBlock*>(tbb::filter_mode::parallel, cut);
+    for (size_t p = 0; p < parts; ++p)
+      chain = chain &
+              tbb::make_filter<UnitBlock*, UnitBlock*>(tbb::filter_mode::serial_in_order, [&counts, p](UnitBlock* b) {
+                counts.part(p).add(b->text, b->parts[p]);
+                return b;
+              });
     tbb::task_arena arena(threads);
     arena.execute([&] {
-      tbb::parallel_pipeline(
-          pool.size(),
-          tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
-                                               [&](tbb::flow_control& fc) -> std::string* {
-                                                 throw_if_interrupted();
-                                                 std::string* block = pool.acquire();
-                                                 if (!read_line_block(in, *block, carry, 4 << 20)) {
-                                                   pool.release(block);
-                                                   fc.stop();
-                                                   return nullptr;
-                                                 }
-                                                 return block;
-                                               }) &
-              tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
-                Counts& c = local.local();
-                thread_local std::vector<uint32_t> ends;
-                for_each_line(*block, [&](std::string_view line) {
-                  auto side = tsv_sides(line);
-                  for (int col : columns) {
-                    ends.clear();
-                    unit_ends(side[col], split_digits, ends);
-                    c.add_units(side[col], ends);
-                  }
-                });
-                pool.release(block);
-              }));
+      tbb::parallel_pipeline(pool.size(),
+                             chain & tbb::make_filter<UnitBlock*, void>(tbb::filter_mode::parallel,
+                                                                        [&](UnitBlock* b) { pool.release(b); }));
     });
   }
-  for (auto& c : local) total.merge(c);
   return {};
 }
 
 }  // namespace
 
 Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const std::vector<int>& columns,
-                                    const TrainOptions& o, TrainReport* report) {
+                                    const TrainOptions& o, TrainReport* report, LearnedUnits* units) {
   auto t0 = std::chrono::steady_clock::now();
-  Counts counts;
+  Counts counts(static_cast<size_t>(std::max(1, o.threads)));
   try {
     SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
   } catch (const ErrorException& e) {
@@ -93,8 +140,10 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
     total_units += n;
     for_each_char(w, [&](UChar32 c, std::string_view) {
       if (c < 0) return;
-      if (c < 0x10000) bmp[static_cast<size_t>(c)] += n;
-      else astral[c] += n;
+      if (c < 0x10000)
+        bmp[static_cast<size_t>(c)] += n;
+      else
+        astral[c] += n;
       total_chars += n;
     });
   });
@@ -107,7 +156,8 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   std::vector<std::string> alphabet;
   uint64_t covered = 0;
   for (const auto& [c, n] : by_freq) {
-    if (total_chars > 0 && static_cast<double>(covered) >= o.alphabet_coverage * static_cast<double>(total_chars)) break;
+    if (total_chars > 0 && static_cast<double>(covered) >= o.alphabet_coverage * static_cast<double>(total_chars))
+      break;
     char buf[4];
     int32_t k = 0;
     U8_APPEND_UNSAFE(buf, k, c);
@@ -116,11 +166,11 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   }
   size_t fixed = 4 + 256 + alphabet.size();
   if (o.size < fixed)
-    return Error(ErrorKind::kData,
-                 "vocabulary size " + std::to_string(o.size) + " is too small for the " + std::to_string(alphabet.size()) +
-                     " characters that cover " + std::to_string(o.alphabet_coverage) + " of the " + o.side +
-                     " training text (plus 4 special and 256 byte tokens); raise size to at least " +
-                     std::to_string(fixed) + " or lower alphabet_coverage");
+    return Error(ErrorKind::kData, "vocabulary size " + std::to_string(o.size) + " is too small for the " +
+                                       std::to_string(alphabet.size()) + " characters that cover " +
+                                       std::to_string(o.alphabet_coverage) + " of the " + o.side +
+                                       " training text (plus 4 special and 256 byte tokens); raise size to at least " +
+                                       std::to_string(fixed) + " or lower alphabet_coverage");
 
   VocabularyInfo info{o.side, total_chars ? static_cast<double>(covered) / static_cast<double>(total_chars) : 1.0,
                       o.split_digits, o.byte_fallback};
@@ -132,16 +182,26 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   words.reserve(counts.size(), type_bytes);
   std::vector<uint32_t> symbols;
   bool fits = true;
+  if (units) {
+    *units = LearnedUnits{};
+    units->bytes.reserve(type_bytes);
+    units->ends.reserve(counts.size());
+  }
   counts.each([&](std::string_view w, uint64_t n) {
     symbols.clear();
     v.initial_symbols(w, symbols);
     fits = fits && words.add(symbols, n);
+    if (units) {
+      units->bytes.append(w);
+      units->ends.push_back(units->bytes.size());
+    }
   });
   if (!fits)
-    return Error(ErrorKind::kData, "the " + o.side + " training text has more distinct word units than the learner can hold (" +
+    return Error(ErrorKind::kData, "the " + o.side +
+                                       " training text has more distinct word units than the learner can hold (" +
                                        std::to_string(counts.size()) + "); learn on a sample of the train split");
   size_t n_types = counts.size();
-  counts = UnitCounter();
+  counts.clear();
 
   // Token bytes as they grow, for the tie-breaking rule.
   std::vector<std::string> bytes;
@@ -163,12 +223,14 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
     }
     if (na != nb) return na < nb;
     if (al.size() != bl.size()) return al.size() < bl.size();
-    return a.left < b.left;
+    if (a.left != b.left) return a.left < b.left;
+    return a.right < b.right;
   };
   std::vector<Merge> merges;
   lo.progress = [&](size_t done, uint64_t count) {
-    if (o.progress) std::fprintf(stderr, "\r\033[Klearning %s vocabulary: %zu merges, current pair count %llu", o.side.c_str(), done,
-                                 static_cast<unsigned long long>(count));
+    if (o.progress)
+      std::fprintf(stderr, "\r\033[Klearning %s vocabulary: %zu merges, current pair count %llu", o.side.c_str(), done,
+                   static_cast<unsigned long long>(count));
   };
   lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
   auto t2 = std::chrono::steady_clock::now();
@@ -178,6 +240,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   auto t3 = std::chrono::steady_clock::now();
   if (o.progress) std::fprintf(stderr, "\r\033[K");
   for (const Merge& m : merges) v.add_merge(m.left, m.right);
+  if (units) units->ids = std::move(words);
   if (report) {
     report->word_types = n_types;
     report->word_units = total_units;

@@ -8,7 +8,8 @@
 // has `size` tokens or no pair occurs `min_count` times.
 // Ties between pairs of equal count: the pair whose merged bytes sort first
 // (unsigned byte order), then the one with the shorter left part, then the
-// smaller left id.
+// smaller left id, then the smaller right id: a total order, so nothing
+// learned depends on the order of word types.
 #pragma once
 
 #include <array>
@@ -16,6 +17,7 @@
 #include <vector>
 
 #include "core/error.h"
+#include "subword/merge_learner.h"
 #include "subword/vocabulary.h"
 
 namespace sheaf {
@@ -36,17 +38,32 @@ struct TrainOptions {
 struct TrainReport {
   uint64_t word_types = 0;
   uint64_t word_units = 0;
-  uint64_t characters = 0;       // character occurrences counted
+  uint64_t characters = 0;  // character occurrences counted
   uint64_t distinct_characters = 0;
   size_t merges = 0;
-  bool stopped_early = false;    // ran out of pairs with min_count occurrences
+  bool stopped_early = false;  // ran out of pairs with min_count occurrences
   // Wall time of counting and of the merge phase (for benchmarks; never
   // written into an output, which must not depend on timing).
   double count_seconds = 0, merge_seconds = 0;
 };
 
-// `columns`: {0}, {1} or {0, 1} of each TSV file.
+// The distinct word units of the training text with their ids under every
+// learned merge: exactly what the learner ends with, so an encoder can start
+// from them (Encoder::remember) instead of encoding the training text again.
+struct LearnedUnits {
+  std::string bytes;           // the units back to back
+  std::vector<uint64_t> ends;  // unit k is bytes[ends[k-1], ends[k]), ends[-1] = 0
+  WordList ids;                // word k: the ids of unit k
+  size_t size() const { return ends.size(); }
+  std::string_view unit(size_t k) const {
+    size_t b = k == 0 ? 0 : ends[k - 1];
+    return std::string_view(bytes).substr(b, ends[k] - b);
+  }
+};
+
+// `columns`: {0}, {1} or {0, 1} of each TSV file. `units`, if given,
+// receives the learned units.
 Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const std::vector<int>& columns,
-                                    const TrainOptions& o, TrainReport* report);
+                                    const TrainOptions& o, TrainReport* report, LearnedUnits* units = nullptr);
 
 }  // namespace sheaf

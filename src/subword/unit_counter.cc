@@ -2,25 +2,21 @@
 
 #include <xxhash.h>
 
+#include <algorithm>
 #include <cstring>
 
 namespace sheaf {
 
-void UnitCounter::add(std::string_view unit, uint64_t n) { add_hashed(unit, XXH3_64bits(unit.data(), unit.size()), n); }
+uint64_t UnitCounter::hash(std::string_view unit) { return XXH3_64bits(unit.data(), unit.size()); }
 
-void UnitCounter::add_units(std::string_view text, const std::vector<uint32_t>& ends) {
-  hashes_.resize(ends.size());
-  size_t mask = slots_.size() - 1;
-  uint32_t from = 0;
-  for (size_t k = 0; k < ends.size(); ++k) {
-    hashes_[k] = XXH3_64bits(text.data() + from, ends[k] - from);
-    __builtin_prefetch(&slots_[hashes_[k] & mask]);
-    from = ends[k];
-  }
-  from = 0;
-  for (size_t k = 0; k < ends.size(); ++k) {
-    add_hashed(text.substr(from, ends[k] - from), hashes_[k], 1);
-    from = ends[k];
+void UnitCounter::add(std::string_view text, std::span<const HashedUnit> units) {
+  constexpr size_t kAhead = 16;
+  for (size_t k = 0; k < std::min(kAhead, units.size()); ++k)
+    __builtin_prefetch(&slots_[units[k].hash & (slots_.size() - 1)]);
+  for (size_t k = 0; k < units.size(); ++k) {
+    if (k + kAhead < units.size()) __builtin_prefetch(&slots_[units[k + kAhead].hash & (slots_.size() - 1)]);
+    const HashedUnit& u = units[k];
+    add_hashed(text.substr(u.offset, u.length), u.hash, 1);
   }
 }
 
@@ -61,15 +57,6 @@ void UnitCounter::grow() {
     while (slots_[i].count != 0) i = (i + 1) & mask;
     slots_[i] = s;
   }
-}
-
-void UnitCounter::merge(const UnitCounter& other) {
-  // Size the table first: inserting another table's slots in their order
-  // into a smaller table that doubles on the way piles them into long runs
-  // (linear probing meets keys sorted by their low hash bits).
-  while ((size_ + other.size_) * 4 > slots_.size() * 3 || slots_.size() < other.slots_.size()) grow();
-  for (const Slot& s : other.slots_)
-    if (s.count) add(other.bytes(s), s.count);
 }
 
 }  // namespace sheaf

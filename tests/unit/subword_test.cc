@@ -1,6 +1,8 @@
 // Byte-pair encoding: the learner against the paper's examples and a naive
 // reference, lossless round trips, the vocabulary file.
 #include <gtest/gtest.h>
+#include <oneapi/tbb/parallel_for.h>
+#include <oneapi/tbb/task_arena.h>
 #include <unicode/utf8.h>
 
 #include <cstdio>
@@ -9,6 +11,7 @@
 #include <sstream>
 #include <tuple>
 
+#include "io/line_blocks.h"
 #include "stages/normalize.h"
 #include "subword/codec.h"
 #include "subword/merge_learner.h"
@@ -266,10 +269,18 @@ TEST(Codec, RoundTripsAnyUnicodeIncludingUnseenScripts) {
     for (int k = 0; k < n; ++k) {
       UChar32 c;
       switch (rng() % 4) {
-        case 0: c = static_cast<UChar32>(0x20 + rng() % 0x5F); break;         // ASCII
-        case 1: c = static_cast<UChar32>(0x400 + rng() % 0x100); break;       // Cyrillic
-        case 2: c = static_cast<UChar32>(0x4E00 + rng() % 0x5000); break;     // Han
-        default: c = static_cast<UChar32>(rng() % 0x110000); break;           // anything
+        case 0:
+          c = static_cast<UChar32>(0x20 + rng() % 0x5F);
+          break;  // ASCII
+        case 1:
+          c = static_cast<UChar32>(0x400 + rng() % 0x100);
+          break;  // Cyrillic
+        case 2:
+          c = static_cast<UChar32>(0x4E00 + rng() % 0x5000);
+          break;  // Han
+        default:
+          c = static_cast<UChar32>(rng() % 0x110000);
+          break;  // anything
       }
       if (c >= 0xD800 && c <= 0xDFFF) c = 0x20;
       char buf[4];
@@ -366,9 +377,23 @@ std::vector<uint32_t> naive_encode(const Vocabulary& v, size_t merges, const std
 TEST(Codec, AgreesWithANaiveEncoder) {
   test::TempDir t;
   Vocabulary v = small_vocabulary(t, 600);
-  const std::vector<std::string> words = {"garden", "gardeners", "jard\u00edn", "nine", "nueve", "sunset", "semillas",
-                                          "hortelanos", "abierto", "domingo", "gardengardengardengarden",
-                                          "seedsseedsseedsseedsseeds", "aaaa", "eee", "\u0416\u0416", "10:30", "d\u2019"};
+  const std::vector<std::string> words = {"garden",
+                                          "gardeners",
+                                          "jard\u00edn",
+                                          "nine",
+                                          "nueve",
+                                          "sunset",
+                                          "semillas",
+                                          "hortelanos",
+                                          "abierto",
+                                          "domingo",
+                                          "gardengardengardengarden",
+                                          "seedsseedsseedsseedsseeds",
+                                          "aaaa",
+                                          "eee",
+                                          "\u0416\u0416",
+                                          "10:30",
+                                          "d\u2019"};
   std::mt19937 rng(5);
   for (size_t merges : {size_t{0}, size_t{7}, size_t{60}, v.merges()}) {
     Encoder enc(v, merges);
@@ -385,7 +410,8 @@ TEST(Codec, AgreesWithANaiveEncoder) {
 // ones in packed 64-bit slots: both must give every merge its first rank and
 // nothing else a rank.
 TEST(MergeRanks, PackedAndWideTablesAgree) {
-  Vocabulary v = Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
+  Vocabulary v =
+      Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
   std::mt19937 rng(3);
   uint32_t a = v.first_char(), b = a + 1, c = a + 2;
   v.add_merge(a, b);
@@ -441,7 +467,9 @@ TEST(Trainer, SameVocabularyAtAnyThreadCount) {
   test::TempDir t;
   std::string text;
   std::mt19937 rng(3);
-  for (int i = 0; i < 20000; ++i) text += "w" + std::to_string(rng() % 500) + " x" + std::to_string(rng() % 90) + "\ty" + std::to_string(rng() % 300) + "\n";
+  for (int i = 0; i < 20000; ++i)
+    text += "w" + std::to_string(rng() % 500) + " x" + std::to_string(rng() % 90) + "\ty" +
+            std::to_string(rng() % 300) + "\n";
   test::write_file(t / "train.tsv", text);
   TrainOptions o;
   o.size = 900;
@@ -452,6 +480,48 @@ TEST(Trainer, SameVocabularyAtAnyThreadCount) {
   auto four = train_vocabulary({t / "train.tsv"}, {0, 1}, o, nullptr);
   ASSERT_TRUE(one.ok() && four.ok());
   EXPECT_EQ(one->serialize(), four->serialize());
+}
+
+// The learner ends with every training unit encoded by all its merges; the
+// shard step hands these to its encoder instead of encoding train again, so
+// they must be exactly what the encoder computes.
+TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
+  test::TempDir t;
+  std::string text;
+  std::mt19937 rng(11);
+  for (int i = 0; i < 5000; ++i)
+    text += "w" + std::to_string(rng() % 700) + "ab x" + std::to_string(rng() % 90) + "\u00e9\tcc" +
+            std::to_string(rng() % 300) + "\n";
+  test::write_file(t / "train.tsv", text);
+  for (bool split_digits : {false, true}) {
+    TrainOptions o;
+    o.size = 700;
+    o.specials = {"a", "b", "c", "d"};
+    o.threads = 2;
+    o.split_digits = split_digits;
+    o.alphabet_coverage = 0.99;  // some characters go through byte tokens
+    TrainReport r;
+    LearnedUnits units;
+    auto v = train_vocabulary({t / "train.tsv"}, {0, 1}, o, &r, &units);
+    ASSERT_TRUE(v.ok());
+    ASSERT_EQ(units.size(), r.word_types);
+    Encoder fresh(*v);
+    for (size_t k = 0; k < units.size(); ++k) {
+      auto ids = units.ids.word(k);
+      ASSERT_EQ(fresh.encode(units.unit(k)), std::vector<uint32_t>(ids.begin(), ids.end())) << units.unit(k);
+    }
+    // An encoder that starts from them, on four threads, encodes every line
+    // as a fresh one does.
+    Encoder seeded(*v, SIZE_MAX, text.size());
+    for (size_t k = 0; k < units.size(); ++k) seeded.remember(units.unit(k), units.ids.word(k));
+    std::vector<std::string_view> lines;
+    for_each_line(text, [&](std::string_view l) { lines.push_back(l); });
+    std::vector<std::vector<uint32_t>> got(lines.size());
+    tbb::task_arena arena(4);
+    arena.execute(
+        [&] { tbb::parallel_for(size_t{0}, lines.size(), [&](size_t i) { got[i] = seeded.encode(lines[i]); }); });
+    for (size_t i = 0; i < lines.size(); ++i) ASSERT_EQ(got[i], fresh.encode(lines[i])) << lines[i];
+  }
 }
 
 TEST(VocabularyFile, RoundTripsAndDetectsDamage) {
