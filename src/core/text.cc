@@ -97,18 +97,26 @@ const uint8_t* word_classes() {
       int32_t wb = u_getIntPropertyValue(c, UCHAR_WORD_BREAK);
       uint32_t gc = U_GET_GC_MASK(c);
       uint8_t k = kOther;
-      if (c == ' ') k = kSpace;
-      else if (wb == U_WB_ALETTER || c == '@') k = kLetter;  // ICU's root rules count '@' as a letter
-      else if (wb == U_WB_NUMERIC) k = kDigit;
-      else if (wb == U_WB_MIDLETTER) k = (c == 0x3A || c == 0xFE55 || c == 0xFF1A || c == 0xFE13) ? kPunct : kMidLetter;
-      else if (wb == U_WB_MIDNUMLET || wb == U_WB_SINGLE_QUOTE) k = kMidNumLet;
-      else if (wb == U_WB_MIDNUM) k = kMidNum;
-      else if (wb == U_WB_EXTENDNUMLET) k = kExtendNumLet;
+      if (c == ' ')
+        k = kSpace;
+      else if (wb == U_WB_ALETTER || c == '@')
+        k = kLetter;  // ICU's root rules count '@' as a letter
+      else if (wb == U_WB_NUMERIC)
+        k = kDigit;
+      else if (wb == U_WB_MIDLETTER)
+        k = (c == 0x3A || c == 0xFE55 || c == 0xFF1A || c == 0xFE13) ? kPunct : kMidLetter;
+      else if (wb == U_WB_MIDNUMLET || wb == U_WB_SINGLE_QUOTE)
+        k = kMidNumLet;
+      else if (wb == U_WB_MIDNUM)
+        k = kMidNum;
+      else if (wb == U_WB_EXTENDNUMLET)
+        k = kExtendNumLet;
       // Double_Quote joins only between Hebrew letters (WB7b, WB7c), which
       // send text to ICU; anywhere else it is a segment of its own (WB999).
-      else if (wb == U_WB_DOUBLE_QUOTE) k = kPunct;
-      else if (wb == U_WB_OTHER && (gc & (U_GC_P_MASK | U_GC_S_MASK)) && !u_hasBinaryProperty(c, UCHAR_EXTENDED_PICTOGRAPHIC) &&
-               !u_hasBinaryProperty(c, UCHAR_IDEOGRAPHIC))
+      else if (wb == U_WB_DOUBLE_QUOTE)
+        k = kPunct;
+      else if (wb == U_WB_OTHER && (gc & (U_GC_P_MASK | U_GC_S_MASK)) &&
+               !u_hasBinaryProperty(c, UCHAR_EXTENDED_PICTOGRAPHIC) && !u_hasBinaryProperty(c, UCHAR_IDEOGRAPHIC))
         k = kPunct;
       t[static_cast<size_t>(c)] = k;
     }
@@ -270,68 +278,94 @@ void word_segment_ends(std::string_view s, std::vector<uint32_t>& ends) {
   cut_words_icu(s, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
 }
 
-void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) { cut_words_icu(s, fn); }
+void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
+  cut_words_icu(s, fn);
+}
 
 namespace {
 
+// Counting words as a finite automaton over word classes, with the rules of
+// segment_simple: a word is a run of letters, digits and '_' (not a lone
+// '_'), joined across one mid-word character between two letters (WB6, WB7)
+// or two digits (WB11, WB12). A word is counted at its first character, or
+// at its second when it starts with '_'. After a mid-word character the
+// automaton waits for the next one: if that does not go on with the word,
+// it is read as if outside a word (each waiting state's row is the outside
+// row for such characters), and the mid-word character was not part of it.
+enum WordState : uint8_t {
+  kOut,
+  kInLetter,
+  kInDigit,
+  kInUnderscore,
+  kLoneUnderscore,
+  kAfterLetterMid,
+  kAfterDigitMid,
+  kStates
+};
+struct WordAutomaton {
+  uint8_t next[kStates][16];  // low 7 bits: the next state; high bit: a word is counted here
+};
 
-// Counts words in one pass without storing classes; false if the text needs
-// ICU. Same rules as segment_simple.
-bool count_words_fast(std::string_view s, size_t& count) {
-  const uint8_t* table = word_classes();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  count = 0;
-  while (i < n) {
-    uint8_t c = class_at(table, p, n, i);
-    if (c == kOther) return false;
-    if (c != kLetter && c != kDigit && c != kExtendNumLet) continue;
-    uint8_t first = c, prev = c;
-    size_t run = 1;
-    while (i < n) {
-      int32_t j = i;
-      uint8_t d = class_at(table, p, n, j);
-      if (d == kLetter || d == kDigit || d == kExtendNumLet) {
-        i = j;
-        prev = d;
-        ++run;
-        continue;
+const WordAutomaton& word_automaton() {
+  static const WordAutomaton a = [] {
+    WordAutomaton t{};
+    constexpr uint8_t kCount = 0x80;
+    for (uint8_t c = 0; c < 16; ++c) {
+      uint8_t out = c == kLetter         ? uint8_t{kInLetter | kCount}
+                    : c == kDigit        ? uint8_t{kInDigit | kCount}
+                    : c == kExtendNumLet ? uint8_t{kLoneUnderscore}
+                                         : uint8_t{kOut};
+      t.next[kOut][c] = out;
+      for (uint8_t st : {kInLetter, kInDigit, kInUnderscore, kLoneUnderscore}) {
+        uint8_t r;
+        if (c == kLetter)
+          r = kInLetter;
+        else if (c == kDigit)
+          r = kInDigit;
+        else if (c == kExtendNumLet)
+          r = kInUnderscore;
+        else if (st == kInLetter && (c == kMidLetter || c == kMidNumLet))
+          r = kAfterLetterMid;
+        else if (st == kInDigit && (c == kMidNum || c == kMidNumLet))
+          r = kAfterDigitMid;
+        else
+          r = kOut;
+        // A run that started with '_' counts once it has a second character.
+        if (st == kLoneUnderscore && (c == kLetter || c == kDigit || c == kExtendNumLet)) r |= kCount;
+        t.next[st][c] = r;
       }
-      bool mid_letter = (d == kMidLetter || d == kMidNumLet) && prev == kLetter;
-      bool mid_num = (d == kMidNum || d == kMidNumLet) && prev == kDigit;
-      if (!(mid_letter || mid_num) || j >= n) break;
-      int32_t k = j;
-      uint8_t e = class_at(table, p, n, k);
-      if ((mid_letter && e == kLetter) || (mid_num && e == kDigit)) {
-        i = k;
-        prev = e;
-        run += 2;
-        continue;
-      }
-      break;
+      t.next[kAfterLetterMid][c] = c == kLetter ? uint8_t{kInLetter} : out;
+      t.next[kAfterDigitMid][c] = c == kDigit ? uint8_t{kInDigit} : out;
     }
-    count += !(first == kExtendNumLet && run == 1);
-  }
-  return true;
+    return t;
+  }();
+  return a;
 }
 
-// ASCII text: the same rules on bytes, with no decoding.
-bool count_words_ascii(std::string_view s, size_t& count) {
+// Counts words without storing classes; false if the text needs ICU.
+bool count_words_fast(std::string_view s, size_t& count) {
   const uint8_t* table = word_classes();
+  const WordAutomaton& a = word_automaton();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  size_t n = s.size(), i = 0;
-  count = 0;
+  int32_t n = static_cast<int32_t>(s.size()), i = 0;
+  size_t words = 0;
+  uint8_t st = kOut;
   while (i < n) {
-    uint8_t c = table[p[i]];
-    if (!ascii_wordish(c)) {
-      if (c == kOther) return false;
-      ++i;
-      continue;
+    uint8_t c;
+    if (p[i] < 0x80) {
+      c = table[p[i++]];
+    } else {
+      UChar32 cp;
+      U8_NEXT(p, i, n, cp);
+      if (cp < 0 || cp > 0xFFFF) return false;
+      c = table[cp];
     }
-    size_t start = i;
-    i = ascii_word_end(table, p, n, i);
-    count += !(c == kExtendNumLet && i - start == 1);
+    if (c == kOther) return false;
+    uint8_t r = a.next[st][c];
+    words += r >> 7;
+    st = r & 0x7F;
   }
+  count = words;
   return true;
 }
 
@@ -339,7 +373,7 @@ bool count_words_ascii(std::string_view s, size_t& count) {
 
 size_t count_words(std::string_view s) {
   size_t n = 0;
-  if (is_ascii(s) ? count_words_ascii(s, n) : count_words_fast(s, n)) return n;
+  if (count_words_fast(s, n)) return n;
   n = 0;
   cut_words_icu(s, [&](size_t, size_t, bool w) { n += w; });
   return n;

@@ -4,9 +4,9 @@
 #include <unicode/utf8.h>
 
 #include <algorithm>
+#include <vector>
 
 #include "core/text.h"
-#include <vector>
 
 namespace sheaf {
 
@@ -31,17 +31,20 @@ void code_points(std::string_view s, std::vector<UChar32>& out) {
 }
 
 inline uint64_t trigram(const std::vector<UChar32>& v, size_t k) {
-  return (static_cast<uint64_t>(v[k]) << 42) | (static_cast<uint64_t>(v[k + 1]) << 21) | static_cast<uint64_t>(v[k + 2]);
+  return (static_cast<uint64_t>(v[k]) << 42) | (static_cast<uint64_t>(v[k + 1]) << 21) |
+         static_cast<uint64_t>(v[k + 2]);
 }
 
 }  // namespace
 
 double trigram_overlap_bound(std::string_view a, std::string_view b) {
-  // Only trigrams of three ASCII characters are compared, on bytes, hashed
-  // into 4096 buckets (collisions can only add matches); trigrams holding a
-  // non-ASCII character are assumed to match as often as they could. So the
-  // result is never below the exact value. U+0130 and U+212A, the only
-  // non-ASCII characters whose lowercase is ASCII, take the exact path.
+  // Only trigrams of three ASCII characters are compared, on bytes: the
+  // windows of `b` whose trigram is in a 4096-bit set of `a`'s (hashed, so
+  // collisions can only add matches) bound the common ASCII trigrams, as
+  // does the number of `a`'s; trigrams holding a non-ASCII character are
+  // assumed to match as often as they could. So the result is never below
+  // the exact value. U+0130 and U+212A, the only non-ASCII characters whose
+  // lowercase is ASCII, take the exact path.
   auto special = [](std::string_view s) {
     return s.find("\xC4\xB0") != std::string_view::npos || s.find("\xE2\x84\xAA") != std::string_view::npos;
   };
@@ -49,9 +52,9 @@ double trigram_overlap_bound(std::string_view a, std::string_view b) {
   size_t ca = count_code_points(a), cb = count_code_points(b);
   if (ca < 3 || cb < 3) return a == b ? 1.0 : 0.0;
   size_t nx = ca - 2, ny = cb - 2;
-  thread_local std::vector<uint16_t> buckets(4096, 0);
-  auto lower = [](unsigned char c) { return static_cast<uint32_t>(c >= 'A' && c <= 'Z' ? c + 32 : c); };
-  auto bucket = [](uint32_t key) { return static_cast<size_t>((key * 2654435761u) >> 20); };
+  uint64_t set[64] = {};
+  auto lower = [](uint32_t c) { return c | (static_cast<uint32_t>(c - 'A' < 26) << 5); };
+  auto slot = [](uint32_t key) { return (key * 2654435761u) >> 20; };
   // Calls fn(key) for every window of three ASCII bytes; returns their number.
   auto windows = [&](std::string_view s, auto&& fn) {
     size_t run = 0, n = 0;
@@ -69,17 +72,10 @@ double trigram_overlap_bound(std::string_view a, std::string_view b) {
     }
     return n;
   };
-  size_t ascii_a = windows(a, [&](uint32_t k) { ++buckets[bucket(k)]; });
-  size_t common = 0;
-  size_t ascii_b = windows(b, [&](uint32_t k) {
-    uint16_t& c = buckets[bucket(k)];
-    if (c > 0) {
-      --c;
-      ++common;
-    }
-  });
-  std::fill(buckets.begin(), buckets.end(), 0);
-  common += std::min(nx - ascii_a, ny - ascii_b);
+  size_t ascii_a = windows(a, [&](uint32_t k) { set[slot(k) >> 6] |= uint64_t{1} << (slot(k) & 63); });
+  size_t hits = 0;
+  size_t ascii_b = windows(b, [&](uint32_t k) { hits += (set[slot(k) >> 6] >> (slot(k) & 63)) & 1; });
+  size_t common = std::min(hits, ascii_a) + std::min(nx - ascii_a, ny - ascii_b);
   return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }
 
@@ -137,7 +133,8 @@ class CopyStage : public Stage {
   // lengths as a stand-in (a code point is 1 to 4 bytes) a pair whose lengths
   // differ by more than 4x that bound cannot pass it.
   bool could_overlap(std::string_view a, std::string_view b) const {
-    double lo = static_cast<double>(std::min(a.size(), b.size())), hi = static_cast<double>(std::max(a.size(), b.size()));
+    double lo = static_cast<double>(std::min(a.size(), b.size())),
+           hi = static_cast<double>(std::max(a.size(), b.size()));
     return 2.0 * 4.0 * lo / (4.0 * lo + hi) > max_overlap_;
   }
   int index_;

@@ -4,6 +4,7 @@
 #include <unicode/utf8.h>
 
 #include <algorithm>
+#include <cstring>
 #include <map>
 
 #include "core/text.h"
@@ -13,22 +14,51 @@ namespace sheaf {
 std::vector<std::string> scripts_for_language(std::string_view lang) {
   std::string l(lang.substr(0, lang.find_first_of("-_")));
   static const std::map<std::string, std::vector<std::string>> kTable = {
-      {"ja", {"Hani", "Hira", "Kana"}}, {"zh", {"Hani"}}, {"ko", {"Hang", "Hani"}},
-      {"ru", {"Cyrl"}}, {"uk", {"Cyrl"}}, {"be", {"Cyrl"}}, {"bg", {"Cyrl"}}, {"mk", {"Cyrl"}},
-      {"kk", {"Cyrl"}}, {"ky", {"Cyrl"}}, {"mn", {"Cyrl"}}, {"sr", {"Cyrl", "Latn"}},
-      {"el", {"Grek"}}, {"ar", {"Arab"}}, {"fa", {"Arab"}}, {"ur", {"Arab"}}, {"ps", {"Arab"}},
-      {"he", {"Hebr"}}, {"yi", {"Hebr"}}, {"hi", {"Deva"}}, {"mr", {"Deva"}}, {"ne", {"Deva"}},
-      {"bn", {"Beng"}}, {"pa", {"Guru"}}, {"gu", {"Gujr"}}, {"ta", {"Taml"}}, {"te", {"Telu"}},
-      {"kn", {"Knda"}}, {"ml", {"Mlym"}}, {"si", {"Sinh"}}, {"th", {"Thai"}}, {"lo", {"Laoo"}},
-      {"km", {"Khmr"}}, {"my", {"Mymr"}}, {"ka", {"Geor"}}, {"hy", {"Armn"}}, {"am", {"Ethi"}},
+      {"ja", {"Hani", "Hira", "Kana"}},
+      {"zh", {"Hani"}},
+      {"ko", {"Hang", "Hani"}},
+      {"ru", {"Cyrl"}},
+      {"uk", {"Cyrl"}},
+      {"be", {"Cyrl"}},
+      {"bg", {"Cyrl"}},
+      {"mk", {"Cyrl"}},
+      {"kk", {"Cyrl"}},
+      {"ky", {"Cyrl"}},
+      {"mn", {"Cyrl"}},
+      {"sr", {"Cyrl", "Latn"}},
+      {"el", {"Grek"}},
+      {"ar", {"Arab"}},
+      {"fa", {"Arab"}},
+      {"ur", {"Arab"}},
+      {"ps", {"Arab"}},
+      {"he", {"Hebr"}},
+      {"yi", {"Hebr"}},
+      {"hi", {"Deva"}},
+      {"mr", {"Deva"}},
+      {"ne", {"Deva"}},
+      {"bn", {"Beng"}},
+      {"pa", {"Guru"}},
+      {"gu", {"Gujr"}},
+      {"ta", {"Taml"}},
+      {"te", {"Telu"}},
+      {"kn", {"Knda"}},
+      {"ml", {"Mlym"}},
+      {"si", {"Sinh"}},
+      {"th", {"Thai"}},
+      {"lo", {"Laoo"}},
+      {"km", {"Khmr"}},
+      {"my", {"Mymr"}},
+      {"ka", {"Geor"}},
+      {"hy", {"Armn"}},
+      {"am", {"Ethi"}},
   };
   auto it = kTable.find(l);
   if (it != kTable.end()) return it->second;
   // Languages written in the Latin script.
-  static const char* kLatin[] = {"en", "es", "fr", "de", "it", "pt", "nl", "ca", "gl", "eu", "da", "sv", "nb", "nn",
-                                 "no", "is", "fi", "et", "lv", "lt", "pl", "cs", "sk", "sl", "hr", "bs", "ro", "hu",
-                                 "tr", "az", "sq", "mt", "ga", "cy", "id", "ms", "tl", "vi", "sw", "af", "eo", "la",
-                                 "uz", "ha", "yo", "zu", "xh"};
+  static const char* kLatin[] = {"en", "es", "fr", "de", "it", "pt", "nl", "ca", "gl", "eu", "da", "sv",
+                                 "nb", "nn", "no", "is", "fi", "et", "lv", "lt", "pl", "cs", "sk", "sl",
+                                 "hr", "bs", "ro", "hu", "tr", "az", "sq", "mt", "ga", "cy", "id", "ms",
+                                 "tl", "vi", "sw", "af", "eo", "la", "uz", "ha", "yo", "zu", "xh"};
   for (const char* c : kLatin)
     if (l == c) return {"Latn"};
   return {};
@@ -81,7 +111,24 @@ ScriptCount ScriptTable::count(std::string_view text) const {
   ScriptCount r;
   const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  constexpr uint64_t kHigh = 0x8080808080808080ULL;
   while (i < n) {
+    // Eight ASCII bytes at a time: a byte is a letter when, with the case
+    // bit set, it lies in 'a'..'z' (adding 0x1F sets its high bit from 'a'
+    // on, adding 0x05 from '{' on; no byte carries into the next).
+    if (i + 8 <= n) {
+      uint64_t w;
+      std::memcpy(&w, p + i, 8);
+      if ((w & kHigh) == 0) {
+        uint64_t x = w | 0x2020202020202020ULL;
+        uint64_t letters = (x + 0x1F1F1F1F1F1F1F1FULL) & ~(x + 0x0505050505050505ULL) & kHigh;
+        auto k = static_cast<uint32_t>(((letters >> 7) * 0x0101010101010101ULL) >> 56);  // sum of the bytes' flags
+        r.letters += k;
+        r.expected += latin_ ? k : 0;
+        i += 8;
+        continue;
+      }
+    }
     if (p[i] < 0x80) {
       unsigned char c = p[i++];
       if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {

@@ -5,11 +5,11 @@
 #include <unordered_map>
 
 #include "stage_util.h"
-#include "test_util.h"
 #include "stages/copy.h"
 #include "stages/dedup.h"
 #include "stages/dedup_table.h"
 #include "stages/length.h"
+#include "test_util.h"
 
 namespace sheaf {
 namespace {
@@ -25,8 +25,9 @@ TEST(Length, EmptySidesHaveTheirOwnReasons) {
 
 TEST(Length, MinAndMaxPerSideInEachUnit) {
   test::StageHarness words("kind = \"length\"\nsource_min = 2\nsource_max = 3\ntarget_max = 4\nmax_ratio = 0");
-  EXPECT_EQ(words.run({{"one", "uno dos"}, {"one two", "a b"}, {"one two three four", "a"}, {"a b", "1 2 3 4 5"}}).reasons,
-            (Reasons{"too-short:source", "", "too-long:source", "too-long:target"}));
+  EXPECT_EQ(
+      words.run({{"one", "uno dos"}, {"one two", "a b"}, {"one two three four", "a"}, {"a b", "1 2 3 4 5"}}).reasons,
+      (Reasons{"too-short:source", "", "too-long:source", "too-long:target"}));
   // Code points, not bytes: "ñandú" is 5 chars, 7 bytes.
   test::StageHarness chars("kind = \"length\"\nunit = \"chars\"\nsource_max = 5\nmax_ratio = 0");
   test::StageHarness bytes("kind = \"length\"\nunit = \"bytes\"\nsource_max = 5\nmax_ratio = 0");
@@ -34,8 +35,9 @@ TEST(Length, MinAndMaxPerSideInEachUnit) {
   EXPECT_EQ(bytes.reason("\u00f1and\u00fa", "x"), "too-long:source");
   // Words by UAX #29 in a script without spaces.
   test::StageHarness ja("kind = \"length\"\ntarget_max = 2\nmax_ratio = 0", "en", "ja");
-  EXPECT_EQ(ja.reason("The garden opens at nine.", "\u5ead\u5712\u306f\u671d\u4e5d\u6642\u306b\u958b\u304d\u307e\u3059"),
-            "too-long:target");
+  EXPECT_EQ(
+      ja.reason("The garden opens at nine.", "\u5ead\u5712\u306f\u671d\u4e5d\u6642\u306b\u958b\u304d\u307e\u3059"),
+      "too-long:target");
 }
 
 TEST(Length, RatioWithSlack) {
@@ -83,6 +85,17 @@ TEST(Copy, IdenticalAndOverlappingSides) {
     for (int k = 0; k < 5 + static_cast<int>(rng() % 60); ++k) b += "abcdf \u00e9"[rng() % 7];
     ASSERT_GE(trigram_overlap_bound(a, b) + 1e-12, trigram_overlap(a, b)) << a << " / " << b;
   }
+  // Both cases, the bytes next to the letters ('@', '[', '`', '{'), whole
+  // non-ASCII characters and long texts (collisions in the hashed set).
+  const std::vector<std::string> pieces = {"a", "B", "c", "D", "@", "[", "`", "{", " ", "\u00e9", "\u00c9", "\u0416"};
+  for (int i = 0; i < 3000; ++i) {
+    std::string a, b;
+    int n = 3 + static_cast<int>(rng() % (i % 10 == 0 ? 3000 : 80));
+    for (int k = 0; k < n; ++k) a += pieces[rng() % pieces.size()];
+    b = a;
+    for (int k = 0; k < n / 3 + 1; ++k) b[rng() % b.size()] = "xYz"[rng() % 3];
+    ASSERT_GE(trigram_overlap_bound(a, b) + 1e-12, trigram_overlap(a, b)) << a << " / " << b;
+  }
 }
 
 TEST(Dedup, FirstOccurrenceIsKeptAndNamed) {
@@ -97,7 +110,8 @@ TEST(Dedup, ScopesAndKeys) {
   test::StageHarness tgt("kind = \"dedup\"\nscope = \"target\"");
   EXPECT_EQ(tgt.run({{"a", "b"}, {"c", "b"}, {"a", "d"}}).reasons, (Reasons{"", "duplicate:1", ""}));
   test::StageHarness loose("kind = \"dedup\"\nkey = \"loose\"");
-  EXPECT_EQ(loose.run({{"Open today!", "¡Abierto hoy!"}, {"open  today", "ABIERTO HOY."}, {"Open 2 days", "Abierto"}}).reasons,
+  EXPECT_EQ(loose.run({{"Open today!", "¡Abierto hoy!"}, {"open  today", "ABIERTO HOY."}, {"Open 2 days", "Abierto"}})
+                .reasons,
             (Reasons{"", "duplicate:1", ""}));
   EXPECT_EQ(loose_key("Árbol 12, ¡sí!"), "árbolsí");
   test::StageHarness wide("kind = \"dedup\"\nhash_bits = 128");
@@ -159,8 +173,10 @@ rules = [
   { name = "brackets", pattern = "\\[(\\w+)\\]", side = "source", action = "rewrite", replacement = "\\1" },
 ])");
   ASSERT_TRUE(h.ok()) << h.error();
-  auto r = h.run({{"<p>Open <b>daily</b></p>", "<p>Abierto</p>"}, {"Call", "Llame al 555-1234"},
-                  {"Call 555-1234", "Llame"}, {"a [b] c", "[d]"}});
+  auto r = h.run({{"<p>Open <b>daily</b></p>", "<p>Abierto</p>"},
+                  {"Call", "Llame al 555-1234"},
+                  {"Call 555-1234", "Llame"},
+                  {"a [b] c", "[d]"}});
   EXPECT_EQ(r.reasons, (Reasons{"", "phone", "", ""}));
   EXPECT_EQ(r.text[0], (std::pair<std::string, std::string>{"Open daily", "Abierto"}));
   EXPECT_EQ(r.text[3], (std::pair<std::string, std::string>{"a b c", "[d]"}));
@@ -168,7 +184,9 @@ rules = [
 
 TEST(Pattern, DefaultRulesStripMarkupAndDropAddresses) {
   test::StageHarness h("kind = \"pattern\"");
-  auto r = h.run({{"<p>Open</p>&nbsp;", "Abierto"}, {"See https://example.org/x", "Vea"}, {"Write to a.b@example.org", "Escriba"}});
+  auto r = h.run({{"<p>Open</p>&nbsp;", "Abierto"},
+                  {"See https://example.org/x", "Vea"},
+                  {"Write to a.b@example.org", "Escriba"}});
   EXPECT_EQ(r.reasons, (Reasons{"", "url", "email"}));
   EXPECT_EQ(r.text[0].first, "Open");
 }
@@ -180,7 +198,8 @@ TEST(Pattern, InvalidPatternIsAPipelineErrorWithRe2sMessage) {
   EXPECT_NE(h.error().find("missing )"), std::string::npos) << h.error();
   test::StageHarness noname("kind = \"pattern\"\nrules = [{ pattern = \"x\" }]");
   EXPECT_FALSE(noname.ok());
-  test::StageHarness badrepl("kind = \"pattern\"\nrules = [{ name = \"r\", pattern = \"x\", action = \"rewrite\", replacement = \"\\\\2\" }]");
+  test::StageHarness badrepl(
+      "kind = \"pattern\"\nrules = [{ name = \"r\", pattern = \"x\", action = \"rewrite\", replacement = \"\\\\2\" }]");
   EXPECT_FALSE(badrepl.ok());
 }
 

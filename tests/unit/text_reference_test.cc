@@ -6,9 +6,9 @@
 #include <fstream>
 #include <map>
 #include <random>
-#include <tuple>
 #include <set>
 #include <sstream>
+#include <tuple>
 
 #include "core/text.h"
 #include "stages/script.h"
@@ -72,10 +72,12 @@ TEST(WordBoundaries, MatchWordBreakTestTxt) {
 // ICU: boundaries and word flags must be identical.
 TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
   const std::vector<std::string> pieces = {
-      "a", "B", "z", "7", "0", " ", "  ", ".", "'", ",", ";", ":", "_", "-", "!", "?", "\"", "(", "/", "+", "@",
-      "\u00e9", "\u00f1", "\u00df", "\u00dc", "\u0430", "\u0416", "\u03b1", "\u2019", "\u2018", "\u00b7", "\u00bf",
-      "\u00a1", "\u00ab", "\u00bb", "\u20ac", "\u2024", "\uff0e", "\u0660", "\u066b", "\u0301", "\u3000", "\u4e2d",
-      "\u3042", "\u30a2", "\u05d0", "\u0e01", "\t", "\U0001F600", "\U0001F1EA", "\u200d", "\u00ad", "\u2060", "\u0131"};
+      "a",      "B",      "z",      "7",          "0",          " ",      "  ",     ".",      "'",
+      ",",      ";",      ":",      "_",          "-",          "!",      "?",      "\"",     "(",
+      "/",      "+",      "@",      "\u00e9",     "\u00f1",     "\u00df", "\u00dc", "\u0430", "\u0416",
+      "\u03b1", "\u2019", "\u2018", "\u00b7",     "\u00bf",     "\u00a1", "\u00ab", "\u00bb", "\u20ac",
+      "\u2024", "\uff0e", "\u0660", "\u066b",     "\u0301",     "\u3000", "\u4e2d", "\u3042", "\u30a2",
+      "\u05d0", "\u0e01", "\t",     "\U0001F600", "\U0001F1EA", "\u200d", "\u00ad", "\u2060", "\u0131"};
   std::mt19937 rng(2024);
   size_t fast = 0;
   for (int trial = 0; trial < 20000; ++trial) {
@@ -116,10 +118,12 @@ TEST(Scripts, MatchScriptsTxt) {
   std::ifstream in("/usr/share/unicode/Scripts.txt");
   ASSERT_TRUE(in);
   const std::map<std::string, UScriptCode> wanted = {
-      {"Latin", USCRIPT_LATIN},       {"Cyrillic", USCRIPT_CYRILLIC}, {"Greek", USCRIPT_GREEK},
-      {"Han", USCRIPT_HAN},           {"Hiragana", USCRIPT_HIRAGANA}, {"Katakana", USCRIPT_KATAKANA},
-      {"Arabic", USCRIPT_ARABIC},     {"Hebrew", USCRIPT_HEBREW},     {"Hangul", USCRIPT_HANGUL},
-      {"Devanagari", USCRIPT_DEVANAGARI}, {"Thai", USCRIPT_THAI},     {"Georgian", USCRIPT_GEORGIAN},
+      {"Latin", USCRIPT_LATIN},       {"Cyrillic", USCRIPT_CYRILLIC},
+      {"Greek", USCRIPT_GREEK},       {"Han", USCRIPT_HAN},
+      {"Hiragana", USCRIPT_HIRAGANA}, {"Katakana", USCRIPT_KATAKANA},
+      {"Arabic", USCRIPT_ARABIC},     {"Hebrew", USCRIPT_HEBREW},
+      {"Hangul", USCRIPT_HANGUL},     {"Devanagari", USCRIPT_DEVANAGARI},
+      {"Thai", USCRIPT_THAI},         {"Georgian", USCRIPT_GEORGIAN},
   };
   std::map<UScriptCode, ScriptTable> tables;
   for (const auto& [name, code] : wanted) tables.emplace(code, ScriptTable({code}));
@@ -156,6 +160,30 @@ TEST(Scripts, MatchScriptsTxt) {
     }
   }
   for (const auto& [name, code] : wanted) EXPECT_GT(checked[name], 10u) << name;
+}
+
+// The table's eight-bytes-at-a-time path for ASCII against ICU's script
+// property (count_scripts), on generated text of every ASCII byte and some
+// letters of other scripts, at every alignment.
+TEST(Scripts, TableAgreesWithIcuOnMixedText) {
+  const std::vector<std::string> other = {"\u00e9", "\u0416", "\u03b1", "\u4e2d", "\u0301", "\U0001F600", "\u05d0"};
+  std::mt19937 rng(9);
+  for (UScriptCode code : {USCRIPT_LATIN, USCRIPT_CYRILLIC}) {
+    ScriptTable table({code});
+    for (int trial = 0; trial < 5000; ++trial) {
+      std::string s;
+      int n = static_cast<int>(rng() % 40);
+      for (int i = 0; i < n; ++i) {
+        if (rng() % 8 == 0)
+          s += other[rng() % other.size()];
+        else
+          s += static_cast<char>(rng() % 128);
+      }
+      ScriptCount want = count_scripts(s, {code}), got = table.count(s);
+      ASSERT_EQ(got.letters, want.letters) << s;
+      ASSERT_EQ(got.expected, want.expected) << s;
+    }
+  }
 }
 
 TEST(Scripts, CommonAndInheritedAreNotCounted) {
