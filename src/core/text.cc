@@ -304,6 +304,9 @@ enum WordState : uint8_t {
 };
 struct WordAutomaton {
   uint8_t next[kStates][16];  // low 7 bits: the next state; high bit: a word is counted here
+  // Two characters at a time (classes c1 * 16 + c2): low 6 bits: the state
+  // after both; high 2 bits: the words counted on the way.
+  uint8_t next2[kStates][256];
 };
 
 const WordAutomaton& word_automaton() {
@@ -337,6 +340,11 @@ const WordAutomaton& word_automaton() {
       t.next[kAfterLetterMid][c] = c == kLetter ? uint8_t{kInLetter} : out;
       t.next[kAfterDigitMid][c] = c == kDigit ? uint8_t{kInDigit} : out;
     }
+    for (uint8_t st = 0; st < kStates; ++st)
+      for (unsigned c = 0; c < 256; ++c) {
+        uint8_t r1 = t.next[st][c >> 4], r2 = t.next[r1 & 0x7F][c & 15];
+        t.next2[st][c] = static_cast<uint8_t>(((r1 >> 7) + (r2 >> 7)) << 6 | (r2 & 0x7F));
+      }
     return t;
   }();
   return a;
@@ -349,8 +357,19 @@ bool count_words_fast(std::string_view s, size_t& count) {
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   int32_t n = static_cast<int32_t>(s.size()), i = 0;
   size_t words = 0;
-  uint8_t st = kOut;
+  uint8_t st = kOut, other = 0;
   while (i < n) {
+    // Two ASCII characters at a time: half as many steps that wait for the
+    // state before them.
+    while (i + 1 < n && (p[i] | p[i + 1]) < 0x80) {
+      uint8_t c1 = table[p[i]], c2 = table[p[i + 1]];
+      other |= static_cast<uint8_t>((c1 == kOther) | (c2 == kOther));
+      uint8_t r = a.next2[st][c1 << 4 | c2];
+      words += r >> 6;
+      st = r & 0x3F;
+      i += 2;
+    }
+    if (i >= n) break;
     uint8_t c;
     if (p[i] < 0x80) {
       c = table[p[i++]];
@@ -365,6 +384,7 @@ bool count_words_fast(std::string_view s, size_t& count) {
     words += r >> 7;
     st = r & 0x7F;
   }
+  if (other) return false;
   count = words;
   return true;
 }
