@@ -223,44 +223,49 @@ void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool
 
 namespace {
 
-inline bool ascii_wordish(uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; }
+inline bool wordish(uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; }
 
-// The end of the word that starts at p[i] (a letter, digit or '_') in ASCII
-// text: letters, digits and '_', joined across one mid-word character
-// between two letters (WB6, WB7) or two digits (WB11, WB12).
-inline size_t ascii_word_end(const uint8_t* table, const uint8_t* p, size_t n, size_t i) {
-  uint8_t prev = table[p[i++]];
-  for (;;) {
-    while (i < n && ascii_wordish(table[p[i]])) prev = table[p[i++]];
-    if (i + 1 >= n) return i;
-    uint8_t d = table[p[i]], e = table[p[i + 1]];
-    bool join = (prev == kLetter && e == kLetter && (d == kMidLetter || d == kMidNumLet)) ||
-                (prev == kDigit && e == kDigit && (d == kMidNum || d == kMidNumLet));
-    if (!join) return i;
-    prev = e;
-    i += 2;
-  }
-}
-
-// segment_simple's rules on ASCII bytes, with no decoding and no class
-// vector.
-// False (and `ends` as it was) if a character needs ICU.
-bool segment_ascii(std::string_view s, std::vector<uint32_t>& ends) {
+// segment_simple's rules while decoding, with no class vector: the end of
+// every segment appended to `ends`. False (and `ends` as it was) if a
+// character needs ICU.
+bool segment_fast(std::string_view s, std::vector<uint32_t>& ends) {
   const uint8_t* table = word_classes();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  size_t n = s.size(), i = 0, had = ends.size();
+  int32_t n = static_cast<int32_t>(s.size()), i = 0;
+  size_t had = ends.size();
+  auto fail = [&] {
+    ends.resize(had);
+    return false;
+  };
   while (i < n) {
-    uint8_t c = table[p[i]];
-    if (c == kOther) {  // controls
-      ends.resize(had);
-      return false;
-    }
+    uint8_t c = class_at(table, p, n, i);
+    if (c == kOther) return fail();
     if (c == kSpace) {
-      while (i < n && p[i] == ' ') ++i;
-    } else if (ascii_wordish(c)) {
-      i = ascii_word_end(table, p, n, i);
-    } else {
-      ++i;
+      while (i < n && p[i] == ' ') ++i;  // ' ' is the only character of this class
+    } else if (wordish(c)) {
+      // Letters, digits and '_', joined across one mid-word character
+      // between two letters (WB6, WB7) or two digits (WB11, WB12).
+      uint8_t prev = c;
+      while (i < n) {
+        int32_t j = i;
+        uint8_t d = class_at(table, p, n, j);
+        if (wordish(d)) {
+          prev = d;
+          i = j;
+          continue;
+        }
+        bool mid_letter = (d == kMidLetter || d == kMidNumLet) && prev == kLetter;
+        bool mid_num = (d == kMidNum || d == kMidNumLet) && prev == kDigit;
+        if (!(mid_letter || mid_num) || j >= n) break;
+        int32_t k = j;
+        uint8_t e = class_at(table, p, n, k);
+        if ((mid_letter && e == kLetter) || (mid_num && e == kDigit)) {
+          prev = e;
+          i = k;
+          continue;
+        }
+        break;
+      }
     }
     ends.push_back(static_cast<uint32_t>(i));
   }
@@ -270,11 +275,7 @@ bool segment_ascii(std::string_view s, std::vector<uint32_t>& ends) {
 }  // namespace
 
 void word_segment_ends(std::string_view s, std::vector<uint32_t>& ends) {
-  if (is_ascii(s) && segment_ascii(s, ends)) return;
-  if (classify_simple(s, t_classes)) {
-    segment_simple(s, t_classes, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
-    return;
-  }
+  if (segment_fast(s, ends)) return;
   cut_words_icu(s, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
 }
 
