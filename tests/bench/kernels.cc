@@ -3,15 +3,18 @@
 #include <benchmark/benchmark.h>
 #include <xxhash.h>
 
+#include <cstdio>
 #include <random>
 #include <string>
 #include <vector>
 
 #include "core/text.h"
+#include "stages/copy.h"
 #include "stages/dedup_table.h"
 #include "stages/normalize.h"
 #include "stages/script.h"
 #include "subword/codec.h"
+#include "subword/trainer.h"
 #include "subword/units.h"
 
 namespace {
@@ -94,6 +97,24 @@ void BM_ScriptRatio(benchmark::State& st) {
 }
 BENCHMARK(BM_ScriptRatio);
 
+// What the script stage runs: the table built once per stage.
+void BM_ScriptTable(benchmark::State& st) {
+  ScriptTable table({USCRIPT_LATIN});
+  for (auto _ : st) {
+    benchmark::DoNotOptimize(table.count(kLatin));
+    benchmark::DoNotOptimize(table.count(kAscii));
+  }
+  st.SetBytesProcessed(static_cast<int64_t>(st.iterations() * (kLatin.size() + kAscii.size())));
+}
+BENCHMARK(BM_ScriptTable);
+
+// The copy stage's first test of a pair that is a translation.
+void BM_CopyBound(benchmark::State& st) {
+  for (auto _ : st) benchmark::DoNotOptimize(trigram_overlap_bound(kAscii, kLatin));
+  st.SetBytesProcessed(static_cast<int64_t>(st.iterations() * (kLatin.size() + kAscii.size())));
+}
+BENCHMARK(BM_CopyBound);
+
 void BM_CountWords(benchmark::State& st) {
   for (auto _ : st) benchmark::DoNotOptimize(count_words(kLatin));
   st.SetBytesProcessed(static_cast<int64_t>(st.iterations() * kLatin.size()));
@@ -113,6 +134,50 @@ void BM_CutUnits(benchmark::State& st) {
   st.SetBytesProcessed(static_cast<int64_t>(st.iterations() * kLatin.size()));
 }
 BENCHMARK(BM_CutUnits);
+
+// BPE encoding of words the encoder has not seen (its cache is full of
+// others): a vocabulary of 4,000 tokens learned on generated words, then
+// 100,000 other generated words encoded in turn.
+void BM_EncodeNewWord(benchmark::State& st) {
+  std::mt19937 rng(4);
+  const char* syllables[] = {"jar", "din", "flo", "res", "ma", "na", "ci", "er", "ra", "te", "ol", "mo", "pi", "ne"};
+  auto word = [&] {
+    std::string w = " ";
+    for (int k = 0, n = 2 + static_cast<int>(rng() % 3); k < n; ++k) w += syllables[rng() % 14];
+    return w;
+  };
+  std::string path = "/tmp/sheaf_kernels_train.tsv";
+  {
+    std::string text;
+    for (int i = 0; i < 20000; ++i) text += word() + word() + "\t" + word() + "\n";
+    FILE* f = std::fopen(path.c_str(), "wb");
+    std::fwrite(text.data(), 1, text.size(), f);
+    std::fclose(f);
+  }
+  TrainOptions o;
+  o.size = 4000;
+  o.specials = {"p", "u", "b", "e"};
+  auto v = train_vocabulary({path}, {0, 1}, o, nullptr);
+  std::remove(path.c_str());
+  if (!v.ok()) {
+    st.SkipWithError(v.error().describe().c_str());
+    return;
+  }
+  std::vector<std::string> words;
+  for (int i = 0; i < 100000; ++i) words.push_back(word() + word());
+  Encoder enc(*v, SIZE_MAX, 1);  // the smallest cache: full after 3,072 words
+  std::vector<uint32_t> ids;
+  size_t i = 0, bytes = 0;
+  for (auto _ : st) {
+    const std::string& w = words[i++ % words.size()];
+    ids.clear();
+    enc.encode(w, ids);
+    benchmark::DoNotOptimize(ids.data());
+    bytes += w.size();
+  }
+  st.SetBytesProcessed(static_cast<int64_t>(bytes));
+}
+BENCHMARK(BM_EncodeNewWord);
 
 }  // namespace
 
