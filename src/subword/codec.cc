@@ -29,7 +29,7 @@ void Encoder::UnitCache::prefetch(uint64_t hash) const {
 bool Encoder::UnitCache::find(std::string_view unit, uint64_t hash, std::vector<uint32_t>& out) const {
   const Slot* t = table_.load(std::memory_order_acquire);
   if (t == nullptr || hash <= kWriting) return false;
-  for (size_t i = hash & (slots_ - 1);; i = (i + 1) & (slots_ - 1)) {
+  for (size_t i = hash & (slots_ - 1), probes = 0; probes < kProbes; i = (i + 1) & (slots_ - 1), ++probes) {
     const Slot& s = t[i];
     uint64_t h = s.hash.load(std::memory_order_acquire);
     if (h == kEmpty) return false;
@@ -49,20 +49,24 @@ bool Encoder::UnitCache::find(std::string_view unit, uint64_t hash, std::vector<
       return true;
     }
   }
+  return false;
 }
 
-void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n) {
+void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n,
+                             uint32_t& unflushed) {
   // Once full, the cache keeps what it has: in text whose words follow
-  // Zipf's law the units seen first are mostly the frequent ones.
+  // Zipf's law the units seen first are mostly the frequent ones. Each
+  // thread adds its count to the shared one in steps of kFlush, so that the
+  // threads do not write one cache line for every unit.
   if (hash <= kWriting || unit.size() + n * id_bytes_ > kData ||
-      size_.load(std::memory_order_relaxed) >= slots_ / 4 * 3)
+      size_.load(std::memory_order_relaxed) + unflushed >= slots_ / 4 * 3)
     return;
   std::call_once(allocated_, [&] {
     store_ = HugeVector<Slot>(slots_);
     table_.store(store_.data(), std::memory_order_release);
   });
   Slot* t = store_.data();
-  for (size_t i = hash & (slots_ - 1);; i = (i + 1) & (slots_ - 1)) {
+  for (size_t i = hash & (slots_ - 1), probes = 0; probes < kProbes; i = (i + 1) & (slots_ - 1), ++probes) {
     Slot& s = t[i];
     uint64_t h = s.hash.load(std::memory_order_acquire);
     if (h == hash && s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0) return;
@@ -80,7 +84,10 @@ void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_
       }
     }
     s.hash.store(hash, std::memory_order_release);
-    size_.fetch_add(1, std::memory_order_relaxed);
+    if (++unflushed == kFlush) {
+      size_.fetch_add(kFlush, std::memory_order_relaxed);
+      unflushed = 0;
+    }
     return;
   }
 }
@@ -134,7 +141,8 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
 }
 
 void Encoder::remember(std::string_view unit, std::span<const uint32_t> ids) const {
-  cache_.add(unit, XXH3_64bits(unit.data(), unit.size()), ids.data(), static_cast<uint32_t>(ids.size()));
+  cache_.add(unit, XXH3_64bits(unit.data(), unit.size()), ids.data(), static_cast<uint32_t>(ids.size()),
+             scratch_.local().unflushed);
 }
 
 void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const {
@@ -158,7 +166,7 @@ void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeSt
     if (cache_.find(unit, sc.hashes[k], out)) continue;
     encode_unit(unit, sc);
     out.insert(out.end(), sc.symbols.begin(), sc.symbols.end());
-    cache_.add(unit, sc.hashes[k], sc.symbols.data(), static_cast<uint32_t>(sc.symbols.size()));
+    cache_.add(unit, sc.hashes[k], sc.symbols.data(), static_cast<uint32_t>(sc.symbols.size()), sc.unflushed);
   }
   if (stats) {
     stats->tokens += out.size() - start;

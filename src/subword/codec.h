@@ -69,12 +69,17 @@ class Encoder {
     UnitCache(size_t slots, bool narrow_ids) : slots_(slots), id_bytes_(narrow_ids ? 2 : 4) {}
     // Appends the ids of `unit` to `out`; false if it is not kept.
     bool find(std::string_view unit, uint64_t hash, std::vector<uint32_t>& out) const;
-    void add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n);
+    // `unflushed`: the calling thread's adds not yet in the shared count.
+    void add(std::string_view unit, uint64_t hash, const uint32_t* ids, uint32_t n, uint32_t& unflushed);
     void prefetch(uint64_t hash) const;
 
    private:
     static constexpr uint64_t kEmpty = 0, kWriting = 1;  // units of these hashes are never kept
     static constexpr size_t kData = 22;
+    // A unit is kept within kProbes slots of its home slot (so a lookup
+    // ends there, full table or not); counts are shared every kFlush adds.
+    static constexpr size_t kProbes = 64;
+    static constexpr uint32_t kFlush = 256;
     struct alignas(32) Slot {
       std::atomic<uint64_t> hash;
       uint8_t bytes_len, ids_len;
@@ -91,6 +96,7 @@ class Encoder {
     std::vector<uint32_t> ends, symbols, ranks;
     std::vector<uint64_t> hashes;
     std::vector<uint8_t> merged;
+    uint32_t unflushed = 0;  // this thread's cache adds not yet counted
   };
   void encode_unit(std::string_view unit, Scratch& s) const;
   const Vocabulary& v_;
