@@ -113,11 +113,11 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
   if (n < 2) return;
   rank.resize(n);
   merged.resize(n);
-  for (size_t k = 0; k + 1 < n; ++k) rank[k] = rank_of(s[k], s[k + 1]);
+  // The lowest rank is found while the ranks are (re)computed.
+  uint32_t best = UINT32_MAX;
+  for (size_t k = 0; k + 1 < n; ++k) best = std::min(best, rank[k] = rank_of(s[k], s[k + 1]));
   rank[n - 1] = UINT32_MAX;
-  for (;;) {
-    uint32_t best = *std::min_element(rank.begin(), rank.begin() + static_cast<ptrdiff_t>(n));
-    if (best == UINT32_MAX) break;
+  while (best != UINT32_MAX) {
     uint32_t result = v_.first_merge() + best;
     size_t w = 0;  // in place: w <= k throughout
     for (size_t k = 0; k < n; ++w) {
@@ -133,8 +133,11 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
       }
     }
     n = w;
-    for (size_t k = 0; k + 1 < n; ++k)
+    best = UINT32_MAX;
+    for (size_t k = 0; k + 1 < n; ++k) {
       if (merged[k] | merged[k + 1]) rank[k] = rank_of(s[k], s[k + 1]);
+      best = std::min(best, rank[k]);
+    }
     rank[n - 1] = UINT32_MAX;
   }
   s.resize(n);
