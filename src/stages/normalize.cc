@@ -1,16 +1,16 @@
 #include "stages/normalize.h"
 
+#include <unicode/bytestream.h>
 #include <unicode/casemap.h>
 #include <unicode/normalizer2.h>
-#include <unicode/unorm2.h>
-#include <unicode/bytestream.h>
 #include <unicode/uchar.h>
+#include <unicode/unorm2.h>
 #include <unicode/utf8.h>
-
-#include "core/text.h"
 
 #include <cstring>
 #include <vector>
+
+#include "core/text.h"
 
 namespace sheaf {
 
@@ -24,8 +24,8 @@ NormalForm parse_form(const std::string& s) {
 
 // Format characters that carry meaning and are kept.
 bool keep_format(UChar32 c) {
-  return c == 0x200C || c == 0x200D || (c >= 0x0600 && c <= 0x0605) || c == 0x06DD || c == 0x070F ||
-         c == 0x08E2 || c == 0x110BD || c == 0x110CD || (c >= 0xE0020 && c <= 0xE007F);
+  return c == 0x200C || c == 0x200D || (c >= 0x0600 && c <= 0x0605) || c == 0x06DD || c == 0x070F || c == 0x08E2 ||
+         c == 0x110BD || c == 0x110CD || (c >= 0xE0020 && c <= 0xE007F);
 }
 
 enum class CharClass { kKeep, kSpace, kRemove };
@@ -71,19 +71,26 @@ bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) 
   bool prev_space = false;
   *valid = true;
   *safe = kNfcSafe | kNfkcSafe;
-  constexpr uint64_t kOnes = 0x0101010101010101ULL, kHigh = 0x8080808080808080ULL;
+  constexpr uint64_t kHigh = 0x8080808080808080ULL, kLow7 = 0x7F7F7F7F7F7F7F7FULL;
+  // The high bit of every byte of v that is zero, exactly (no borrows).
+  auto zero_bytes = [&](uint64_t v) { return ~(((v & kLow7) + kLow7) | v) & kHigh; };
   while (i < n) {
-    // Eight ASCII bytes with no control, DEL or double space at a time.
+    // Up to eight ASCII bytes at a time (those before the first non-ASCII
+    // byte of the eight) when they hold no control, no DEL and no two spaces
+    // in a row. The tests are exact for ASCII bytes; what a non-ASCII byte
+    // carries goes only to the bytes after it, which are masked off.
     if (i + 8 <= n) {
       uint64_t w;
       std::memcpy(&w, p + i, 8);
-      if ((w & kHigh) == 0 && ((w - 0x2020202020202020ULL) & ~w & kHigh) == 0 &&
-          (((w ^ 0x7F7F7F7F7F7F7F7FULL) - kOnes) & ~(w ^ 0x7F7F7F7F7F7F7F7FULL) & kHigh) == 0) {
-        uint64_t x = w ^ 0x2020202020202020ULL;
-        uint64_t sp = (x - kOnes) & ~x & kHigh;
-        if ((sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
-          prev_space = (sp >> 63) != 0;
-          i += 8;
+      uint64_t high = w & kHigh;
+      int ascii = high ? __builtin_ctzll(high) >> 3 : 8;
+      if (ascii > 0) {
+        uint64_t keep = ascii == 8 ? ~uint64_t{0} : (uint64_t{1} << (8 * ascii)) - 1;
+        uint64_t bad = ((~(w + 0x6060606060606060ULL) & kHigh) | zero_bytes(w ^ kLow7)) & keep;  // < 0x20, DEL
+        uint64_t sp = zero_bytes(w ^ 0x2020202020202020ULL) & keep;
+        if (bad == 0 && (sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
+          prev_space = (sp >> (8 * ascii - 1)) & 1;
+          i += ascii;
           continue;
         }
       }
@@ -210,9 +217,9 @@ struct Punct {
 };
 // Small, deliberate table: typographic quotes and dashes only.
 const Punct kPunct[] = {
-    {0x2018, "'"}, {0x2019, "'"}, {0x201A, "'"}, {0x201B, "'"}, {0x2032, "'"},  {0x201C, "\""},
+    {0x2018, "'"},  {0x2019, "'"},  {0x201A, "'"},  {0x201B, "'"},  {0x2032, "'"}, {0x201C, "\""},
     {0x201D, "\""}, {0x201E, "\""}, {0x201F, "\""}, {0x2033, "\""}, {0x2010, "-"}, {0x2011, "-"},
-    {0x2012, "-"}, {0x2013, "-"}, {0x2014, "-"}, {0x2015, "-"}, {0x2212, "-"},
+    {0x2012, "-"},  {0x2013, "-"},  {0x2014, "-"},  {0x2015, "-"},  {0x2212, "-"},
 };
 
 bool unify_punct(std::string_view in, std::string& out) {
@@ -249,8 +256,7 @@ const icu::Normalizer2* normalizer(NormalForm f) {
 
 TextNormalizer::TextNormalizer(const NormalizeOptions& o) : o_(o) {}
 
-TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std::string& out,
-                                              size_t* repairs) const {
+TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std::string& out, size_t* repairs) const {
   if (is_ascii(in)) {
     if (ascii_clean(in, o_.casefold)) return Outcome::kUnchanged;
     ascii_rewrite(in, o_.strip_controls, o_.casefold, out);
@@ -261,11 +267,13 @@ TextNormalizer::Outcome TextNormalizer::apply(std::string_view in, int side, std
   uint8_t safe = 0;
   if (already_clean(in, o_.strip_controls, &valid, &safe) && !o_.casefold && !o_.punctuation[side]) {
     NormalForm f = o_.form[side];
-    if (f == NormalForm::kNone || (f == NormalForm::kNfc && (safe & kNfcSafe)) || (f == NormalForm::kNfkc && (safe & kNfkcSafe)))
+    if (f == NormalForm::kNone || (f == NormalForm::kNfc && (safe & kNfcSafe)) ||
+        (f == NormalForm::kNfkc && (safe & kNfkcSafe)))
       return Outcome::kUnchanged;
     const icu::Normalizer2* norm = normalizer(f);
     UErrorCode st = U_ZERO_ERROR;
-    if (norm->isNormalizedUTF8(icu::StringPiece(in.data(), static_cast<int32_t>(in.size())), st)) return Outcome::kUnchanged;
+    if (norm->isNormalizedUTF8(icu::StringPiece(in.data(), static_cast<int32_t>(in.size())), st))
+      return Outcome::kUnchanged;
   }
   std::string cur;
   bool changed = false;
@@ -338,8 +346,11 @@ class NormalizeStage : public Stage {
       for (int side = 0; side < 2 && p.kept(); ++side) {
         size_t repairs = 0;
         switch (norm_.apply(p.text[side], side, out, &repairs)) {
-          case TextNormalizer::Outcome::kUnchanged: break;
-          case TextNormalizer::Outcome::kRewritten: p.set_text(side, batch.arena.copy(out)); break;
+          case TextNormalizer::Outcome::kUnchanged:
+            break;
+          case TextNormalizer::Outcome::kRewritten:
+            p.set_text(side, batch.arena.copy(out));
+            break;
           case TextNormalizer::Outcome::kInvalidUtf8:
             batch.drop(p, index_, std::string("invalid-utf8:") + side_name(side));
             break;
@@ -388,16 +399,36 @@ const StageKind& normalize_kind() {
       "Unicode normalization, invisible-character removal, one space between words",
       StageRole::kFilter,
       {
-          {"source_form", FieldType::kChoice, std::string("nfc"), "normalization form of the source: nfc, nfkc or none",
-           0, 0, {kForms[0], kForms[1], kForms[2]}},
-          {"target_form", FieldType::kChoice, std::string("nfc"), "normalization form of the target: nfc, nfkc or none",
-           0, 0, {kForms[0], kForms[1], kForms[2]}},
-          {"invalid_utf8", FieldType::kChoice, std::string("drop"),
-           "\"drop\" the pair, or \"replace\" each bad sequence with U+FFFD", 0, 0, {"drop", "replace"}},
+          {"source_form",
+           FieldType::kChoice,
+           std::string("nfc"),
+           "normalization form of the source: nfc, nfkc or none",
+           0,
+           0,
+           {kForms[0], kForms[1], kForms[2]}},
+          {"target_form",
+           FieldType::kChoice,
+           std::string("nfc"),
+           "normalization form of the target: nfc, nfkc or none",
+           0,
+           0,
+           {kForms[0], kForms[1], kForms[2]}},
+          {"invalid_utf8",
+           FieldType::kChoice,
+           std::string("drop"),
+           "\"drop\" the pair, or \"replace\" each bad sequence with U+FFFD",
+           0,
+           0,
+           {"drop", "replace"}},
           {"strip_controls", FieldType::kBool, true, "remove control and invisible format characters (keeps ZWJ/ZWNJ)"},
           {"casefold", FieldType::kBool, false, "apply Unicode case folding to both sides"},
-          {"punctuation", FieldType::kChoice, std::string("off"),
-           "straighten curly quotes and dashes: off, both, source or target", 0, 0, {"off", "both", "source", "target"}},
+          {"punctuation",
+           FieldType::kChoice,
+           std::string("off"),
+           "straighten curly quotes and dashes: off, both, source or target",
+           0,
+           0,
+           {"off", "both", "source", "target"}},
       }};
   return k;
 }

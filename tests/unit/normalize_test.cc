@@ -1,6 +1,8 @@
 // normalize: checked against the Unicode Character Database's
 // NormalizationTest.txt (Unicode 15.0, Debian package unicode-data), plus
 // every option of the stage.
+#include "stages/normalize.h"
+
 #include <gtest/gtest.h>
 #include <unicode/bytestream.h>
 #include <unicode/normalizer2.h>
@@ -12,7 +14,6 @@
 #include <sstream>
 
 #include "stage_util.h"
-#include "stages/normalize.h"
 
 namespace sheaf {
 namespace {
@@ -115,12 +116,37 @@ TEST(Normalize, AsciiFastPathAgreesWithAReference) {
     for (int k = 0; k < static_cast<int>(rng() % 40); ++k) s += alphabet[rng() % (sizeof alphabet - 1)];
     std::string want;
     for (char c : s) {
-      if (c == '\t' || c == ' ') want += ' ';
-      else if (static_cast<unsigned char>(c) >= 0x20 && c != 0x7f) want += c;
+      if (c == '\t' || c == ' ')
+        want += ' ';
+      else if (static_cast<unsigned char>(c) >= 0x20 && c != 0x7f)
+        want += c;
     }
     std::string collapsed;
     for (char c : want)
       if (!(c == ' ' && (collapsed.empty() || collapsed.back() == ' '))) collapsed += c;
+    while (!collapsed.empty() && collapsed.back() == ' ') collapsed.pop_back();
+    ASSERT_EQ(norm_of(n, s), collapsed) << "[" << s << "]";
+  }
+}
+
+// The same reference on text mixing ASCII with precomposed letters, so that
+// the scan of already clean text meets runs of ASCII of every length and
+// alignment between non-ASCII characters.
+TEST(Normalize, MixedTextFastPathAgreesWithAReference) {
+  TextNormalizer n(NormalizeOptions{});
+  std::mt19937 rng(6);
+  const std::vector<std::string> pieces = {"a",    "b", " ", " ",      "!",      "\t",    "\x01",
+                                           "\x7f", ".", "Z", "\u00e9", "\u00f1", "\u0416"};
+  for (int i = 0; i < 20000; ++i) {
+    std::vector<std::string> chars;
+    for (int k = 0; k < static_cast<int>(rng() % 40); ++k) chars.push_back(pieces[rng() % pieces.size()]);
+    std::string s, collapsed;
+    for (const auto& c : chars) s += c;
+    for (const auto& c : chars) {
+      std::string keep = c == "\t" ? " " : (c == "\x01" || c == "\x7f") ? "" : c;
+      if (keep == " " && (collapsed.empty() || collapsed.back() == ' ')) continue;
+      collapsed += keep;
+    }
     while (!collapsed.empty() && collapsed.back() == ' ') collapsed.pop_back();
     ASSERT_EQ(norm_of(n, s), collapsed) << "[" << s << "]";
   }
@@ -150,7 +176,8 @@ TEST(Normalize, QuickCheckTableAgreesWithIcu) {
       icu::StringByteSink<std::string> sink(&want);
       st = U_ZERO_ERROR;
       theirs->normalizeUTF8(0, icu::StringPiece(s.data(), static_cast<int32_t>(s.size())), sink, nullptr, st);
-      if (want.find_first_of(" \t") != std::string::npos) continue;  // compatibility spaces: the cleaning step's business
+      if (want.find_first_of(" \t") != std::string::npos)
+        continue;  // compatibility spaces: the cleaning step's business
       ASSERT_EQ(norm_of(*ours, s), want) << s;
     }
   }
@@ -159,10 +186,14 @@ TEST(Normalize, QuickCheckTableAgreesWithIcu) {
 TEST(Normalize, InvisibleCharactersGoButJoinersStay) {
   TextNormalizer n(NormalizeOptions{});
   // BEL, ZWSP, LRM, RLO, PDF, LRI, BOM, soft hyphen, word joiner removed.
-  EXPECT_EQ(norm_of(n, "a\x07" "b\u200bc\u200ed\u202ee\u202cf\u2066g\ufeffh\u00adi\u2060j"), "abcdefghij");
+  EXPECT_EQ(norm_of(n,
+                    "a\x07"
+                    "b\u200bc\u200ed\u202ee\u202cf\u2066g\ufeffh\u00adi\u2060j"),
+            "abcdefghij");
   // ZWJ in an emoji sequence and ZWNJ in Persian stay.
   EXPECT_EQ(norm_of(n, "\U0001F469\u200d\U0001F52C"), "\U0001F469\u200d\U0001F52C");
-  EXPECT_EQ(norm_of(n, "\u0645\u06cc\u200c\u062e\u0648\u0627\u0647\u0645"), "\u0645\u06cc\u200c\u062e\u0648\u0627\u0647\u0645");
+  EXPECT_EQ(norm_of(n, "\u0645\u06cc\u200c\u062e\u0648\u0627\u0647\u0645"),
+            "\u0645\u06cc\u200c\u062e\u0648\u0627\u0647\u0645");
   NormalizeOptions keep;
   keep.strip_controls = false;
   EXPECT_EQ(norm_of(TextNormalizer(keep), "a\u200bb"), "a\u200bb");
@@ -183,7 +214,8 @@ TEST(Normalize, FormsCasefoldAndPunctuation) {
   o.casefold = true;
   o.punctuation[0] = true;
   TextNormalizer n(o);
-  EXPECT_EQ(norm_of(n, "\uff37\uff25\uff2c\uff23\uff2f\uff2d\uff25 \u201cStra\u00dfe\u201d \u2014 ok"), "welcome \"strasse\" - ok");
+  EXPECT_EQ(norm_of(n, "\uff37\uff25\uff2c\uff23\uff2f\uff2d\uff25 \u201cStra\u00dfe\u201d \u2014 ok"),
+            "welcome \"strasse\" - ok");
   NormalizeOptions none;
   none.form[0] = NormalForm::kNone;
   EXPECT_EQ(norm_of(TextNormalizer(none), "e\u0301"), "e\u0301");
@@ -204,7 +236,10 @@ TEST(Normalize, InvalidUtf8IsDroppedOrRepaired) {
   EXPECT_EQ(r.reasons, (std::vector<std::string>{"", "invalid-utf8:source", "invalid-utf8:target",
                                                  "invalid-utf8:source", "invalid-utf8:source"}));
   test::StageHarness fix("kind = \"normalize\"\ninvalid_utf8 = \"replace\"");
-  auto f = fix.run({{"a\xff" "b", "\xe2\x82"}, {"\xf0\x9f\x98", "ok"}});
+  auto f = fix.run({{"a\xff"
+                     "b",
+                     "\xe2\x82"},
+                    {"\xf0\x9f\x98", "ok"}});
   EXPECT_EQ(f.reasons, (std::vector<std::string>{"", ""}));
   // One U+FFFD per maximal ill-formed subpart (Unicode 15.0, section 3.9).
   EXPECT_EQ(f.text[0].first, "a\uFFFDb");
