@@ -1,6 +1,7 @@
 #include "pipeline/runner.h"
 
 #include <oneapi/tbb/concurrent_queue.h>
+#include <oneapi/tbb/enumerable_thread_specific.h>
 #include <oneapi/tbb/parallel_pipeline.h>
 #include <oneapi/tbb/task_arena.h>
 #include <unistd.h>
@@ -14,8 +15,10 @@
 #include <thread>
 #include <unordered_set>
 
+#include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "core/text.h"
+#include "io/line_blocks.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
 #include "pipeline/run_dir.h"
@@ -137,7 +140,7 @@ class Pass1Writer {
   }
 
   // Runs after the last batch: routes a count-mode spool, commits files.
-  Status finish() {
+  Status finish(int threads) {
     if (split_ && split_->deferred()) {
       SHEAF_TRY(spool_.commit());
       SHEAF_TRY(route_spool());
@@ -147,27 +150,49 @@ class Pass1Writer {
     SHEAF_TRY(rejected_.commit());
     for (size_t i = 0; i < names_.size(); ++i) {
       rec_.splits.emplace_back(names_[i], files_[i]->records());
-      rec_.outputs.push_back({names_[i] + ".tsv", "text", names_[i], "", files_[i]->records(), files_[i]->size(),
-                              files_[i]->checksum()});
+      rec_.outputs.push_back(
+          {names_[i] + ".tsv", "text", names_[i], "", files_[i]->records(), files_[i]->size(), files_[i]->checksum()});
     }
-    rec_.outputs.push_back({"rejected.tsv", "rejected", "", "", rejected_.records(), rejected_.size(),
-                            rejected_.checksum()});
+    rec_.outputs.push_back(
+        {"rejected.tsv", "rejected", "", "", rejected_.records(), rejected_.size(), rejected_.checksum()});
     // Overlap between splits, measured on unseeded hashes of the split key
     // (independent of the seeded hash that assigned them). Non-train keys are
-    // held in memory (those splits are small); train is read back once.
+    // held in memory (those splits are small); train is read back once, in
+    // blocks looked up on all threads.
     if (split_) {
       std::vector<uint64_t> train_hits(names_.size(), 0);
       std::ifstream in(files_[0]->path(), std::ios::binary);
-      std::string line;
-      Pair p;
-      while (std::getline(in, line)) {
-        size_t tab = line.find('\t');
-        std::string_view v(line);
-        p.text = {v.substr(0, tab), v.substr(tab + 1)};
-        std::string k = split_->key_text(p);
-        uint64_t h = XXH3_64bits(k.data(), k.size());
-        for (size_t b = 1; b < names_.size(); ++b) train_hits[b] += keys_[b].count(h);
-      }
+      std::string carry;
+      BatchPool<std::string> pool(static_cast<size_t>(threads) * 4);
+      tbb::enumerable_thread_specific<std::vector<uint64_t>> hits(std::vector<uint64_t>(names_.size(), 0));
+      tbb::task_arena arena(threads);
+      arena.execute([&] {
+        tbb::parallel_pipeline(
+            pool.size(), tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
+                                                              [&](tbb::flow_control& fc) -> std::string* {
+                                                                std::string* block = pool.acquire();
+                                                                if (!read_line_block(in, *block, carry, 1 << 20)) {
+                                                                  pool.release(block);
+                                                                  fc.stop();
+                                                                  return nullptr;
+                                                                }
+                                                                return block;
+                                                              }) &
+                             tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
+                               std::vector<uint64_t>& mine = hits.local();
+                               Pair p;
+                               for_each_line(*block, [&](std::string_view line) {
+                                 auto side = tsv_sides(line);
+                                 p.text = {side[0], side[1]};
+                                 std::string k = split_->key_text(p);
+                                 uint64_t h = XXH3_64bits(k.data(), k.size());
+                                 for (size_t b = 1; b < names_.size(); ++b) mine[b] += keys_[b].count(h);
+                               });
+                               pool.release(block);
+                             }));
+      });
+      for (const auto& mine : hits)
+        for (size_t b = 1; b < names_.size(); ++b) train_hits[b] += mine[b];
       for (size_t a = 0; a < names_.size(); ++a) {
         for (size_t b = a + 1; b < names_.size(); ++b) {
           uint64_t shared = 0;
@@ -295,7 +320,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   if (!o.inputs.empty()) {
     size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
     if (o.inputs.size() != want)
-      return Error(ErrorKind::kUsage, "--input must be given " + std::to_string(want) + " time(s) for this corpus layout");
+      return Error(ErrorKind::kUsage,
+                   "--input must be given " + std::to_string(want) + " time(s) for this corpus layout");
     p.corpus.files = o.inputs;
   }
   int last = static_cast<int>(p.stages.size()) - 1;
@@ -350,7 +376,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
 
   rec.stages.push_back({"read", "read", 0, 0, {}, {}});
   for (int i = 0; i < streaming_end; ++i)
-    rec.stages.push_back({p.stages[static_cast<size_t>(i)].name, p.stages[static_cast<size_t>(i)].kind->kind, 0, 0, {}, {}});
+    rec.stages.push_back(
+        {p.stages[static_cast<size_t>(i)].name, p.stages[static_cast<size_t>(i)].kind->kind, 0, 0, {}, {}});
   rec.stages.push_back({"output", "output", 0, 0, {}, {}});
 
   std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
@@ -375,29 +402,30 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   uint64_t seq = 0;
   PairReader& rd = *reader.value();
 
-  auto first = tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
-    throw_if_interrupted();
-    PairBatch* b = nullptr;
-    free_batches.pop(b);
-    b->pairs.clear();
-    b->raw.clear();
-    b->raw_target.clear();
-    b->arena.reset();
-    auto more = rd.next(*b, o.batch_pairs, 4 << 20);
-    if (!more.ok()) {
-      free_batches.push(b);
-      throw ErrorException{more.error()};
-    }
-    if (!*more) {
-      free_batches.push(b);
-      fc.stop();
-      return nullptr;
-    }
-    b->seq = seq++;
-    bytes_read = rd.consumed();
-    pairs_read += b->pairs.size();
-    return b;
-  });
+  auto first =
+      tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
+        throw_if_interrupted();
+        PairBatch* b = nullptr;
+        free_batches.pop(b);
+        b->pairs.clear();
+        b->raw.clear();
+        b->raw_target.clear();
+        b->arena.reset();
+        auto more = rd.next(*b, o.batch_pairs, 4 << 20);
+        if (!more.ok()) {
+          free_batches.push(b);
+          throw ErrorException{more.error()};
+        }
+        if (!*more) {
+          free_batches.push(b);
+          fc.stop();
+          return nullptr;
+        }
+        b->seq = seq++;
+        bytes_read = rd.consumed();
+        pairs_read += b->pairs.size();
+        return b;
+      });
   tbb::filter<void, PairBatch*> chain = first;
   for (auto& s : stages) {
     Stage* st = s.get();
@@ -421,7 +449,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                   b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
               if (!pr.kept()) continue;
               for (size_t side = 0; side < 2; ++side) {
-                if (pr.chars[side] == kUnmeasured) pr.chars[side] = static_cast<uint32_t>(count_code_points(pr.text[side]));
+                if (pr.chars[side] == kUnmeasured)
+                  pr.chars[side] = static_cast<uint32_t>(count_code_points(pr.text[side]));
                 if (pr.words[side] == kUnmeasured) pr.words[side] = static_cast<uint32_t>(count_words(pr.text[side]));
               }
             }
@@ -446,7 +475,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
       if (auto st = s->finish(); !st.ok()) failed = st;
   }
   if (failed.ok()) {
-    failed = writer.finish();
+    failed = writer.finish(threads);
   }
   if (!failed.ok()) {
     writer.discard();
@@ -455,8 +484,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   rec.inputs = rd.inputs();
   if (!rec.splits.empty() && rec.splits.front().second == 0)
     return Error(ErrorKind::kData,
-                 "no pair is left in the train split after filtering (read " + std::to_string(rec.read) +
-                     ", kept " + std::to_string(rec.kept) + "); see rejected.tsv for why, and relax the filters",
+                 "no pair is left in the train split after filtering (read " + std::to_string(rec.read) + ", kept " +
+                     std::to_string(rec.kept) + "); see rejected.tsv for why, and relax the filters",
                  Location{dir->file("train.tsv"), 0, 0, {}});
   for (size_t i = 0; i < stages.size(); ++i) rec.stages[i + 1].counters = stages[i]->counters();
 
