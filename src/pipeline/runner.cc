@@ -171,7 +171,7 @@ class Pass1Writer {
             pool.size(), tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
                                                               [&](tbb::flow_control& fc) -> std::string* {
                                                                 std::string* block = pool.acquire();
-                                                                if (!read_line_block(in, *block, carry, 1 << 20)) {
+                                                                if (!read_line_block(in, *block, carry, 1 << 18)) {
                                                                   pool.release(block);
                                                                   fc.stop();
                                                                   return nullptr;
