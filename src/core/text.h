@@ -2,14 +2,15 @@
 // Every function takes UTF-8; functions named *_valid expect valid UTF-8.
 #pragma once
 
+#include <unicode/utf8.h>
+
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 #include <functional>
 #include <string>
 #include <string_view>
 #include <vector>
-
-#include <unicode/utf8.h>
 
 namespace sheaf {
 
@@ -29,6 +30,26 @@ void for_each_char(std::string_view s, Fn&& fn) {
 }
 
 bool is_ascii(std::string_view s);
+
+// Eight bytes at p for scans that take text a word at a time: the word (in
+// memory order from its low byte), how many of its first bytes are ASCII
+// (0 to 8: those before the first byte with its high bit set) and a mask of
+// those bytes. Tests on the ASCII bytes that add or subtract within a byte
+// stay exact under the mask: what a non-ASCII byte carries goes only to the
+// bytes after it.
+struct AsciiRun {
+  uint64_t word;
+  int ascii;
+  uint64_t mask;
+};
+inline AsciiRun ascii_run_at(const uint8_t* p) {
+  AsciiRun r;
+  std::memcpy(&r.word, p, 8);
+  uint64_t high = r.word & 0x8080808080808080ULL;
+  r.ascii = high ? __builtin_ctzll(high) >> 3 : 8;
+  r.mask = r.ascii == 8 ? ~uint64_t{0} : (uint64_t{1} << (8 * r.ascii)) - 1;
+  return r;
+}
 // True when `s` is well-formed UTF-8 (no overlongs, surrogates, or values
 // above U+10FFFF).
 bool is_valid_utf8(std::string_view s);

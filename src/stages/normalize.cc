@@ -75,22 +75,17 @@ bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) 
   // The high bit of every byte of v that is zero, exactly (no borrows).
   auto zero_bytes = [&](uint64_t v) { return ~(((v & kLow7) + kLow7) | v) & kHigh; };
   while (i < n) {
-    // Up to eight ASCII bytes at a time (those before the first non-ASCII
-    // byte of the eight) when they hold no control, no DEL and no two spaces
-    // in a row. The tests are exact for ASCII bytes; what a non-ASCII byte
-    // carries goes only to the bytes after it, which are masked off.
+    // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at) when
+    // they hold no control, no DEL and no two spaces in a row.
     if (i + 8 <= n) {
-      uint64_t w;
-      std::memcpy(&w, p + i, 8);
-      uint64_t high = w & kHigh;
-      int ascii = high ? __builtin_ctzll(high) >> 3 : 8;
-      if (ascii > 0) {
-        uint64_t keep = ascii == 8 ? ~uint64_t{0} : (uint64_t{1} << (8 * ascii)) - 1;
-        uint64_t bad = ((~(w + 0x6060606060606060ULL) & kHigh) | zero_bytes(w ^ kLow7)) & keep;  // < 0x20, DEL
-        uint64_t sp = zero_bytes(w ^ 0x2020202020202020ULL) & keep;
+      AsciiRun w = ascii_run_at(p + i);
+      if (w.ascii > 0) {
+        uint64_t bad =
+            ((~(w.word + 0x6060606060606060ULL) & kHigh) | zero_bytes(w.word ^ kLow7)) & w.mask;  // < 0x20, DEL
+        uint64_t sp = zero_bytes(w.word ^ 0x2020202020202020ULL) & w.mask;
         if (bad == 0 && (sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
-          prev_space = (sp >> (8 * ascii - 1)) & 1;
-          i += ascii;
+          prev_space = (sp >> (8 * w.ascii - 1)) & 1;
+          i += w.ascii;
           continue;
         }
       }

@@ -113,24 +113,18 @@ ScriptCount ScriptTable::count(std::string_view text) const {
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
   constexpr uint64_t kHigh = 0x8080808080808080ULL;
   while (i < n) {
-    // Up to eight ASCII bytes at a time (those before the first non-ASCII
-    // byte of the eight): a byte is a letter when, with the case bit set, it
-    // lies in 'a'..'z' (adding 0x1F sets its high bit from 'a' on, adding
-    // 0x05 from '{' on; an ASCII byte carries into no other, and what a
-    // non-ASCII byte carries goes only to the bytes after it, masked off).
+    // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at): a byte
+    // is a letter when, with the case bit set, it lies in 'a'..'z' (adding
+    // 0x1F sets its high bit from 'a' on, adding 0x05 from '{' on).
     if (i + 8 <= n) {
-      uint64_t w;
-      std::memcpy(&w, p + i, 8);
-      uint64_t high = w & kHigh;
-      int ascii = high ? __builtin_ctzll(high) >> 3 : 8;
-      if (ascii > 0) {
-        uint64_t keep = ascii == 8 ? ~uint64_t{0} : (uint64_t{1} << (8 * ascii)) - 1;
-        uint64_t x = w | 0x2020202020202020ULL;
-        uint64_t letters = (x + 0x1F1F1F1F1F1F1F1FULL) & ~(x + 0x0505050505050505ULL) & kHigh & keep;
+      AsciiRun w = ascii_run_at(p + i);
+      if (w.ascii > 0) {
+        uint64_t x = w.word | 0x2020202020202020ULL;
+        uint64_t letters = (x + 0x1F1F1F1F1F1F1F1FULL) & ~(x + 0x0505050505050505ULL) & kHigh & w.mask;
         auto k = static_cast<uint32_t>(((letters >> 7) * 0x0101010101010101ULL) >> 56);  // sum of the bytes' flags
         r.letters += k;
         r.expected += latin_ ? k : 0;
-        i += ascii;
+        i += w.ascii;
         continue;
       }
     }
