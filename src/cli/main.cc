@@ -1,20 +1,21 @@
 // sheaf: the command line. It only wires commands to the library.
-#include <CLI/CLI.hpp>
+#include <sys/stat.h>
 #include <unistd.h>
 
+#include <CLI/CLI.hpp>
 #include <csignal>
+#include <cstdio>
 #include <filesystem>
 #include <fstream>
-#include <sstream>
-#include <cstdio>
 #include <iostream>
+#include <sstream>
 
 #include "pipeline/pipeline.h"
-#include "shards/inspect.h"
-#include "subword/codec.h"
 #include "pipeline/runner.h"
 #include "report/run_record.h"
 #include "report/summary.h"
+#include "shards/inspect.h"
+#include "subword/codec.h"
 
 namespace {
 
@@ -89,8 +90,9 @@ int main(int argc, char** argv) {
   std::vector<std::string> dvocab;
   std::string dshard;
   decode_cmd->add_option("shard", dshard, "a shard file to print as TSV (omit to read ids from standard input)");
-  decode_cmd->add_option("--vocab", dvocab,
-                         "vocabulary file; for a shard: one shared or two (source, target), found beside it if omitted");
+  decode_cmd->add_option(
+      "--vocab", dvocab,
+      "vocabulary file; for a shard: one shared or two (source, target), found beside it if omitted");
 
   // inspect
   auto* inspect = app.add_subcommand("inspect", "check a shard, or every file of a run, and print what it holds");
@@ -122,7 +124,8 @@ int main(int argc, char** argv) {
   };
 
   if (init->parsed()) {
-    if (io.inputs.size() > 2) return fail(Error(ErrorKind::kUsage, "--input takes one file, or two line-aligned files"));
+    if (io.inputs.size() > 2)
+      return fail(Error(ErrorKind::kUsage, "--input takes one file, or two line-aligned files"));
     std::cout << init_template(io);
     return 0;
   }
@@ -137,7 +140,12 @@ int main(int argc, char** argv) {
   if (encode->parsed()) {
     auto v = Vocabulary::load(evocab);
     if (!v.ok()) return fail(v.error());
-    Encoder enc(*v);
+    // The cache is sized for the input: a file's size, or 1 MiB for a pipe
+    // (a large cache costs the time to clear it, even for one line).
+    struct stat st {};
+    uint64_t input_bytes =
+        ::fstat(STDIN_FILENO, &st) == 0 && S_ISREG(st.st_mode) ? static_cast<uint64_t>(st.st_size) : 0;
+    Encoder enc(*v, SIZE_MAX, input_bytes > 0 ? input_bytes : uint64_t{1} << 20);
     std::string line, out;
     std::vector<uint32_t> ids;
     while (std::getline(std::cin, line)) {
@@ -177,9 +185,10 @@ int main(int argc, char** argv) {
         char* end = nullptr;
         unsigned long id = std::strtoul(tok.c_str(), &end, 10);
         if (*end != 0 || id >= v->size())
-          return fail(Error(ErrorKind::kInput, "\"" + tok + "\" is not a token id of this vocabulary (0 to " +
-                                                   std::to_string(v->size() - 1) + ")",
-                            Location{"<stdin>", n, 0, {}}));
+          return fail(
+              Error(ErrorKind::kInput,
+                    "\"" + tok + "\" is not a token id of this vocabulary (0 to " + std::to_string(v->size() - 1) + ")",
+                    Location{"<stdin>", n, 0, {}}));
         ids.push_back(static_cast<uint32_t>(id));
       }
       std::cout << decode(*v, ids) << '\n';
@@ -189,7 +198,8 @@ int main(int argc, char** argv) {
   if (stats->parsed()) {
     std::ifstream in(sdir + "/summary.json");
     if (!in)
-      return fail(Error(ErrorKind::kInput, "no summary.json: not a finished sheaf run directory", Location{sdir, 0, 0, {}}));
+      return fail(
+          Error(ErrorKind::kInput, "no summary.json: not a finished sheaf run directory", Location{sdir, 0, 0, {}}));
     std::stringstream text;
     text << in.rdbuf();
     if (sjson) {
