@@ -222,27 +222,25 @@ class Pass1Writer {
 
  private:
   void write_rejected(const Pair& p, size_t stage) {
-    std::string& row = row_;
-    row.clear();
-    row += std::to_string(p.line);
-    row += '\t';
-    row += rec_.stages[stage].name;
-    row += '\t';
-    row += p.reason;
-    row += '\t';
+    OutputFile& f = rejected_;
+    f.write(std::to_string(p.line));
+    f.write("\t");
+    f.write(rec_.stages[stage].name);
+    f.write("\t");
+    f.write(p.reason);
+    f.write("\t");
     if (aligned_) {
-      row += std::to_string(p.raw.size());
-      row += '\t';
-      row += p.raw;
-      row += '\t';
-      row += p.raw_target;
+      f.write(std::to_string(p.raw.size()));
+      f.write("\t");
+      f.write(p.raw);
+      f.write("\t");
+      f.write(p.raw_target);
     } else {
-      row += "-\t";
-      row += p.raw;
+      f.write("-\t");
+      f.write(p.raw);
     }
-    row += '\n';
-    rejected_.write(row);
-    rejected_.add_record();
+    f.write("\n");
+    f.add_record();
   }
 
   void route(std::string_view s, std::string_view t, int split, const Pair& p) {
@@ -253,11 +251,10 @@ class Pass1Writer {
       len.words[side].add(p.words[static_cast<size_t>(side)]);
     }
     if (p.chars[1] > 0) len.ratio.add(uint64_t{p.chars[0]} * 100 / p.chars[1]);
-    row_.assign(s);
-    row_ += '\t';
-    row_ += t;
-    row_ += '\n';
-    f.write(row_);
+    f.write(s);
+    f.write("\t");
+    f.write(t);
+    f.write("\n");
     f.add_record();
     if (split_ && split != 0) {
       std::string k = split_->key_text(p);
@@ -309,7 +306,6 @@ class Pass1Writer {
   std::vector<std::unique_ptr<OutputFile>> files_;
   std::vector<SplitLengths*> lengths_;
   OutputFile rejected_, spool_;
-  std::string row_;
   std::vector<std::unordered_set<uint64_t>> keys_;
 };
 

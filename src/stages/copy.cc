@@ -37,7 +37,7 @@ inline uint64_t trigram(const std::vector<UChar32>& v, size_t k) {
 
 }  // namespace
 
-double trigram_overlap_bound(std::string_view a, std::string_view b) {
+double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at) {
   // Only trigrams of three ASCII characters are compared, on bytes: the
   // windows of `b` whose trigram is in a 4096-bit set of `a`'s (hashed, so
   // collisions can only add matches) bound the common ASCII trigrams, as
@@ -73,8 +73,27 @@ double trigram_overlap_bound(std::string_view a, std::string_view b) {
     return n;
   };
   size_t ascii_a = windows(a, [&](uint32_t k) { set[slot(k) >> 6] |= uint64_t{1} << (slot(k) & 63); });
-  size_t hits = 0;
-  size_t ascii_b = windows(b, [&](uint32_t k) { hits += (set[slot(k) >> 6] >> (slot(k) & 63)) & 1; });
+  // Each window of `b` whose trigram is not in the set is one of b's ny
+  // trigrams that matches none of a's, so at most ny - misses match: once
+  // that is at most stop_at's share, the rest of `b` cannot change the
+  // caller's decision.
+  const double limit = stop_at * static_cast<double>(nx + ny) / 2.0;
+  size_t hits = 0, misses = 0, ascii_b = 0, run = 0;
+  uint32_t key = 0;
+  for (unsigned char c : b) {
+    if (c >= 0x80) {
+      run = 0;
+      continue;
+    }
+    key = ((key << 8) | lower(c)) & 0xFFFFFF;
+    if (++run < 3) continue;
+    ++ascii_b;
+    if ((set[slot(key) >> 6] >> (slot(key) & 63)) & 1) {
+      ++hits;
+    } else if (static_cast<double>(ny - ++misses) <= limit) {
+      return 2.0 * static_cast<double>(ny - misses) / static_cast<double>(nx + ny);
+    }
+  }
   size_t common = std::min(hits, ascii_a) + std::min(nx - ascii_a, ny - ascii_b);
   return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }
@@ -121,7 +140,7 @@ class CopyStage : public Stage {
       if (p.text[0] == p.text[1]) {
         batch.drop(p, index_, "copy:identical");
       } else if (max_overlap_ < 1.0 && could_overlap(p.text[0], p.text[1]) &&
-                 trigram_overlap_bound(p.text[0], p.text[1]) > max_overlap_ &&
+                 trigram_overlap_bound(p.text[0], p.text[1], max_overlap_) > max_overlap_ &&
                  trigram_overlap(p.text[0], p.text[1]) > max_overlap_) {
         batch.drop(p, index_, "copy:overlap");
       }

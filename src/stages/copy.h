@@ -16,9 +16,12 @@ namespace sheaf {
 // 2 * |A ∩ B| / (|A| + |B|) over character trigram multisets; 0 for two
 // texts shorter than three characters that differ.
 double trigram_overlap(std::string_view a, std::string_view b);
-// A fast upper bound of trigram_overlap (hashed buckets), used to skip the
-// exact computation for pairs that cannot pass max_overlap.
-double trigram_overlap_bound(std::string_view a, std::string_view b);
+// A fast upper bound of trigram_overlap (hashed ASCII trigrams), used to
+// skip the exact computation for pairs that cannot pass max_overlap. It may
+// stop as soon as the bound is known to be at most `stop_at`, returning a
+// value that is still an upper bound and at most `stop_at` (so a caller
+// that only compares the bound with `stop_at` decides as with the full one).
+double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at = -1.0);
 
 const StageKind& copy_kind();
 Result<std::unique_ptr<Stage>> make_copy(const StageContext& ctx);

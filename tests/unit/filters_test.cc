@@ -95,6 +95,12 @@ TEST(Copy, IdenticalAndOverlappingSides) {
     b = a;
     for (int k = 0; k < n / 3 + 1; ++k) b[rng() % b.size()] = "xYz"[rng() % 3];
     ASSERT_GE(trigram_overlap_bound(a, b) + 1e-12, trigram_overlap(a, b)) << a << " / " << b;
+    // Stopping early at a threshold keeps it a bound and keeps the decision.
+    for (double t : {0.2, 0.5, 0.8}) {
+      double early = trigram_overlap_bound(a, b, t);
+      ASSERT_GE(early + 1e-12, trigram_overlap(a, b)) << t << ": " << a << " / " << b;
+      ASSERT_EQ(early > t, trigram_overlap_bound(a, b) > t) << t << ": " << a << " / " << b;
+    }
   }
 }
 
