@@ -352,12 +352,12 @@ const WordAutomaton& word_automaton() {
 }
 
 // Counts words without storing classes; false if the text needs ICU.
-bool count_words_fast(std::string_view s, size_t& count) {
+bool count_words_fast(std::string_view s, size_t& count, size_t& chars) {
   const uint8_t* table = word_classes();
   const WordAutomaton& a = word_automaton();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  size_t words = 0;
+  size_t words = 0, steps = 0;
   uint8_t st = kOut, other = 0;
   while (i < n) {
     // Two ASCII characters at a time: half as many steps that wait for the
@@ -369,6 +369,7 @@ bool count_words_fast(std::string_view s, size_t& count) {
       words += r >> 6;
       st = r & 0x3F;
       i += 2;
+      steps += 2;
     }
     if (i >= n) break;
     uint8_t c;
@@ -384,17 +385,23 @@ bool count_words_fast(std::string_view s, size_t& count) {
     uint8_t r = a.next[st][c];
     words += r >> 7;
     st = r & 0x7F;
+    ++steps;
   }
   if (other) return false;
   count = words;
+  chars = steps;
   return true;
 }
 
 }  // namespace
 
-size_t count_words(std::string_view s) {
-  size_t n = 0;
-  if (count_words_fast(s, n)) return n;
+size_t count_words(std::string_view s, size_t* chars) {
+  size_t n = 0, c = 0;
+  if (count_words_fast(s, n, c)) {
+    if (chars) *chars = c;
+    return n;
+  }
+  if (chars) *chars = count_code_points(s);
   n = 0;
   cut_words_icu(s, [&](size_t, size_t, bool w) { n += w; });
   return n;

@@ -73,7 +73,9 @@ void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool
 // the text, so segment k is [ends[k-1], ends[k]) with ends[-1] = 0), appended
 // to `ends`. No call per segment: the cheap form for hot loops.
 void word_segment_ends(std::string_view s, std::vector<uint32_t>& ends);
-size_t count_words(std::string_view s);
+// With `chars`, also the number of code points (count_code_points), from
+// the same scan where it can.
+size_t count_words(std::string_view s, size_t* chars = nullptr);
 // ICU alone, without the fast path for simple text (for tests).
 void cut_words_reference(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn);
 // Length in code points of the longest word segment.

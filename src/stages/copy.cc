@@ -37,7 +37,7 @@ inline uint64_t trigram(const std::vector<UChar32>& v, size_t k) {
 
 }  // namespace
 
-double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at) {
+double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at, size_t chars_a, size_t chars_b) {
   // Only trigrams of three ASCII characters are compared, on bytes: the
   // windows of `b` whose trigram is in a 4096-bit set of `a`'s (hashed, so
   // collisions can only add matches) bound the common ASCII trigrams, as
@@ -49,7 +49,8 @@ double trigram_overlap_bound(std::string_view a, std::string_view b, double stop
     return s.find("\xC4\xB0") != std::string_view::npos || s.find("\xE2\x84\xAA") != std::string_view::npos;
   };
   if (special(a) || special(b)) return trigram_overlap(a, b);
-  size_t ca = count_code_points(a), cb = count_code_points(b);
+  size_t ca = chars_a != SIZE_MAX ? chars_a : count_code_points(a);
+  size_t cb = chars_b != SIZE_MAX ? chars_b : count_code_points(b);
   if (ca < 3 || cb < 3) return a == b ? 1.0 : 0.0;
   size_t nx = ca - 2, ny = cb - 2;
   uint64_t set[64] = {};
@@ -140,7 +141,8 @@ class CopyStage : public Stage {
       if (p.text[0] == p.text[1]) {
         batch.drop(p, index_, "copy:identical");
       } else if (max_overlap_ < 1.0 && could_overlap(p.text[0], p.text[1]) &&
-                 trigram_overlap_bound(p.text[0], p.text[1], max_overlap_) > max_overlap_ &&
+                 trigram_overlap_bound(p.text[0], p.text[1], max_overlap_, known_chars(p, 0), known_chars(p, 1)) >
+                     max_overlap_ &&
                  trigram_overlap(p.text[0], p.text[1]) > max_overlap_) {
         batch.drop(p, index_, "copy:overlap");
       }
@@ -155,6 +157,11 @@ class CopyStage : public Stage {
     double lo = static_cast<double>(std::min(a.size(), b.size())),
            hi = static_cast<double>(std::max(a.size(), b.size()));
     return 2.0 * 4.0 * lo / (4.0 * lo + hi) > max_overlap_;
+  }
+  // A side's code points if an earlier stage counted them.
+  static size_t known_chars(const Pair& p, int side) {
+    uint32_t c = p.chars[static_cast<size_t>(side)];
+    return c == kUnmeasured ? SIZE_MAX : c;
   }
   int index_;
   double max_overlap_;

@@ -21,7 +21,10 @@ double trigram_overlap(std::string_view a, std::string_view b);
 // stop as soon as the bound is known to be at most `stop_at`, returning a
 // value that is still an upper bound and at most `stop_at` (so a caller
 // that only compares the bound with `stop_at` decides as with the full one).
-double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at = -1.0);
+// `chars_a` and `chars_b`: the texts' code-point counts when already known
+// (SIZE_MAX: counted here).
+double trigram_overlap_bound(std::string_view a, std::string_view b, double stop_at = -1.0, size_t chars_a = SIZE_MAX,
+                             size_t chars_b = SIZE_MAX);
 
 const StageKind& copy_kind();
 Result<std::unique_ptr<Stage>> make_copy(const StageContext& ctx);

@@ -52,12 +52,17 @@ class LengthStage : public Stage {
   size_t measured(Pair& p, int side) const {
     auto s = static_cast<size_t>(side);
     switch (o_.unit) {
-      case LengthUnit::kBytes: return p.text[s].size();
+      case LengthUnit::kBytes:
+        return p.text[s].size();
       case LengthUnit::kChars:
         if (p.chars[s] == kUnmeasured) p.chars[s] = static_cast<uint32_t>(count_code_points(p.text[s]));
         return p.chars[s];
       case LengthUnit::kWords:
-        if (p.words[s] == kUnmeasured) p.words[s] = static_cast<uint32_t>(count_words(p.text[s]));
+        if (p.words[s] == kUnmeasured) {
+          size_t chars = 0;
+          p.words[s] = static_cast<uint32_t>(count_words(p.text[s], &chars));
+          p.chars[s] = static_cast<uint32_t>(chars);  // the same scan measures both
+        }
         return p.words[s];
     }
     return 0;
@@ -90,8 +95,13 @@ const StageKind& length_kind() {
       "drops empty, too short, too long and badly proportioned pairs",
       StageRole::kFilter,
       {
-          {"unit", FieldType::kChoice, std::string("words"), "length unit: words (UAX #29), chars (code points) or bytes",
-           0, 0, {"words", "chars", "bytes"}},
+          {"unit",
+           FieldType::kChoice,
+           std::string("words"),
+           "length unit: words (UAX #29), chars (code points) or bytes",
+           0,
+           0,
+           {"words", "chars", "bytes"}},
           {"source_min", FieldType::kInt, int64_t{1}, "minimum source length", 0, 1e12},
           {"source_max", FieldType::kInt, int64_t{200}, "maximum source length (0 = no limit)", 0, 1e12},
           {"target_min", FieldType::kInt, int64_t{1}, "minimum target length", 0, 1e12},
@@ -115,11 +125,11 @@ Result<std::unique_ptr<Stage>> make_length(const StageContext& ctx) {
   o.max[1] = p.integer("target_max");
   for (int s = 0; s < 2; ++s)
     if (o.max[s] > 0 && o.min[s] > o.max[s])
-      return Error(ErrorKind::kPipeline,
-                   std::string("stage \"") + ctx.spec->name + "\": " + side_name(s) + "_min is above " + side_name(s) +
-                       "_max",
-                   p.where(s ? "target_min" : "source_min").empty() ? ctx.spec->where
-                                                                    : p.where(s ? "target_min" : "source_min"));
+      return Error(
+          ErrorKind::kPipeline,
+          std::string("stage \"") + ctx.spec->name + "\": " + side_name(s) + "_min is above " + side_name(s) + "_max",
+          p.where(s ? "target_min" : "source_min").empty() ? ctx.spec->where
+                                                           : p.where(s ? "target_min" : "source_min"));
   o.max_ratio = p.number("max_ratio");
   o.ratio_slack = p.number("ratio_slack");
   o.max_word_chars = p.integer("max_word_chars");

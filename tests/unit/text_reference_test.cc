@@ -96,6 +96,9 @@ TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
     size_t words = 0;
     for (const auto& [x, y, w] : b) words += w;
     ASSERT_EQ(count_words(s), words) << s;
+    size_t chars = 0;
+    ASSERT_EQ(count_words(s, &chars), words) << s;
+    ASSERT_EQ(chars, count_code_points(s)) << s;
     fast += trial % 3 != 0;
   }
   EXPECT_GT(fast, 10000u);
