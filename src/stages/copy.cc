@@ -56,7 +56,8 @@ double trigram_overlap_bound(std::string_view a, std::string_view b, double stop
   uint64_t set[64] = {};
   auto lower = [](uint32_t c) { return c | (static_cast<uint32_t>(c - 'A' < 26) << 5); };
   auto slot = [](uint32_t key) { return (key * 2654435761u) >> 20; };
-  // Calls fn(key) for every window of three ASCII bytes; returns their number.
+  // Calls fn(key) for every window of three ASCII bytes until fn returns
+  // true; returns the number of windows seen.
   auto windows = [&](std::string_view s, auto&& fn) {
     size_t run = 0, n = 0;
     uint32_t key = 0;
@@ -67,34 +68,32 @@ double trigram_overlap_bound(std::string_view a, std::string_view b, double stop
       }
       key = ((key << 8) | lower(c)) & 0xFFFFFF;
       if (++run >= 3) {
-        fn(key);
         ++n;
+        if (fn(key)) break;
       }
     }
     return n;
   };
-  size_t ascii_a = windows(a, [&](uint32_t k) { set[slot(k) >> 6] |= uint64_t{1} << (slot(k) & 63); });
+  size_t ascii_a = windows(a, [&](uint32_t k) {
+    set[slot(k) >> 6] |= uint64_t{1} << (slot(k) & 63);
+    return false;
+  });
   // Each window of `b` whose trigram is not in the set is one of b's ny
   // trigrams that matches none of a's, so at most ny - misses match: once
   // that is at most stop_at's share, the rest of `b` cannot change the
   // caller's decision.
   const double limit = stop_at * static_cast<double>(nx + ny) / 2.0;
-  size_t hits = 0, misses = 0, ascii_b = 0, run = 0;
-  uint32_t key = 0;
-  for (unsigned char c : b) {
-    if (c >= 0x80) {
-      run = 0;
-      continue;
-    }
-    key = ((key << 8) | lower(c)) & 0xFFFFFF;
-    if (++run < 3) continue;
-    ++ascii_b;
-    if ((set[slot(key) >> 6] >> (slot(key) & 63)) & 1) {
+  size_t hits = 0, misses = 0;
+  bool stopped = false;
+  size_t ascii_b = windows(b, [&](uint32_t k) {
+    if ((set[slot(k) >> 6] >> (slot(k) & 63)) & 1) {
       ++hits;
-    } else if (static_cast<double>(ny - ++misses) <= limit) {
-      return 2.0 * static_cast<double>(ny - misses) / static_cast<double>(nx + ny);
+      return false;
     }
-  }
+    ++misses;
+    return stopped = static_cast<double>(ny - misses) <= limit;
+  });
+  if (stopped) return 2.0 * static_cast<double>(ny - misses) / static_cast<double>(nx + ny);
   size_t common = std::min(hits, ascii_a) + std::min(nx - ascii_a, ny - ascii_b);
   return 2.0 * static_cast<double>(common) / static_cast<double>(nx + ny);
 }
