@@ -3,10 +3,15 @@
 // allocation, and each block can go to another thread.
 #pragma once
 
+#include <oneapi/tbb/parallel_pipeline.h>
+
 #include <array>
 #include <istream>
 #include <string>
 #include <string_view>
+
+#include "core/batch_pool.h"
+#include "core/interrupt.h"
 
 namespace sheaf {
 
@@ -27,6 +32,26 @@ inline bool read_line_block(std::istream& in, std::string& block, std::string& c
     block.resize(nl + 1);
   }
   return true;
+}
+
+// The first filter of a oneTBB pipeline over such a file: each block (about
+// `bytes` of whole lines) goes into `text(*t)` of an object t from `pool`,
+// until the file ends. Checks for an interrupt before each block (throws
+// ErrorException, like every pass).
+template <typename T, typename Text>
+tbb::filter<void, T*> line_block_source(std::istream& in, std::string& carry, BatchPool<T>& pool, size_t bytes,
+                                        Text text) {
+  return tbb::make_filter<void, T*>(tbb::filter_mode::serial_in_order,
+                                    [&in, &carry, &pool, bytes, text](tbb::flow_control& fc) -> T* {
+                                      throw_if_interrupted();
+                                      T* t = pool.acquire();
+                                      if (!read_line_block(in, text(*t), carry, bytes)) {
+                                        pool.release(t);
+                                        fc.stop();
+                                        return nullptr;
+                                      }
+                                      return t;
+                                    });
 }
 
 // The source and target of a split-file line (target empty without a tab).

@@ -166,31 +166,27 @@ class Pass1Writer {
       BatchPool<std::string> pool(static_cast<size_t>(threads) * 4);
       tbb::enumerable_thread_specific<std::vector<uint64_t>> hits(std::vector<uint64_t>(names_.size(), 0));
       tbb::task_arena arena(threads);
-      arena.execute([&] {
-        tbb::parallel_pipeline(
-            pool.size(), tbb::make_filter<void, std::string*>(tbb::filter_mode::serial_in_order,
-                                                              [&](tbb::flow_control& fc) -> std::string* {
-                                                                std::string* block = pool.acquire();
-                                                                if (!read_line_block(in, *block, carry, 1 << 18)) {
-                                                                  pool.release(block);
-                                                                  fc.stop();
-                                                                  return nullptr;
-                                                                }
-                                                                return block;
-                                                              }) &
-                             tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
-                               std::vector<uint64_t>& mine = hits.local();
-                               Pair p;
-                               for_each_line(*block, [&](std::string_view line) {
-                                 auto side = tsv_sides(line);
-                                 p.text = {side[0], side[1]};
-                                 std::string k = split_->key_text(p);
-                                 uint64_t h = XXH3_64bits(k.data(), k.size());
-                                 for (size_t b = 1; b < names_.size(); ++b) mine[b] += keys_[b].count(h);
-                               });
-                               pool.release(block);
-                             }));
-      });
+      try {
+        arena.execute([&] {
+          tbb::parallel_pipeline(
+              pool.size(),
+              line_block_source(in, carry, pool, 1 << 18, [](std::string& block) -> std::string& { return block; }) &
+                  tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
+                    std::vector<uint64_t>& mine = hits.local();
+                    Pair p;
+                    for_each_line(*block, [&](std::string_view line) {
+                      auto side = tsv_sides(line);
+                      p.text = {side[0], side[1]};
+                      std::string k = split_->key_text(p);
+                      uint64_t h = XXH3_64bits(k.data(), k.size());
+                      for (size_t b = 1; b < names_.size(); ++b) mine[b] += keys_[b].count(h);
+                    });
+                    pool.release(block);
+                  }));
+        });
+      } catch (const ErrorException& e) {
+        return e.error;  // interrupted
+      }
       for (const auto& mine : hits)
         for (size_t b = 1; b < names_.size(); ++b) train_hits[b] += mine[b];
       for (size_t a = 0; a < names_.size(); ++a) {

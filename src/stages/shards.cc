@@ -135,59 +135,51 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
     try {
       arena.execute([&] {
         tbb::parallel_pipeline(
-            pool.size(),
-            tbb::make_filter<void, Encoded*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> Encoded* {
-              throw_if_interrupted();
-              Encoded* e = pool.acquire();
-              if (!read_line_block(file, e->text, carry, 1 << 20)) {
-                pool.release(e);
-                fc.stop();
-                return nullptr;
-              }
-              return e;
-            }) & tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel, [&](Encoded* e) {
-              for (int s = 0; s < 2; ++s) {
-                e->ids[s].clear();
-                e->ends[s].clear();
-                e->stats[s] = EncodeStats{};
-              }
-              for_each_line(e->text, [&](std::string_view l) {
-                auto side = tsv_sides(l);
-                for (int s = 0; s < 2; ++s) {
-                  const Vocabulary& v = s == 0 ? vs : vt;
-                  auto& ids = e->ids[s];
-                  if (bos) ids.push_back(v.special(kBos));
-                  (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
-                  if (eos) ids.push_back(v.special(kEos));
-                  e->ends[s].push_back(ids.size());
-                }
-              });
-              return e;
-            }) & tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
-              for (int s = 0; s < 2; ++s) {
-                totals[s].tokens += e->stats[s].tokens;
-                totals[s].byte_tokens += e->stats[s].byte_tokens;
-                totals[s].unknown += e->stats[s].unknown;
-              }
-              for (size_t i = 0; i < e->ends[0].size(); ++i) {
-                auto src = e->pair(0, i), tgt = e->pair(1, i);
-                if (split == "train") {
-                  for (uint32_t id : src) used[0][id] = true;
-                  for (uint32_t id : tgt) used[1][id] = true;
-                }
-                tokens[0].add(src.size());
-                tokens[1].add(tgt.size());
-                writer.add(src, tgt);
-                if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
-                  Status st = flush();
-                  if (!st.ok()) {
-                    pool.release(e);
-                    throw ErrorException{st.error()};
-                  }
-                }
-              }
-              pool.release(e);
-            }));
+            pool.size(), line_block_source(file, carry, pool, 1 << 20, [](Encoded& e) -> std::string& {
+                           return e.text;
+                         }) & tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel, [&](Encoded* e) {
+                           for (int s = 0; s < 2; ++s) {
+                             e->ids[s].clear();
+                             e->ends[s].clear();
+                             e->stats[s] = EncodeStats{};
+                           }
+                           for_each_line(e->text, [&](std::string_view l) {
+                             auto side = tsv_sides(l);
+                             for (int s = 0; s < 2; ++s) {
+                               const Vocabulary& v = s == 0 ? vs : vt;
+                               auto& ids = e->ids[s];
+                               if (bos) ids.push_back(v.special(kBos));
+                               (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
+                               if (eos) ids.push_back(v.special(kEos));
+                               e->ends[s].push_back(ids.size());
+                             }
+                           });
+                           return e;
+                         }) & tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
+                           for (int s = 0; s < 2; ++s) {
+                             totals[s].tokens += e->stats[s].tokens;
+                             totals[s].byte_tokens += e->stats[s].byte_tokens;
+                             totals[s].unknown += e->stats[s].unknown;
+                           }
+                           for (size_t i = 0; i < e->ends[0].size(); ++i) {
+                             auto src = e->pair(0, i), tgt = e->pair(1, i);
+                             if (split == "train") {
+                               for (uint32_t id : src) used[0][id] = true;
+                               for (uint32_t id : tgt) used[1][id] = true;
+                             }
+                             tokens[0].add(src.size());
+                             tokens[1].add(tgt.size());
+                             writer.add(src, tgt);
+                             if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
+                               Status st = flush();
+                               if (!st.ok()) {
+                                 pool.release(e);
+                                 throw ErrorException{st.error()};
+                               }
+                             }
+                           }
+                           pool.release(e);
+                         }));
       });
     } catch (const ErrorException& e) {
       return e.error;

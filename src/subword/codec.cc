@@ -33,7 +33,7 @@ bool Encoder::UnitCache::find(std::string_view unit, uint64_t hash, std::vector<
     const Slot& s = t[i];
     uint64_t h = s.hash.load(std::memory_order_acquire);
     if (h == kEmpty) return false;
-    if (h == hash && s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0) {
+    if (h == hash && holds(s, unit)) {
       const char* p = s.data + s.bytes_len;
       for (uint32_t k = 0; k < s.ids_len; ++k, p += id_bytes_) {
         if (id_bytes_ == 2) {
@@ -69,7 +69,7 @@ void Encoder::UnitCache::add(std::string_view unit, uint64_t hash, const uint32_
   for (size_t i = hash & (slots_ - 1), probes = 0; probes < kProbes; i = (i + 1) & (slots_ - 1), ++probes) {
     Slot& s = t[i];
     uint64_t h = s.hash.load(std::memory_order_acquire);
-    if (h == hash && s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0) return;
+    if (h == hash && holds(s, unit)) return;
     if (h != kEmpty || !s.hash.compare_exchange_strong(h, kWriting, std::memory_order_acquire)) continue;
     s.bytes_len = static_cast<uint8_t>(unit.size());
     s.ids_len = static_cast<uint8_t>(n);

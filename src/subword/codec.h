@@ -16,6 +16,7 @@
 #include <oneapi/tbb/enumerable_thread_specific.h>
 
 #include <atomic>
+#include <cstring>
 #include <mutex>
 #include <span>
 #include <string>
@@ -85,6 +86,10 @@ class Encoder {
       uint8_t bytes_len, ids_len;
       char data[kData];  // the unit's bytes, then its ids
     };
+    // A published slot's bytes are `unit`'s.
+    static bool holds(const Slot& s, std::string_view unit) {
+      return s.bytes_len == unit.size() && std::memcmp(s.data, unit.data(), unit.size()) == 0;
+    }
     size_t slots_;
     uint32_t id_bytes_;
     std::once_flag allocated_;

@@ -88,17 +88,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
       return b;
     };
     tbb::filter<void, UnitBlock*> chain =
-        tbb::make_filter<void, UnitBlock*>(tbb::filter_mode::serial_in_order,
-                                           [&](tbb::flow_control& fc) -> UnitBlock* {
-                                             throw_if_interrupted();
-                                             UnitBlock* b = pool.acquire();
-                                             if (!read_line_block(in, b->text, carry, 1 << 20)) {
-                                               pool.release(b);
-                                               fc.stop();
-                                               return nullptr;
-                                             }
-                                             return b;
-                                           }) &
+        line_block_source(in, carry, pool, 1 << 20, [](UnitBlock& b) -> std::string& { return b.text; }) &
         tbb::make_filter<UnitBlock*, UnitBlock*>(tbb::filter_mode::parallel, cut);
     for (size_t p = 0; p < parts; ++p)
       chain = chain &
