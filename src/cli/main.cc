@@ -48,8 +48,8 @@ int main(int argc, char** argv) {
   auto* init = app.add_subcommand("init", "print a complete pipeline file for a corpus");
   InitOptions io;
   init->add_option("--input", io.inputs, "corpus file; give it twice for two line-aligned files")->required();
-  init->add_option("--source-lang", io.source_lang, "ISO 639-1 code of the source side")->required();
-  init->add_option("--target-lang", io.target_lang, "ISO 639-1 code of the target side")->required();
+  init->add_option("--from", io.source_lang, "ISO 639-1 code of the source side")->required();
+  init->add_option("--to", io.target_lang, "ISO 639-1 code of the target side")->required();
   init->add_option("--vocab-size", io.vocab_size, "subword vocabulary size")->capture_default_str();
   init->add_option("--seed", io.seed, "seed of the split")->capture_default_str();
   init->add_option("--out", io.out_dir, "output directory")->capture_default_str();
@@ -79,9 +79,9 @@ int main(int argc, char** argv) {
   // encode
   auto* encode = app.add_subcommand("encode", "text lines on standard input to token ids on standard output");
   std::string evocab;
-  bool pieces = false, ebos = false, eeos = false;
+  bool show_tokens = false, ebos = false, eeos = false;
   encode->add_option("--vocab", evocab, "vocabulary file")->required();
-  encode->add_flag("--pieces", pieces, "print the escaped tokens instead of ids");
+  encode->add_flag("--tokens", show_tokens, "print the escaped tokens instead of ids");
   encode->add_flag("--bos", ebos, "begin each line with the begin-of-sequence id");
   encode->add_flag("--eos", eeos, "end each line with the end-of-sequence id");
 
@@ -156,7 +156,7 @@ int main(int argc, char** argv) {
       out.clear();
       for (size_t i = 0; i < ids.size(); ++i) {
         if (i) out += ' ';
-        out += pieces ? escape_token(v->token(ids[i]).bytes) : std::to_string(ids[i]);
+        out += show_tokens ? escape_token(v->token(ids[i]).bytes) : std::to_string(ids[i]);
       }
       out += '\n';
       std::cout << out;

@@ -194,7 +194,7 @@ std::string render_report(const std::string& summary_json) {
       if (x.contains("tokens")) {
         const auto& t = x["tokens"];
         o << "<td>" << fmt(t["mean"].get<double>(), 1) << " / " << t["p95"] << " / " << t["p99"] << " / " << t["max"] << "</td><td>"
-          << fmt(100 * t["byte_fallback_rate"].get<double>(), 3) << "%</td>";
+          << fmt(100 * t["byte_token_rate"].get<double>(), 3) << "%</td>";
       } else {
         o << "<td>–</td><td>–</td>";
       }
@@ -235,7 +235,7 @@ std::string render_report(const std::string& summary_json) {
         for (const auto& r : rows)
           o << "<tr><td>" << esc(side) << "</td><td>" << num(r["size"]) << "</td><td>" << fmt(r["mean_tokens"].get<double>(), 1) << "</td><td>"
             << r["p95_tokens"] << "</td><td>" << r["p99_tokens"] << "</td><td>" << fmt(r["tokens_per_word"].get<double>(), 2) << "</td><td>"
-            << fmt(100 * r["over_max_length"].get<double>(), 2) << "%</td><td>" << fmt(100 * r["byte_fallback_rate"].get<double>(), 3)
+            << fmt(100 * r["over_max_length"].get<double>(), 2) << "%</td><td>" << fmt(100 * r["byte_token_rate"].get<double>(), 3)
             << "%</td></tr>";
       o << "</table></div></div>";
     }

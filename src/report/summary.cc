@@ -168,7 +168,7 @@ Status write_summary(const StepInput& in, int threads) {
         const auto& counts = t["histogram"];
         for (size_t v = 0; v < counts.size(); ++v) h.add(v, counts[v].get<uint64_t>());
         ordered_json tj = hist_json(h, kTokenBin);
-        tj["byte_fallback_rate"] = t["byte_fallback_rate"];
+        tj["byte_token_rate"] = t["byte_token_rate"];
         tj["unknown_tokens"] = t["unknown_tokens"];
         uint64_t words = lengths.words[s].sum();
         tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;

@@ -191,7 +191,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
       ordered_json side = ordered_json::parse(distribution_json(tokens[s].summary()));
       side["byte_tokens"] = t.byte_tokens;
       side["unknown_tokens"] = t.unknown;
-      side["byte_fallback_rate"] = t.tokens ? static_cast<double>(t.byte_tokens) / static_cast<double>(t.tokens) : 0.0;
+      side["byte_token_rate"] = t.tokens ? static_cast<double>(t.byte_tokens) / static_cast<double>(t.tokens) : 0.0;
       ordered_json hist = ordered_json::array();
       for (uint64_t c : tokens[s].counts()) hist.push_back(c);
       side["histogram"] = hist;

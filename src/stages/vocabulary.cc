@@ -32,8 +32,8 @@ const StageKind& vocabulary_kind() {
           {"min_count", FieldType::kInt, int64_t{2}, "stop merging when the best pair occurs fewer times", 1, 1e18},
           {"alphabet_coverage", FieldType::kNumber, 0.9999,
            "characters covering this fraction of occurrences get tokens; rarer ones use byte tokens", 0, 1},
-          {"split_digits", FieldType::kBool, false, "every digit is a unit of its own (numbers never merge)"},
-          {"byte_fallback", FieldType::kBool, true,
+          {"single_digits", FieldType::kBool, false, "every digit is a unit of its own (numbers never merge)"},
+          {"unknown_as_bytes", FieldType::kBool, true,
            "encode characters outside the alphabet as byte tokens (off: the unknown token)"},
           {"pad", FieldType::kString, std::string("\u27e8pad\u27e9"), "spelling of the padding token"},
           {"unk", FieldType::kString, std::string("\u27e8unk\u27e9"), "spelling of the unknown token"},
@@ -69,8 +69,8 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
   for (int64_t s : plan.sweep) t.size = std::max(t.size, static_cast<size_t>(s));
   t.min_count = static_cast<uint64_t>(q.integer("min_count"));
   t.alphabet_coverage = q.number("alphabet_coverage");
-  t.split_digits = q.flag("split_digits");
-  t.byte_fallback = q.flag("byte_fallback");
+  t.single_digits = q.flag("single_digits");
+  t.unknown_as_bytes = q.flag("unknown_as_bytes");
   t.specials = {q.text("pad"), q.text("unk"), q.text("bos"), q.text("eos")};
   const auto& ids = q.integers("special_ids");
   std::array<bool, 4> seen{};
@@ -142,7 +142,7 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
         {"max_tokens", d.max},
         {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
         {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
-        {"byte_fallback_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
+        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
     rows.push_back(r);
   }
   return rows;

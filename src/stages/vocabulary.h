@@ -9,7 +9,7 @@
 // to the largest of `size` and the `sweep` sizes once; every smaller
 // vocabulary is a prefix of it, and each sweep size is evaluated on the dev
 // split (tokens per sentence and per word, sentences over sweep_max_length
-// tokens, byte-fallback rate). Writes vocab.shared.txt, or vocab.source.txt
+// tokens, unknown-as-bytes rate). Writes vocab.shared.txt, or vocab.source.txt
 // and vocab.target.txt (docs/vocabulary-format.md).
 #pragma once
 

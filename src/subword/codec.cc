@@ -152,7 +152,7 @@ void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeSt
   size_t start = out.size();
   Scratch& sc = scratch_.local();
   sc.ends.clear();
-  unit_ends(text, v_.info().split_digits, sc.ends);
+  unit_ends(text, v_.info().single_digits, sc.ends);
   // Hash every unit and prefetch its cache slot first, so that the lookups
   // below find their lines on the way.
   sc.hashes.resize(sc.ends.size());

@@ -58,7 +58,7 @@ struct UnitBlock {
 // (each on another block), every unit is counted in exactly one table, and
 // nothing is merged at the end. Counts are exact sums: the result does not
 // depend on the thread count.
-Status count_units(const std::vector<std::string>& files, const std::vector<int>& columns, bool split_digits,
+Status count_units(const std::vector<std::string>& files, const std::vector<int>& columns, bool single_digits,
                    int threads, Counts& counts) {
   const size_t parts = counts.parts();
   for (const auto& path : files) {
@@ -76,7 +76,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
         for (int col : columns) {
           std::string_view t = side[col];
           ends.clear();
-          unit_ends(t, split_digits, ends);
+          unit_ends(t, single_digits, ends);
           uint32_t from = 0, at = static_cast<uint32_t>(t.data() - base);
           for (uint32_t e : ends) {
             uint64_t h = UnitCounter::hash(t.substr(from, e - from));
@@ -113,7 +113,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
   auto t0 = std::chrono::steady_clock::now();
   Counts counts(static_cast<size_t>(std::max(1, o.threads)));
   try {
-    SHEAF_TRY(count_units(files, columns, o.split_digits, o.threads, counts));
+    SHEAF_TRY(count_units(files, columns, o.single_digits, o.threads, counts));
   } catch (const ErrorException& e) {
     return e.error;
   }
@@ -163,7 +163,7 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
                                        std::to_string(fixed) + " or lower alphabet_coverage");
 
   VocabularyInfo info{o.side, total_chars ? static_cast<double>(covered) / static_cast<double>(total_chars) : 1.0,
-                      o.split_digits, o.byte_fallback};
+                      o.single_digits, o.unknown_as_bytes};
   Vocabulary v = Vocabulary::build(o.specials, o.special_ids, alphabet, info);
 
   WordList words;

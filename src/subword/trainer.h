@@ -26,8 +26,8 @@ struct TrainOptions {
   size_t size = 8000;
   uint64_t min_count = 2;
   double alphabet_coverage = 0.9999;
-  bool split_digits = false;
-  bool byte_fallback = true;
+  bool single_digits = false;
+  bool unknown_as_bytes = true;
   std::array<std::string, 4> specials;
   std::array<uint32_t, 4> special_ids{0, 1, 2, 3};
   std::string side;  // recorded in the file

@@ -38,7 +38,7 @@ thread_local std::vector<uint32_t> t_segments;
 
 }  // namespace
 
-void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& ends) {
+void unit_ends(std::string_view text, bool single_digits, std::vector<uint32_t>& ends) {
   std::vector<uint32_t>& seg = t_segments;
   seg.clear();
   word_segment_ends(text, seg);
@@ -53,7 +53,7 @@ void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& 
     } else {
       size_t from = have_pending ? pending : b;
       have_pending = false;
-      if (split_digits) digit_ends(text, from, e, ends);
+      if (single_digits) digit_ends(text, from, e, ends);
       else ends.push_back(e);
     }
     b = e;
@@ -61,9 +61,9 @@ void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& 
   if (have_pending) ends.push_back(static_cast<uint32_t>(text.size()));
 }
 
-void cut_units(std::string_view text, bool split_digits, const std::function<void(std::string_view)>& unit) {
+void cut_units(std::string_view text, bool single_digits, const std::function<void(std::string_view)>& unit) {
   std::vector<uint32_t> ends;
-  unit_ends(text, split_digits, ends);
+  unit_ends(text, single_digits, ends);
   uint32_t b = 0;
   for (uint32_t e : ends) {
     unit(text.substr(b, e - b));

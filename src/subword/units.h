@@ -6,7 +6,7 @@
 // sentences. Spaces are not units of their own: a run of spaces belongs to
 // the unit that follows it, so " garden" (with its space) is one unit and the
 // concatenation of the units is the text, byte for byte. Spaces at the very
-// end of a text form a last unit. With split_digits, every decimal digit is
+// end of a text form a last unit. With single_digits, every decimal digit is
 // a unit of its own (the space before a number stays with its first digit).
 // Thread-safe.
 #pragma once
@@ -21,9 +21,9 @@ namespace sheaf {
 // Appends the end offset of every unit of `text` to `ends`: units tile the
 // text, so unit k is [ends[k-1], ends[k]) (ends[-1] = 0). The form for hot
 // loops: no call per unit.
-void unit_ends(std::string_view text, bool split_digits, std::vector<uint32_t>& ends);
+void unit_ends(std::string_view text, bool single_digits, std::vector<uint32_t>& ends);
 
 // Calls unit(u) for every unit, in order.
-void cut_units(std::string_view text, bool split_digits, const std::function<void(std::string_view)>& unit);
+void cut_units(std::string_view text, bool single_digits, const std::function<void(std::string_view)>& unit);
 
 }  // namespace sheaf

@@ -143,7 +143,7 @@ void Vocabulary::initial_symbols(std::string_view text, std::vector<uint32_t>& o
     int64_t id = id_of(c);
     if (id >= 0) {
       out.push_back(static_cast<uint32_t>(id));
-    } else if (info_.byte_fallback) {
+    } else if (info_.unknown_as_bytes) {
       for (char b : bytes) out.push_back(byte_token(static_cast<uint8_t>(b)));
     } else {
       out.push_back(special(kUnk));
@@ -164,8 +164,8 @@ std::string body_of(const Vocabulary& v) {
   char cov[32];
   std::snprintf(cov, sizeof cov, "%.6f", in.alphabet_coverage);
   o << "alphabet-coverage\t" << cov << "\n";
-  o << "split-digits\t" << (in.split_digits ? "yes" : "no") << "\n";
-  o << "byte-fallback\t" << (in.byte_fallback ? "yes" : "no") << "\n";
+  o << "single-digits\t" << (in.single_digits ? "yes" : "no") << "\n";
+  o << "unknown-as-bytes\t" << (in.unknown_as_bytes ? "yes" : "no") << "\n";
   static const char* roles[4] = {"pad", "unk", "bos", "eos"};
   for (int s = 0; s < 4; ++s) o << "special-" << roles[s] << "\t" << v.special(static_cast<Special>(s)) << "\n";
   o << "--\n";
@@ -237,8 +237,8 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
   }
   VocabularyInfo info;
   info.side = head["side"];
-  info.split_digits = head["split-digits"] == "yes";
-  info.byte_fallback = head["byte-fallback"] != "no";
+  info.single_digits = head["single-digits"] == "yes";
+  info.unknown_as_bytes = head["unknown-as-bytes"] != "no";
   info.alphabet_coverage = std::atof(head["alphabet-coverage"].c_str());
   if (lines.size() - i - 1 != ntok) return fail(0, "the file holds " + std::to_string(lines.size() - i - 1) + " tokens, not " + std::to_string(ntok));
   std::array<std::string, 4> specials;

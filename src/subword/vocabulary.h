@@ -37,8 +37,8 @@ enum Special : int { kPad = 0, kUnk = 1, kBos = 2, kEos = 3 };
 struct VocabularyInfo {
   std::string side;          // "shared", "source" or "target"
   double alphabet_coverage = 0;
-  bool split_digits = false;
-  bool byte_fallback = true;
+  bool single_digits = false;
+  bool unknown_as_bytes = true;
 };
 
 class Vocabulary {
@@ -99,7 +99,7 @@ class Vocabulary {
   VocabularyInfo info_;
 };
 
-// The escaped form of token bytes in the file and in `encode --pieces`:
+// The escaped form of token bytes in the file and in `encode --tokens`:
 // printable characters as they are; "\\" for a backslash, "\s" for a space,
 // "\t", "\n", "\r"; "\u{HHHH}" for other invisible characters (controls,
 // format characters, separators, unassigned); "\xHH" for bytes that are not

@@ -1,5 +1,5 @@
 // CLD2 alone on the same text, with the same threads: the yardstick for the
-// langid stage's overhead. Reads a TSV corpus, runs CLD2::DetectLanguage on
+// language stage's overhead. Reads a TSV corpus, runs CLD2::DetectLanguage on
 // every side of at least 20 letters in parallel batches, prints the seconds.
 //   sheaf_cld2_only corpus.tsv THREADS
 #include <oneapi/tbb/parallel_for.h>
@@ -12,7 +12,7 @@
 #include <string>
 #include <vector>
 
-#include "stages/langid.h"
+#include "stages/language.h"
 
 int main(int argc, char** argv) {
   if (argc != 3) {

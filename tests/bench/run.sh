@@ -53,7 +53,7 @@ OPTS="--quiet --force --input $CORPUS --set corpus.target_lang=\"$TGT\""
   measure "sort -u" env LC_ALL=C sort -u "$CORPUS"
   measure "sheaf clean, 2 threads" $B/sheaf run tests/bench/clean.toml --until split --threads 2 $OPTS --out "$OUT/c2"
   measure "sheaf clean, 1 thread" $B/sheaf run tests/bench/clean.toml --until split --threads 1 $OPTS --out "$OUT/c1"
-  measure "sheaf clean + CLD2, 2 threads" $B/sheaf run tests/bench/clean-langid.toml --threads 2 $OPTS --out "$OUT/l2"
+  measure "sheaf clean + CLD2, 2 threads" $B/sheaf run tests/bench/clean-language.toml --threads 2 $OPTS --out "$OUT/l2"
   measure "CLD2 alone, 2 threads" $B/tests/bench/sheaf_cld2_only "$CORPUS" 2
   if [ "$FULL" = 1 ]; then
     measure "sheaf full (32k vocab), 2 threads" $B/sheaf run tests/bench/full.toml --threads 2 $OPTS --out "$OUT/f2"

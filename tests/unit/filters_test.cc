@@ -87,11 +87,11 @@ TEST(Copy, IdenticalAndOverlappingSides) {
   }
   // Both cases, the bytes next to the letters ('@', '[', '`', '{'), whole
   // non-ASCII characters and long texts (collisions in the hashed set).
-  const std::vector<std::string> pieces = {"a", "B", "c", "D", "@", "[", "`", "{", " ", "\u00e9", "\u00c9", "\u0416"};
+  const std::vector<std::string> parts = {"a", "B", "c", "D", "@", "[", "`", "{", " ", "\u00e9", "\u00c9", "\u0416"};
   for (int i = 0; i < 3000; ++i) {
     std::string a, b;
     int n = 3 + static_cast<int>(rng() % (i % 10 == 0 ? 3000 : 80));
-    for (int k = 0; k < n; ++k) a += pieces[rng() % pieces.size()];
+    for (int k = 0; k < n; ++k) a += parts[rng() % parts.size()];
     b = a;
     for (int k = 0; k < n / 3 + 1; ++k) b[rng() % b.size()] = "xYz"[rng() % 3];
     ASSERT_GE(trigram_overlap_bound(a, b) + 1e-12, trigram_overlap(a, b)) << a << " / " << b;

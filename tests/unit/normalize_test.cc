@@ -135,11 +135,11 @@ TEST(Normalize, AsciiFastPathAgreesWithAReference) {
 TEST(Normalize, MixedTextFastPathAgreesWithAReference) {
   TextNormalizer n(NormalizeOptions{});
   std::mt19937 rng(6);
-  const std::vector<std::string> pieces = {"a",    "b", " ", " ",      "!",      "\t",    "\x01",
+  const std::vector<std::string> parts = {"a",    "b", " ", " ",      "!",      "\t",    "\x01",
                                            "\x7f", ".", "Z", "\u00e9", "\u00f1", "\u0416"};
   for (int i = 0; i < 20000; ++i) {
     std::vector<std::string> chars;
-    for (int k = 0; k < static_cast<int>(rng() % 40); ++k) chars.push_back(pieces[rng() % pieces.size()]);
+    for (int k = 0; k < static_cast<int>(rng() % 40); ++k) chars.push_back(parts[rng() % parts.size()]);
     std::string s, collapsed;
     for (const auto& c : chars) s += c;
     for (const auto& c : chars) {

@@ -179,7 +179,7 @@ TEST(Run, SetOverridesAKeyOfANamedStage) {
 
 TEST(Run, InitWritesAPipelineThatRunsWithNoEdits) {
   test::TempDir t;
-  auto init = test::run_sheaf("init --input " + demo_corpus() + " --source-lang en --target-lang es --out " + (t / "out"));
+  auto init = test::run_sheaf("init --input " + demo_corpus() + " --from en --to es --out " + (t / "out"));
   ASSERT_EQ(init.status, 0) << init.err;
   test::write_file(t / "p.toml", init.out);
   auto v = test::run_sheaf("validate " + (t / "p.toml"));

@@ -251,7 +251,7 @@ Vocabulary small_vocabulary(test::TempDir& t, size_t size = 400, bool fallback =
   o.size = size;
   o.specials = {"<p>", "<u>", "<b>", "<e>"};
   o.side = "shared";
-  o.byte_fallback = fallback;
+  o.unknown_as_bytes = fallback;
   TrainReport r;
   auto v = train_vocabulary({t / "train.tsv"}, {0, 1}, o, &r);
   EXPECT_TRUE(v.ok()) << (v.ok() ? "" : v.error().describe());
@@ -347,7 +347,7 @@ std::vector<uint32_t> naive_encode(const Vocabulary& v, size_t merges, const std
     rank.emplace(std::pair(t.left, t.right), static_cast<uint32_t>(r));
   }
   std::vector<uint32_t> out;
-  cut_units(text, v.info().split_digits, [&](std::string_view u) {
+  cut_units(text, v.info().single_digits, [&](std::string_view u) {
     std::vector<uint32_t> s;
     v.initial_symbols(u, s);
     for (;;) {
@@ -493,12 +493,12 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
     text += "w" + std::to_string(rng() % 700) + "ab x" + std::to_string(rng() % 90) + "\u00e9\tcc" +
             std::to_string(rng() % 300) + "\n";
   test::write_file(t / "train.tsv", text);
-  for (bool split_digits : {false, true}) {
+  for (bool single_digits : {false, true}) {
     TrainOptions o;
     o.size = 700;
     o.specials = {"a", "b", "c", "d"};
     o.threads = 2;
-    o.split_digits = split_digits;
+    o.single_digits = single_digits;
     o.alphabet_coverage = 0.99;  // some characters go through byte tokens
     TrainReport r;
     LearnedUnits units;

@@ -71,7 +71,7 @@ TEST(WordBoundaries, MatchWordBreakTestTxt) {
 // characters of every class the fast path handles and some it must leave to
 // ICU: boundaries and word flags must be identical.
 TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
-  const std::vector<std::string> pieces = {
+  const std::vector<std::string> parts = {
       "a",      "B",      "z",      "7",          "0",          " ",      "  ",     ".",      "'",
       ",",      ";",      ":",      "_",          "-",          "!",      "?",      "\"",     "(",
       "/",      "+",      "@",      "\u00e9",     "\u00f1",     "\u00df", "\u00dc", "\u0430", "\u0416",
@@ -84,7 +84,7 @@ TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
     std::string s;
     int n = 1 + static_cast<int>(rng() % 12);
     // Mostly simple text, sometimes one character the fast path refuses.
-    for (int i = 0; i < n; ++i) s += pieces[rng() % (trial % 3 == 0 ? pieces.size() : 40)];
+    for (int i = 0; i < n; ++i) s += parts[rng() % (trial % 3 == 0 ? parts.size() : 40)];
     std::vector<std::tuple<size_t, size_t, bool>> a, b;
     cut_words(s, [&](size_t x, size_t y, bool w) { a.emplace_back(x, y, w); });
     cut_words_reference(s, [&](size_t x, size_t y, bool w) { b.emplace_back(x, y, w); });

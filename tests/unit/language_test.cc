@@ -1,4 +1,4 @@
-// langid: CLD2 on real text. The text comes from translated manual pages that
+// language: CLD2 on real text. The text comes from translated manual pages that
 // Debian ships (packages manpages-es, -de, -fr, -ru: manpages-l10n, GPL-3+;
 // manpages-ja: GPL-2+/BSD and others; manpages-zh: GFDL-1.2+ and others; see
 // each package's /usr/share/doc/*/copyright), so no test text is written for
@@ -9,7 +9,7 @@
 #include <regex>
 
 #include "stage_util.h"
-#include "stages/langid.h"
+#include "stages/language.h"
 
 namespace sheaf {
 namespace {
@@ -52,7 +52,7 @@ const Lang kLangs[] = {
     {"ja", "/usr/share/man/ja/man1/cp.1.gz"},    {"zh", "/usr/share/man/zh_CN/man1/bash.1.gz"},
 };
 
-TEST(Langid, IdentifiesRealTextInSixLanguages) {
+TEST(Language, IdentifiesRealTextInSixLanguages) {
   for (const Lang& l : kLangs) {
     auto paras = paragraphs(l.page);
     ASSERT_GE(paras.size(), 3u) << l.page << " (install scripts/install-deps build test)";
@@ -65,14 +65,14 @@ TEST(Langid, IdentifiesRealTextInSixLanguages) {
   }
 }
 
-TEST(Langid, StageKeepsTheRightLanguageAndDropsAnother) {
+TEST(Language, StageKeepsTheRightLanguageAndDropsAnother) {
   auto english = paragraphs("/usr/share/man/man1/cp.1.gz", 120, 1);
   ASSERT_EQ(english.size(), 1u);
   for (size_t i = 0; i < std::size(kLangs); ++i) {
     const Lang& own = kLangs[i];
     const Lang& other = kLangs[(i + 1) % std::size(kLangs)];  // must be rejected
     auto mine = paragraphs(own.page, 200, 3), theirs = paragraphs(other.page, 200, 3);
-    test::StageHarness h("kind = \"langid\"\naccept_related = false", "en", own.code);
+    test::StageHarness h("kind = \"language\"\naccept_related = false", "en", own.code);
     ASSERT_TRUE(h.ok()) << h.error();
     size_t kept = 0, dropped = 0;
     for (const auto& p : mine) kept += h.reason(english[0], p).empty();
@@ -82,18 +82,18 @@ TEST(Langid, StageKeepsTheRightLanguageAndDropsAnother) {
   }
 }
 
-TEST(Langid, ShortSidesAreNotJudgedAndRelativesAreAccepted) {
+TEST(Language, ShortSidesAreNotJudgedAndRelativesAreAccepted) {
   auto es = paragraphs("/usr/share/man/es/man1/cp.1.gz", 200, 1);
   ASSERT_EQ(es.size(), 1u);
-  test::StageHarness h("kind = \"langid\"\nmin_letters = 20", "en", "de");
+  test::StageHarness h("kind = \"language\"\nmin_letters = 20", "en", "de");
   EXPECT_EQ(h.reason("Open.", "Hola, buenos dias."), "");   // under 20 letters: not judged
   EXPECT_EQ(h.reason("Open.", es[0]), "language:target=es");
-  test::StageHarness accept("kind = \"langid\"\ntarget_accept = [\"es\"]", "en", "de");
+  test::StageHarness accept("kind = \"language\"\ntarget_accept = [\"es\"]", "en", "de");
   EXPECT_EQ(accept.reason("Open.", es[0]), "");
-  test::StageHarness related("kind = \"langid\"", "en", "gl");  // Galician accepts Spanish
+  test::StageHarness related("kind = \"language\"", "en", "gl");  // Galician accepts Spanish
   EXPECT_EQ(related.reason("Open.", es[0]), "");
   EXPECT_EQ(related_languages("es"), (std::vector<std::string>{"gl", "ca", "pt"}));
-  test::StageHarness unknown("kind = \"langid\"", "en", "qq");
+  test::StageHarness unknown("kind = \"language\"", "en", "qq");
   EXPECT_FALSE(unknown.ok());
 }
 

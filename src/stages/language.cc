@@ -1,4 +1,4 @@
-#include "stages/langid.h"
+#include "stages/language.h"
 
 #include <cstdio>  // CLD2's public header needs it first
 #include <cld2/public/compact_lang_det.h>
@@ -64,9 +64,9 @@ bool cld2_knows(std::string_view code) {
 
 namespace {
 
-class LangidStage : public Stage {
+class LanguageStage : public Stage {
  public:
-  LangidStage(const StageContext& ctx, int64_t min_letters, std::vector<std::string> accept[2])
+  LanguageStage(const StageContext& ctx, int64_t min_letters, std::vector<std::string> accept[2])
       : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)) {
     for (int s = 0; s < 2; ++s) accept_[s] = std::move(accept[s]);
   }
@@ -90,9 +90,9 @@ class LangidStage : public Stage {
 
 }  // namespace
 
-const StageKind& langid_kind() {
+const StageKind& language_kind() {
   static const StageKind k{
-      "langid",
+      "language",
       "language identification with CLD2 (the slowest filter: keep it late)",
       StageRole::kFilter,
       {
@@ -107,7 +107,7 @@ const StageKind& langid_kind() {
   return k;
 }
 
-Result<std::unique_ptr<Stage>> make_langid(const StageContext& ctx) {
+Result<std::unique_ptr<Stage>> make_language(const StageContext& ctx) {
   for (int side = 0; side < 2; ++side) {
     const std::string& lang = side == 0 ? ctx.pipeline->corpus.source_lang : ctx.pipeline->corpus.target_lang;
     if (!cld2_knows(primary(lang)))
@@ -125,7 +125,7 @@ Result<std::unique_ptr<Stage>> make_langid(const StageContext& ctx) {
       for (const auto& r : related_languages(lang)) accept[side].push_back(primary(r));
     for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(primary(a));
   }
-  return std::unique_ptr<Stage>(std::make_unique<LangidStage>(ctx, p.integer("min_letters"), accept));
+  return std::unique_ptr<Stage>(std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), accept));
 }
 
 }  // namespace sheaf

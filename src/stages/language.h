@@ -1,4 +1,4 @@
-// langid: drops pairs in which CLD2 reliably identifies a side as a language
+// language: drops pairs in which CLD2 reliably identifies a side as a language
 // other than the side's own.
 //
 // A side with fewer than min_letters letters is not judged (identification of
@@ -29,7 +29,7 @@ std::vector<std::string> related_languages(std::string_view lang);
 // True when CLD2 knows the language code.
 bool cld2_knows(std::string_view code);
 
-const StageKind& langid_kind();
-Result<std::unique_ptr<Stage>> make_langid(const StageContext& ctx);
+const StageKind& language_kind();
+Result<std::unique_ptr<Stage>> make_language(const StageContext& ctx);
 
 }  // namespace sheaf
