@@ -1,5 +1,7 @@
 #include "core/text.h"
 
+#include "core/error.h"
+
 #include <unicode/brkiter.h>
 #include <unicode/uchar.h>
 #include <unicode/utext.h>
@@ -7,7 +9,6 @@
 
 #include <cstring>
 #include <memory>
-#include <stdexcept>
 #include <vector>
 
 namespace sheaf {
@@ -72,7 +73,12 @@ icu::BreakIterator& word_iterator() {
   static const std::unique_ptr<icu::BreakIterator> prototype = [] {
     UErrorCode st = U_ZERO_ERROR;
     std::unique_ptr<icu::BreakIterator> bi(icu::BreakIterator::createWordInstance(icu::Locale::getRoot(), st));
-    if (U_FAILURE(st)) throw std::runtime_error(std::string("ICU word iterator: ") + u_errorName(st));
+    // Thrown as an error value: the runner turns an ErrorException raised
+    // inside a oneTBB filter back into a Status (a bare std::runtime_error
+    // would escape it and end the process).
+    if (U_FAILURE(st))
+      throw ErrorException{Error(ErrorKind::kInternal, std::string("ICU could not build its word break iterator (") +
+                                                           u_errorName(st) + "); check that ICU's data is installed")};
     return bi;
   }();
   thread_local std::unique_ptr<icu::BreakIterator> mine(prototype->clone());

@@ -73,10 +73,12 @@ Status OutputFile::commit() {
 }
 
 void OutputFile::discard() {
-  if (fd_ >= 0) {
-    ::close(fd_);
-    fd_ = -1;
-  }
+  // Only a partial file this object created and still holds is removed: a
+  // file never opened (path_ empty) must not unlink ".partial" in the
+  // current directory, and a committed one has no partial file left.
+  if (fd_ < 0) return;
+  ::close(fd_);
+  fd_ = -1;
   ::unlink((path_ + ".partial").c_str());
 }
 

@@ -41,26 +41,43 @@ std::string distribution_json(const Distribution& d) {
 namespace sheaf {
 
 void Histogram::add(uint64_t v, uint64_t times) {
-  if (v >= counts_.size()) counts_.resize(v + 1, 0);
-  counts_[v] += times;
+  if (v < kDense) {
+    if (v >= dense_.size()) dense_.resize(v + 1, 0);
+    dense_[v] += times;
+  } else {
+    sparse_[v] += times;
+  }
   count_ += times;
   sum_ += v * times;
 }
 
 void Histogram::merge(const Histogram& o) {
-  if (o.counts_.size() > counts_.size()) counts_.resize(o.counts_.size(), 0);
-  for (size_t i = 0; i < o.counts_.size(); ++i) counts_[i] += o.counts_[i];
+  if (o.dense_.size() > dense_.size()) dense_.resize(o.dense_.size(), 0);
+  for (size_t i = 0; i < o.dense_.size(); ++i) dense_[i] += o.dense_[i];
+  for (const auto& [v, c] : o.sparse_) sparse_[v] += c;
   count_ += o.count_;
   sum_ += o.sum_;
 }
 
 uint64_t Histogram::value_at_rank(uint64_t rank) const {
-  uint64_t seen = 0;
-  for (size_t v = 0; v < counts_.size(); ++v) {
-    seen += counts_[v];
-    if (seen >= rank) return v;
-  }
-  return counts_.empty() ? 0 : counts_.size() - 1;
+  uint64_t seen = 0, last = 0;
+  bool found = false;
+  for_each([&](uint64_t v, uint64_t c) {
+    if (found) return;
+    seen += c;
+    last = v;
+    found = seen >= rank;
+  });
+  return last;
+}
+
+std::vector<uint64_t> Histogram::counts() const {
+  std::vector<uint64_t> out;
+  for_each([&](uint64_t v, uint64_t c) {
+    if (v >= out.size()) out.resize(v + 1, 0);
+    out[v] = c;
+  });
+  return out;
 }
 
 Distribution Histogram::summary() const {
@@ -84,11 +101,11 @@ Distribution Histogram::summary() const {
 
 std::vector<uint64_t> Histogram::bins(uint64_t width, size_t most) const {
   std::vector<uint64_t> out;
-  for (size_t v = 0; v < counts_.size(); ++v) {
-    size_t b = std::min<size_t>(v / width, most - 1);
+  for_each([&](uint64_t v, uint64_t c) {
+    size_t b = static_cast<size_t>(std::min<uint64_t>(v / width, most - 1));
     if (b >= out.size()) out.resize(b + 1, 0);
-    out[b] += counts_[v];
-  }
+    out[b] += c;
+  });
   return out;
 }
 

@@ -7,6 +7,7 @@
 #pragma once
 
 #include <cstdint>
+#include <map>
 #include <string>
 #include <vector>
 
@@ -29,11 +30,17 @@ std::string distribution_json(const Distribution& d);
 
 namespace sheaf {
 
-// Exact counts of small non-negative integers (lengths): percentiles by
-// nearest rank without keeping the values. Merging is a sum, so the result
-// does not depend on the order or the thread that added a value.
+// Exact counts of non-negative integers (lengths, ratios): percentiles by
+// nearest rank without keeping the values. Values below kDense are counted in
+// an array; larger ones, rare in real text but possible on hostile input (one
+// 1 MiB line gives a length ratio in the millions), in an ordered map, so
+// memory grows with the number of distinct large values, never with their
+// size. Merging is a sum, so the result does not depend on the order or the
+// thread that added a value.
 class Histogram {
  public:
+  static constexpr uint64_t kDense = 1 << 16;
+
   void add(uint64_t v, uint64_t times = 1);
   void merge(const Histogram& o);
   uint64_t count() const { return count_; }
@@ -41,11 +48,20 @@ class Histogram {
   Distribution summary() const;
   // Counts in bins of `width` from 0: bin k holds values in [k*width, (k+1)*width).
   std::vector<uint64_t> bins(uint64_t width, size_t most) const;
-  const std::vector<uint64_t>& counts() const { return counts_; }
+  // Count of every value from 0 to the largest one added (empty if none).
+  std::vector<uint64_t> counts() const;
+  // Calls f(value, count) for every value with a nonzero count, in increasing order.
+  template <typename F>
+  void for_each(F&& f) const {
+    for (size_t v = 0; v < dense_.size(); ++v)
+      if (dense_[v]) f(static_cast<uint64_t>(v), dense_[v]);
+    for (const auto& [v, c] : sparse_) f(v, c);
+  }
 
  private:
   uint64_t value_at_rank(uint64_t rank) const;
-  std::vector<uint64_t> counts_;
+  std::vector<uint64_t> dense_;
+  std::map<uint64_t, uint64_t> sparse_;
   uint64_t count_ = 0, sum_ = 0;
 };
 

@@ -10,12 +10,21 @@
 
 #include <cstdint>
 
+#include <zlib.h>
+
 namespace sheaf {
 
 inline constexpr char kShardMagic[8] = {'s', 'h', 'f', 'i', 'd', 's', 0x1A, 0x00};
 inline constexpr uint32_t kShardFormat = 1;
 inline constexpr uint64_t kShardHeaderSize = 128;
 inline constexpr uint64_t kShardAlign = 64;
+
+// CRC-32 (zlib's polynomial, as Python's zlib.crc32) of n bytes. zlib's
+// crc32_z takes a size_t length, so a body of 4 GiB or more is checksummed
+// whole, not modulo 2^32 as a cast to crc32()'s 32-bit length would do.
+inline uint32_t shard_crc32(const void* data, uint64_t n) {
+  return static_cast<uint32_t>(crc32_z(0, static_cast<const Bytef*>(data), static_cast<z_size_t>(n)));
+}
 
 enum ShardOrder : uint32_t { kInputOrder = 0, kLengthOrder = 1 };
 enum ShardFlags : uint32_t { kHasBos = 1, kHasEos = 2 };

@@ -48,7 +48,7 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   const ShardHeader& h = r.h_;
   if (std::memcmp(h.magic, kShardMagic, 8) != 0) return bad("not a sheaf shard (wrong magic bytes)", 0);
   if (XXH3_64bits(r.data_, 112) != h.header_checksum ||
-      crc32(0, reinterpret_cast<const Bytef*>(r.data_), 112) != h.header_crc32)
+      shard_crc32(r.data_, 112) != h.header_crc32)
     return bad("the header checksum does not match", 112);
   if (h.version != kShardFormat) return bad("format version " + std::to_string(h.version) + " is not " + std::to_string(kShardFormat), 8);
   if (h.id_width != 2 && h.id_width != 4) return bad("id width must be 2 or 4", 12);
@@ -69,8 +69,7 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   uint64_t sum;
   std::memcpy(&sum, r.data_ + body_end, 8);
   if (XXH3_64bits(r.data_ + kShardHeaderSize, body_end - kShardHeaderSize) != sum ||
-      crc32(0, reinterpret_cast<const Bytef*>(r.data_ + kShardHeaderSize), static_cast<uInt>(body_end - kShardHeaderSize)) !=
-          h.body_crc32)
+      shard_crc32(r.data_ + kShardHeaderSize, body_end - kShardHeaderSize) != h.body_crc32)
     return bad("the body checksum does not match (a damaged byte?)", body_end);
   for (int side = 0; side < 2; ++side) {
     uint64_t pos = side ? h.target_offsets : h.source_offsets;

@@ -89,10 +89,9 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   h.source_count = src_.ids.size();
   h.target_count = tgt_.ids.size();
   h.file_size = body.size() + 8;
-  h.body_crc32 = static_cast<uint32_t>(
-      crc32(0, reinterpret_cast<const Bytef*>(body.data() + kShardHeaderSize), static_cast<uInt>(body.size() - kShardHeaderSize)));
+  h.body_crc32 = shard_crc32(body.data() + kShardHeaderSize, body.size() - kShardHeaderSize);
   h.header_checksum = XXH3_64bits(&h, 112);
-  h.header_crc32 = static_cast<uint32_t>(crc32(0, reinterpret_cast<const Bytef*>(&h), 112));
+  h.header_crc32 = shard_crc32(&h, 112);
   std::memcpy(body.data(), &h, sizeof h);
   uint64_t sum = XXH3_64bits(body.data() + kShardHeaderSize, body.size() - kShardHeaderSize);
   body.append(reinterpret_cast<const char*>(&sum), 8);

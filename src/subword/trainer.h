@@ -1,8 +1,9 @@
 // Trainer: learns a Vocabulary from split text files.
 //
 // Counts word units (units.h) over one or both columns of TSV split files in
-// parallel (per-thread counts merged by exact integer sums, so the result does
-// not depend on the thread count), picks the base alphabet (the most frequent
+// parallel (the hash space is cut into partitions, each counted by one serial
+// filter, so every unit lands in exactly one table and nothing is merged; the
+// counts are exact sums and do not depend on the thread count), picks the base alphabet (the most frequent
 // characters covering `alphabet_coverage` of all character occurrences; ties
 // by code point), then learns merges (merge_learner.h) until the vocabulary
 // has `size` tokens or no pair occurs `min_count` times.

@@ -1,0 +1,115 @@
+// Regression tests for edges of the core types: histograms of hostile values,
+// shard checksums of bodies of 4 GiB or more, and partial output files.
+#include <sys/mman.h>
+#include <unistd.h>
+#include <zlib.h>
+
+#include <filesystem>
+#include <fstream>
+#include <random>
+#include <vector>
+
+#include <gtest/gtest.h>
+
+#include "io/output_file.h"
+#include "report/stats.h"
+#include "shards/shard_format.h"
+
+namespace sheaf {
+namespace {
+
+// A single enormous value (the length ratio of a 1 MiB line against a
+// one-character side is in the hundreds of millions) used to resize a dense
+// array to that many counters; now it costs one map entry.
+TEST(Edges, HistogramHoldsHugeValuesWithoutADenseArray) {
+  Histogram h;
+  h.add(3);
+  h.add(7, 2);
+  h.add(100'000'000'000ULL);
+  h.add(1ULL << 40);
+  Distribution d = h.summary();
+  EXPECT_EQ(d.count, 5u);
+  EXPECT_EQ(d.min, 3u);
+  EXPECT_EQ(d.p50, 7u);  // rank ceil(2.5) = 3: 3, 7, [7], ...
+  EXPECT_EQ(d.max, 1ULL << 40);
+  EXPECT_EQ(d.sum, 3u + 14u + 100'000'000'000ULL + (1ULL << 40));
+  // bins() folds everything past the last bin into it.
+  EXPECT_EQ(h.bins(5, 3), (std::vector<uint64_t>{1, 2, 2}));
+}
+
+// Reference: distribution_of() sorts the values themselves (nearest rank,
+// the definition in stats.h). Values straddle the dense/sparse boundary.
+TEST(Edges, HistogramMatchesSortedValuesAcrossTheDenseLimit) {
+  std::mt19937_64 rng(7);
+  for (int trial = 0; trial < 20; ++trial) {
+    Histogram a, b;
+    std::vector<uint64_t> all;
+    int n = 1 + static_cast<int>(rng() % 400);
+    for (int i = 0; i < n; ++i) {
+      uint64_t v = (rng() % 3 == 0) ? Histogram::kDense - 50 + rng() % 100 : rng() % 200;
+      if (rng() % 17 == 0) v = rng() >> 20;
+      all.push_back(v);
+      (i % 2 ? a : b).add(v);
+    }
+    a.merge(b);
+    Distribution want = distribution_of(all);
+    Distribution got = a.summary();
+    EXPECT_EQ(got.count, want.count);
+    EXPECT_EQ(got.sum, want.sum);
+    EXPECT_EQ(got.min, want.min);
+    EXPECT_EQ(got.p50, want.p50);
+    EXPECT_EQ(got.p90, want.p90);
+    EXPECT_EQ(got.p95, want.p95);
+    EXPECT_EQ(got.p99, want.p99);
+    EXPECT_EQ(got.max, want.max);
+    if (want.max > 1'000'000) continue;  // counts() is dense: only for small values
+    std::vector<uint64_t> dense = a.counts();
+    ASSERT_EQ(dense.size(), want.max + 1);
+    uint64_t total = 0;
+    for (uint64_t c : dense) total += c;
+    EXPECT_EQ(total, want.count);
+  }
+}
+
+// docs/shard-format.md: body_crc32 is zlib's CRC-32 of the whole body (the
+// value Python's zlib.crc32 gives). Before, the length was cast to 32 bits, so
+// a body of 4 GiB + 3 bytes was checksummed as its first 3 bytes. The
+// reference is zlib's own crc32_combine over 1 MiB blocks of zeros.
+TEST(Edges, ShardCrcCoversBodiesOfFourGibibytesAndMore) {
+  const uint64_t n = (uint64_t{1} << 32) + 3;
+  void* m = ::mmap(nullptr, n, PROT_READ, MAP_PRIVATE | MAP_ANONYMOUS | MAP_NORESERVE, -1, 0);
+  ASSERT_NE(m, MAP_FAILED);  // zero pages, read-only: no memory is used
+  std::vector<unsigned char> mib(1 << 20, 0);
+  uLong block = crc32(0, mib.data(), static_cast<uInt>(mib.size()));
+  uLong want = block;
+  z_off_t len = static_cast<z_off_t>(mib.size());
+  for (int i = 0; i < 12; ++i) {  // 1 MiB doubled 12 times: 4 GiB
+    want = crc32_combine(want, want, len);
+    len *= 2;
+  }
+  want = crc32(want, mib.data(), 3);
+  uint32_t got = shard_crc32(m, n);
+  EXPECT_EQ(got, static_cast<uint32_t>(want));
+  EXPECT_NE(got, shard_crc32(m, 3));
+  ::munmap(m, n);
+}
+
+// An OutputFile that was never opened must not remove ".partial" in the
+// current directory when a failed run discards its outputs.
+TEST(Edges, DiscardingAFileNeverOpenedRemovesNothing) {
+  auto dir = std::filesystem::temp_directory_path() / ("sheaf-edges-" + std::to_string(::getpid()));
+  std::filesystem::create_directories(dir);
+  auto old = std::filesystem::current_path();
+  std::filesystem::current_path(dir);
+  { std::ofstream(".partial") << "a user's file"; }
+  {
+    OutputFile never;
+    never.discard();
+  }
+  EXPECT_TRUE(std::filesystem::exists(dir / ".partial"));
+  std::filesystem::current_path(old);
+  std::filesystem::remove_all(dir);
+}
+
+}  // namespace
+}  // namespace sheaf
