@@ -105,7 +105,12 @@ Result<std::shared_ptr<const int>> lock_dir(const fs::path& d, const std::string
     return Error(ErrorKind::kIo, std::string("cannot write in the output directory: ") + std::strerror(err),
                  Location{dir, 0, 0, {}});
   }
+  // Emptied when the run lets go, so a finished run leaves the same bytes
+  // whatever its process id (after kill -9 the id stays, harmlessly).
   return std::shared_ptr<const int>(new int(fd), [](const int* p) {
+    if (::ftruncate(*p, 0) != 0) {
+      // Nothing to do: the lock is released by close() all the same.
+    }
     ::close(*p);
     delete p;
   });
