@@ -269,8 +269,12 @@ static Result<std::string> summary_text_unchecked(const std::string& summary_jso
       for (auto& [side, rows] : v["sweep"].items()) {
         o << "    sweep on " << j["vocabulary"]["sweep_split"].get<std::string>() << " (" << side << "):";
         for (const auto& r : rows) {
-          std::snprintf(buf, sizeof buf, "  %llu: %.1f tok, p99 %llu", static_cast<unsigned long long>(r["size"].get<uint64_t>()),
-                        r["mean_tokens"].get<double>(), static_cast<unsigned long long>(r["p99_tokens"].get<uint64_t>()));
+          // A size the learner never reached is shown with the size it had.
+          uint64_t size = r["size"].get<uint64_t>(), reached = r.value("effective_size", size);
+          std::string shown = std::to_string(size);
+          if (reached < size) shown += " (reached " + std::to_string(reached) + ")";
+          std::snprintf(buf, sizeof buf, "  %s: %.1f tok, p99 %llu", shown.c_str(), r["mean_tokens"].get<double>(),
+                        static_cast<unsigned long long>(r["p99_tokens"].get<uint64_t>()));
           o << buf;
         }
         o << "\n";

@@ -491,6 +491,47 @@ TEST(Hostile, EveryInputByteIsRecoverableFromTheOutputs) {
   EXPECT_EQ(test::run_sheaf("inspect " + (t / "out")).status, 0);
 }
 
+// 13. Vocabulary size, "stopped early", the sweep and the shard bound.
+TEST(Hostile, VocabularySizeAndShardBoundsAreKept) {
+  test::TempDir t;
+  std::string text;
+  for (int i = 0; i < 300; ++i)
+    text += "seed " + std::to_string(i) + " \u00e9\u00f1\u00fc\u00df\u0416\u03b1\u05d0\u4e2d\u3042\tsemilla " +
+            std::to_string(i) + "\n";
+  test::write_file(t / "c.tsv", text);
+  // size below the alphabet, with a larger sweep size: an error, not a
+  // larger vocabulary.
+  std::string p = write_pipeline(t, t / "c.tsv", "[[stage]]\nkind = \"vocabulary\"\nsize = 262\nsweep = [2000]\n", t / "out");
+  auto r = test::run_sheaf("run " + p + " --quiet");
+  EXPECT_EQ(r.status, 1) << r.err;
+  EXPECT_NE(r.err.find("raise size to at least"), std::string::npos) << r.err;
+  // A vocabulary that reached its size did not stop early, even when the
+  // learner ran out of pairs before a larger sweep size; the sweep shows what
+  // it reached.
+  p = write_pipeline(t, t / "c.tsv",
+                     "[[stage]]\nkind = \"vocabulary\"\nsize = 300\nsweep = [50000]\n[[stage]]\nkind = \"shards\"\n"
+                     "max_bytes = 64\n",
+                     t / "out2");
+  r = test::run_sheaf("run " + p);
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_EQ(r.out.find("stopped early"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("50000 (reached "), std::string::npos) << r.out;
+  // Every shard holds at most max_bytes of ids (these pairs are far smaller).
+  int shards = 0;
+  for (const auto& e : test::fs::directory_iterator(t / "out2/shards")) {
+    auto i = test::run_sheaf("inspect " + e.path().string());
+    ASSERT_EQ(i.status, 0) << i.err;
+    auto count = [&](const std::string& label) {
+      size_t at = i.out.find(label);
+      return std::stoull(i.out.substr(i.out.find_first_not_of(' ', at + label.size())));
+    };
+    uint64_t width = count("id width") / 8;
+    EXPECT_LE((count("source ids") + count("target ids")) * width, 64u) << e.path();
+    ++shards;
+  }
+  EXPECT_GT(shards, 10);
+}
+
 // 14. What init writes works wherever the file is saved.
 TEST(Hostile, InitWritesPathsThatWorkFromAnotherFolder) {
   test::TempDir t;
