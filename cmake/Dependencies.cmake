@@ -24,6 +24,7 @@ sheaf_require_pkg(RE2 re2 libre2-dev)
 sheaf_require_pkg(XXHASH libxxhash libxxhash-dev)
 sheaf_require_pkg(ZLIB zlib zlib1g-dev)
 sheaf_require_pkg(ZSTD libzstd libzstd-dev)
+sheaf_require_pkg(LZMA liblzma liblzma-dev)
 sheaf_require_pkg(TOMLPP tomlplusplus libtomlplusplus-dev)
 
 find_package(CLI11 CONFIG QUIET)
@@ -43,12 +44,18 @@ find_library(CLD2_LIBRARY cld2)
 if(NOT CLD2_LIBRARY)
   message(FATAL_ERROR "libcld2 not found: install the Debian package 'libcld2-dev' (or run scripts/setup)")
 endif()
+# libbz2-dev ships no pkg-config file: the header and the library.
+sheaf_require_header(BZIP2_INCLUDE bzlib.h libbz2-dev)
+find_library(BZIP2_LIBRARY bz2)
+if(NOT BZIP2_LIBRARY)
+  message(FATAL_ERROR "libbz2 not found: install the Debian package 'libbz2-dev' (or run scripts/setup)")
+endif()
 find_package(Threads REQUIRED)
 
 add_library(sheaf_deps INTERFACE)
 add_library(sheaf::deps ALIAS sheaf_deps)
-target_include_directories(sheaf_deps INTERFACE ${CLD2_INCLUDE})
+target_include_directories(sheaf_deps INTERFACE ${CLD2_INCLUDE} ${BZIP2_INCLUDE})
 target_link_libraries(sheaf_deps INTERFACE
-  PkgConfig::ICU PkgConfig::RE2 PkgConfig::XXHASH PkgConfig::ZLIB PkgConfig::ZSTD
+  PkgConfig::ICU PkgConfig::RE2 PkgConfig::XXHASH PkgConfig::ZLIB PkgConfig::ZSTD PkgConfig::LZMA ${BZIP2_LIBRARY}
   PkgConfig::TOMLPP CLI11::CLI11 nlohmann_json::nlohmann_json TBB::tbb
   ${CLD2_LIBRARY} Threads::Threads)

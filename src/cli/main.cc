@@ -3,11 +3,13 @@
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
+#include <algorithm>
 #include <csignal>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
+#include <new>
 #include <sstream>
 
 #include "pipeline/pipeline.h"
@@ -15,6 +17,7 @@
 #include "report/run_record.h"
 #include "report/summary.h"
 #include "shards/inspect.h"
+#include "stages/stage.h"
 #include "subword/codec.h"
 
 namespace {
@@ -28,6 +31,56 @@ int fail(const Error& e) {
 
 void on_signal(int) { interrupt_requested().store(true); }
 
+// SIGINT, SIGTERM, SIGHUP (the terminal went away) and SIGPIPE (the reader of
+// our output went away) all stop a run the same way: the flag is set, every
+// loop and every read sees it within a second, partial files are removed.
+// No SA_RESTART, so a read that waits is interrupted too.
+void handle_stop_signals() {
+  struct sigaction sa {};
+  sa.sa_handler = on_signal;
+  sigemptyset(&sa.sa_mask);
+  sa.sa_flags = 0;
+  for (int sig : {SIGINT, SIGTERM, SIGHUP, SIGPIPE}) ::sigaction(sig, &sa, nullptr);
+}
+
+// Reads a whole small file; false when it cannot be read.
+bool read_text(const std::string& path, std::string& out) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return false;
+  std::stringstream text;
+  text << in.rdbuf();
+  out = text.str();
+  return !in.bad();
+}
+
+// The subcommands, for "unknown command" (CLI11 would only say that one is
+// required).
+const std::vector<std::string> kCommands = {"init", "validate", "run", "encode", "decode", "inspect", "stats"};
+
+// init: the values it is given must make a file that loads; the same checks
+// as validate and run, with the option named.
+Status check_init(const InitOptions& io) {
+  const StageKind* vocab = find_stage_kind("vocabulary");
+  for (const auto& f : vocab->fields)
+    if (f.key == "size" && !(static_cast<double>(io.vocab_size) >= f.min && static_cast<double>(io.vocab_size) <= f.max))
+      return Error(ErrorKind::kUsage, "--vocab-size must be from " + std::to_string(static_cast<int64_t>(f.min)) +
+                                          " to " + std::to_string(static_cast<int64_t>(f.max)) + " (4 special + 256 byte tokens + at least one more), not " +
+                                          std::to_string(io.vocab_size));
+  if (io.seed < 0) return Error(ErrorKind::kUsage, "--seed must not be negative");
+  auto p = load_pipeline_text(init_template(io), "init");
+  if (!p.ok()) return Error(ErrorKind::kUsage, p.error().message());
+  Status st = check_stages(*p);
+  if (!st.ok()) {
+    const std::string& m = st.error().message();
+    const char* option = m.find("source") != std::string::npos ? "--from" : m.find("target") != std::string::npos ? "--to" : nullptr;
+    if (option && (m.find("language") != std::string::npos))
+      return Error(ErrorKind::kUsage,
+                   std::string(option) + " must be an ISO 639-1 language code such as \"en\" (" + m + ")");
+    return Error(ErrorKind::kUsage, m);
+  }
+  return {};
+}
+
 void print_summary(const std::string& out_dir) {
   std::ifstream in(out_dir + "/summary.json");
   std::stringstream text;
@@ -39,7 +92,39 @@ void print_summary(const std::string& out_dir) {
 
 }  // namespace
 
+int run_command(int argc, char** argv);
+
 int main(int argc, char** argv) {
+  // An unknown first word is a mistyped command, not a missing one.
+  if (argc > 1 && argv[1][0] != '-' &&
+      std::find(kCommands.begin(), kCommands.end(), std::string(argv[1])) == kCommands.end()) {
+    std::string hint = closest_name(argv[1], kCommands);
+    std::string all;
+    for (const auto& c : kCommands) all += (all.empty() ? "" : ", ") + c;
+    return fail(Error(ErrorKind::kUsage, std::string("unknown command \"") + argv[1] + "\"" +
+                                             (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)") +
+                                             "; the commands are " + all + " (sheaf --help)"));
+  }
+  try {
+    return run_command(argc, argv);
+  } catch (const std::bad_alloc&) {
+    // Destructors have removed every partial file on the way here.
+    return fail(Error(ErrorKind::kIo,
+                      "out of memory; partial files were removed and no run record was written: lower --threads, "
+                      "or raise the memory limit (ulimit -v)"));
+  } catch (const std::exception& e) {
+    // oneTBB reports a thread it could not start (under a memory limit, the
+    // thread's stack) as a runtime_error naming pthread_create.
+    if (std::string_view(e.what()).find("pthread_create") != std::string_view::npos)
+      return fail(Error(ErrorKind::kIo, std::string("out of memory: a worker thread could not be started (") + e.what() +
+                                            "); partial files were removed and no run record was written: lower "
+                                            "--threads, or raise the memory limit (ulimit -v)"));
+    return fail(Error(ErrorKind::kInternal, std::string("internal error (") + e.what() +
+                                                "); partial files were removed; please report this"));
+  }
+}
+
+int run_command(int argc, char** argv) {
   CLI::App app{"sheaf: prepares parallel corpora for sequence-to-sequence training"};
   app.require_subcommand(1);
   app.set_version_flag("--version", std::string("sheaf ") + SHEAF_VERSION);
@@ -126,6 +211,7 @@ int main(int argc, char** argv) {
   if (init->parsed()) {
     if (io.inputs.size() > 2)
       return fail(Error(ErrorKind::kUsage, "--input takes one file, or two line-aligned files"));
+    if (auto st = check_init(io); !st.ok()) return fail(st.error());
     std::cout << init_template(io);
     return 0;
   }
@@ -134,6 +220,7 @@ int main(int argc, char** argv) {
     if (!ov.ok()) return fail(ov.error());
     auto p = load_pipeline(vfile, *ov);
     if (!p.ok()) return fail(p.error());
+    if (auto st = check_stages(*p); !st.ok()) return fail(st.error());
     std::cout << render_pipeline(*p);
     return 0;
   }
@@ -196,23 +283,30 @@ int main(int argc, char** argv) {
     return 0;
   }
   if (stats->parsed()) {
-    std::ifstream in(sdir + "/summary.json");
-    if (!in)
+    // Both files are checked: a damaged or foreign record is an error.
+    auto record = read_manifest_outputs(sdir + "/manifest.json");
+    if (!record.ok()) {
+      Error e = record.error();
+      return fail(Error(ErrorKind::kInput, e.message() + "; not a finished sheaf run directory", e.where()));
+    }
+    std::string text;
+    if (!read_text(sdir + "/summary.json", text))
       return fail(
           Error(ErrorKind::kInput, "no summary.json: not a finished sheaf run directory", Location{sdir, 0, 0, {}}));
-    std::stringstream text;
-    text << in.rdbuf();
+    auto s = summary_text(text);
+    if (!s.ok()) return fail(Error(s.error().kind(), s.error().message(), Location{sdir + "/summary.json", 0, 0, {}}));
     if (sjson) {
-      std::cout << text.str();
+      std::cout << text;
       return 0;
     }
-    auto s = summary_text(text.str());
     if (!s.ok()) return fail(s.error());
     std::cout << *s;
     return 0;
   }
   if (inspect->parsed()) {
-    Status st = std::filesystem::is_directory(ipath) ? inspect_run(ipath, std::cout) : inspect_shard(ipath, std::cout);
+    std::error_code ec;
+    Status st =
+        std::filesystem::is_directory(ipath, ec) ? inspect_run(ipath, std::cout) : inspect_shard(ipath, std::cout);
     if (!st.ok()) return fail(st.error());
     return 0;
   }
@@ -221,8 +315,7 @@ int main(int argc, char** argv) {
     if (!ov.ok()) return fail(ov.error());
     auto p = load_pipeline(rfile, *ov);
     if (!p.ok()) return fail(p.error());
-    std::signal(SIGINT, on_signal);
-    std::signal(SIGTERM, on_signal);
+    handle_stop_signals();
     // A file-size limit (ulimit -f) must surface as a write error, not kill us.
     std::signal(SIGXFSZ, SIG_IGN);
     ro.progress = !quiet && ::isatty(STDERR_FILENO);

@@ -1,6 +1,8 @@
-// The interrupt flag: set by the command line's SIGINT/SIGTERM handler, read
-// by every long loop (readers of each pass, the merge learner), which then
-// stop with an kInterrupted error within a batch. Partial files are removed
+// The interrupt flag: set by the command line's handler of SIGINT, SIGTERM,
+// SIGHUP and SIGPIPE, read by every long loop (readers of each pass, the merge
+// learner) and by every read of the input (which also waits on a pipe in
+// slices of 100 ms), which then stop with a kInterrupted error within a
+// second. Partial files are removed
 // as their writers unwind; no run record is written.
 #pragma once
 

@@ -1,8 +1,13 @@
 // ByteSource: a stream of bytes from a file or standard input, decompressed
-// when it is gzip or zstd. The format is detected from the first bytes (gzip
-// 1F 8B, zstd 28 B5 2F FD), never from the file name. Text that starts like
-// UTF-16 or UTF-32 (byte-order marks, or zero bytes in every second or fourth
-// position) is refused with an error that says how to convert it.
+// when it is gzip, zstd, bzip2 or xz. The format is detected from the first
+// bytes (gzip 1F 8B; zstd 28 B5 2F FD or a skippable frame 5? 2A 4D 18, RFC
+// 8878; bzip2 "BZh" + size digit + block magic; xz FD 37 7A 58 5A 00), never
+// from the file name; concatenated streams are one input. LZ4, zip and 7-Zip
+// are refused with a message naming them. Text that starts like UTF-16 or
+// UTF-32 (byte-order marks, or zero bytes in every second or fourth position)
+// is refused with an error that says how to convert it.
+// Reads check the interrupt flag (core/interrupt.h) and wait on a pipe in
+// slices of 100 ms, so a signal stops even a reader whose input never comes.
 #pragma once
 
 #include <cstdint>
@@ -14,7 +19,7 @@
 
 namespace sheaf {
 
-enum class Compression { kNone, kGzip, kZstd };
+enum class Compression { kNone, kGzip, kZstd, kBzip2, kXz };
 const char* compression_name(Compression c);
 
 class ByteSource {

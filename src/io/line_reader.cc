@@ -30,16 +30,45 @@ Result<size_t> LineReader::fill() {
     if (end_ < 512 && !eof_) return *r;  // read a little more before deciding
     first_ = false;
     std::string_view head(buf_.data(), std::min<size_t>(end_, 512));
-    if (const char* enc = wide_encoding(head))
+    if (const char* enc = wide_encoding(head)) {
+      std::string from = std::string_view(enc).starts_with("UTF-32") ? "UTF-32" : "UTF-16";
       return Error(ErrorKind::kInput,
-                   std::string("input looks like ") + enc + "; sheaf reads UTF-8: convert it first (e.g. iconv -f UTF-16 -t UTF-8)",
+                   std::string("input looks like ") + enc + "; sheaf reads UTF-8: convert it first (e.g. iconv -f " +
+                       from + " -t UTF-8)",
                    Location{name(), 0, 0, {}});
-    if (end_ >= 3 && std::memcmp(buf_.data(), "\xEF\xBB\xBF", 3) == 0) {
-      begin_ = 3;
-      offset_ = 3;
     }
+    if (end_ >= 3 && std::memcmp(buf_.data(), "\xEF\xBB\xBF", 3) == 0) bom_ = 3;
   }
   return *r;
+}
+
+// The first line would hold a CR that is not at its end: the file's lines end
+// with CR alone (classic Mac OS), which would make the whole file one line.
+Status LineReader::check_cr_only(size_t end) const {
+  if (number_ != 0 || end <= begin_ + 1) return {};
+  if (std::memchr(buf_.data() + begin_, '\r', end - begin_ - 1) == nullptr) return {};
+  return Error(ErrorKind::kInput,
+               "the lines of this file end with a carriage return (CR) alone, not LF or CR LF, so it reads as one "
+               "line; convert the line ends first (e.g. tr '\\r' '\\n' < FILE > FILE.lf)",
+               Location{name(), 1, 0, {}});
+}
+
+void LineReader::set_line(Line& line, size_t len, size_t next) {
+  const char* base = buf_.data();
+  line.number = ++number_;
+  line.offset = offset_;
+  size_t bom = number_ == 1 ? bom_ : 0;
+  line.length = len;
+  line.oversize = len > max_line_;
+  line.raw = line.oversize ? std::string_view{} : std::string_view(base + begin_, len);
+  line.text = line.raw.substr(std::min(bom, line.raw.size()));
+  offset_ += next - begin_;
+  begin_ = next;
+}
+
+Status LineReader::to_sink(uint64_t number, std::string_view bytes, bool last) {
+  if (!sink_) return {};
+  return sink_(number, bytes, last);
 }
 
 Result<bool> LineReader::next(Line& line) {
@@ -49,59 +78,70 @@ Result<bool> LineReader::next(Line& line) {
     if (nl != nullptr) {
       size_t at = static_cast<const char*>(nl) - base;
       size_t len = at - begin_;
-      line.number = ++number_;
-      line.offset = offset_;
-      line.oversize = false;
-      if (len > 0 && base[at - 1] == '\r') --len;
-      line.length = len;
-      if (len > max_line_) {
-        line.oversize = true;
-        line.text = {};
-      } else {
-        line.text = std::string_view(base + begin_, len);
-      }
-      offset_ += at + 1 - begin_;
-      begin_ = at + 1;
+      if (len > 0 && base[at - 1] == '\r') --len;  // CR LF
+      size_t start = begin_;
+      set_line(line, len, at + 1);
+      if (line.oversize) SHEAF_TRY(to_sink(number_, std::string_view(base + start, len), true));
       return true;
     }
     if (eof_) {
       if (end_ == begin_) return false;
-      size_t len = end_ - begin_;
-      line.number = ++number_;
-      line.offset = offset_;
-      if (base[end_ - 1] == '\r') --len;
-      line.length = len;
-      line.oversize = len > max_line_;
-      line.text = line.oversize ? std::string_view{} : std::string_view(base + begin_, len);
-      offset_ += end_ - begin_;
-      begin_ = end_;
+      SHEAF_TRY(check_cr_only(end_));
+      // A CR at the very end without LF is part of the line (not a line end).
+      size_t start = begin_;
+      set_line(line, end_ - begin_, end_);
+      if (line.oversize) SHEAF_TRY(to_sink(number_, std::string_view(base + start, end_ - start), true));
       return true;
     }
     if (end_ - begin_ > max_line_ && !first_) {
-      // An oversize line: skip to its newline without keeping it.
+      SHEAF_TRY(check_cr_only(end_));
+      // An over-long line: stream it to the sink without keeping it. A CR at
+      // the end of a piece is held back until the next byte shows whether it
+      // belongs to a CR LF line end.
       uint64_t start = offset_;
-      uint64_t skipped = 0;
+      uint64_t length = 0;
+      bool cr_held = false;
+      auto emit = [&](size_t from, size_t to) -> Status {
+        if (cr_held && to > from) {
+          SHEAF_TRY(to_sink(number_ + 1, "\r", false));
+          ++length;
+          cr_held = false;
+        }
+        if (to > from && buf_[to - 1] == '\r') {
+          --to;
+          cr_held = true;
+        }
+        length += to - from;
+        return to > from ? to_sink(number_ + 1, std::string_view(buf_.data() + from, to - from), false) : Status{};
+      };
       for (;;) {
         const void* p = std::memchr(buf_.data() + begin_, '\n', end_ - begin_);
         if (p != nullptr) {
           size_t at = static_cast<const char*>(p) - buf_.data();
-          skipped += at - begin_;
+          SHEAF_TRY(emit(begin_, at));
+          cr_held = false;  // the CR of a CR LF line end
           offset_ += at + 1 - begin_;
           begin_ = at + 1;
           break;
         }
-        skipped += end_ - begin_;
+        SHEAF_TRY(emit(begin_, end_));
         offset_ += end_ - begin_;
         begin_ = end_;
         if (eof_) break;
         auto r = fill();
         if (!r.ok()) return r.error();
       }
+      if (cr_held) {  // a CR at the end of the stream is content
+        SHEAF_TRY(to_sink(number_ + 1, "\r", false));
+        ++length;
+      }
+      SHEAF_TRY(to_sink(number_ + 1, {}, true));
       line.number = ++number_;
       line.offset = start;
-      line.length = skipped;
+      line.length = length;
       line.oversize = true;
       line.text = {};
+      line.raw = {};
       return true;
     }
     auto r = fill();

@@ -16,6 +16,15 @@ Result<std::unique_ptr<PairReader>> PairReader::open(const CorpusSpec& spec, con
   return std::unique_ptr<PairReader>(new PairReader(spec, std::move(readers), paths));
 }
 
+void PairReader::set_oversize_sink(const OversizeSink& sink) {
+  for (size_t i = 0; i < readers_.size(); ++i) {
+    std::string side = readers_.size() == 2 ? side_name(static_cast<int>(i)) : "-";
+    readers_[i]->set_oversize_sink([sink, side](uint64_t line, std::string_view bytes, bool last) {
+      return sink(side, line, bytes, last);
+    });
+  }
+}
+
 std::vector<InputInfo> PairReader::inputs() const {
   std::vector<InputInfo> out;
   for (size_t i = 0; i < readers_.size(); ++i) {
@@ -54,27 +63,28 @@ namespace {
 // the buffer may move while it grows.
 struct Pending {
   size_t off, len, off2, len2;
+  size_t skip, skip2;  // bytes of a byte-order mark before the text
 };
 
 }  // namespace
 
-void PairReader::parse_tsv(PairBatch& b, Pair& p) {
-  const char* tab = static_cast<const char*>(std::memchr(p.raw.data(), '\t', p.raw.size()));
+void PairReader::parse_tsv(PairBatch& b, Pair& p, std::string_view line) {
+  const char* tab = static_cast<const char*>(std::memchr(line.data(), '\t', line.size()));
   if (tab == nullptr) {
     b.drop(p, kReadStage, "no-tab");
     return;
   }
-  size_t at = static_cast<size_t>(tab - p.raw.data());
-  if (std::memchr(tab + 1, '\t', p.raw.size() - at - 1) != nullptr) {
+  size_t at = static_cast<size_t>(tab - line.data());
+  if (std::memchr(tab + 1, '\t', line.size() - at - 1) != nullptr) {
     b.drop(p, kReadStage, "extra-tab");
     return;
   }
-  p.text[0] = p.raw.substr(0, at);
-  p.text[1] = p.raw.substr(at + 1);
+  p.text[0] = line.substr(0, at);
+  p.text[1] = line.substr(at + 1);
 }
 
-void PairReader::parse_jsonl(PairBatch& b, Pair& p) {
-  auto j = nlohmann::json::parse(p.raw.begin(), p.raw.end(), nullptr, false);
+void PairReader::parse_jsonl(PairBatch& b, Pair& p, std::string_view line) {
+  auto j = nlohmann::json::parse(line.begin(), line.end(), nullptr, false);
   if (j.is_discarded() || !j.is_object()) {
     b.drop(p, kReadStage, "bad-json");
     return;
@@ -113,13 +123,14 @@ Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) 
       }
     }
     if (!*more) break;
-    Pending pd{b.raw.size(), a.text.size(), b.raw_target.size(), 0};
-    b.raw.append(a.text);
+    Pending pd{b.raw.size(), a.raw.size(), b.raw_target.size(), 0, a.raw.size() - a.text.size(), 0};
+    b.raw.append(a.raw);
     std::string reason;
     if (a.oversize) reason = "line-too-long:" + std::to_string(a.length);
     if (aligned) {
-      pd.len2 = t.text.size();
-      b.raw_target.append(t.text);
+      pd.len2 = t.raw.size();
+      pd.skip2 = t.raw.size() - t.text.size();
+      b.raw_target.append(t.raw);
       if (t.oversize && reason.empty()) reason = "line-too-long:" + std::to_string(t.length);
     }
     pend.push_back(pd);
@@ -142,13 +153,16 @@ Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) 
       b.drop(p, kReadStage, "nul-byte");
       continue;
     }
+    // The raw views keep a byte-order mark (rejected.tsv is byte-exact); the
+    // text does not.
+    std::string_view body = p.raw.substr(pend[i].skip);
     switch (spec_.layout) {
-      case Layout::kTsv: parse_tsv(b, p); break;
+      case Layout::kTsv: parse_tsv(b, p, body); break;
       case Layout::kAligned:
-        p.text[0] = p.raw;
-        p.text[1] = p.raw_target;
+        p.text[0] = body;
+        p.text[1] = p.raw_target.substr(pend[i].skip2);
         break;
-      case Layout::kJsonl: parse_jsonl(b, p); break;
+      case Layout::kJsonl: parse_jsonl(b, p, body); break;
     }
   }
   b.input_bytes = consumed() - start;

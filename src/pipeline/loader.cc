@@ -2,7 +2,9 @@
 #include <toml++/toml.h>
 
 #include <algorithm>
+#include <charconv>
 #include <filesystem>
+#include <map>
 #include <set>
 #include <sstream>
 
@@ -14,11 +16,26 @@ namespace {
 
 struct Ctx {
   std::string file;
+  // Values that came from --set, with the "--set NAME.KEY" that gave them:
+  // an error in one points there, not at a line of the file.
+  std::map<const toml::node*, std::string> overridden;
   Location at(const toml::source_region& r) const {
     return Location{file, r.begin.line, r.begin.column, {}};
   }
-  Location at(const toml::node& n) const { return n.source().begin ? at(n.source()) : Location{file, 0, 0, {}}; }
+  Location at(const toml::node& n) const {
+    if (auto it = overridden.find(&n); it != overridden.end()) return Location{it->second, 0, 0, {}};
+    if (!n.source().path) return Location{"--set", 0, 0, {}};  // inside a value given with --set
+    return n.source().begin ? at(n.source()) : Location{file, 0, 0, {}};
+  }
 };
+
+// A number as people write it: integers without a decimal point or an
+// exponent (261, 4294967295), others in the shortest exact decimal form.
+std::string number_text(double v) {
+  char buf[400];
+  auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed);
+  return r.ec == std::errc() ? std::string(buf, r.ptr) : std::to_string(v);
+}
 
 Error pipeline_error(std::string msg, Location where) {
   return Error(ErrorKind::kPipeline, std::move(msg), std::move(where));
@@ -43,9 +60,9 @@ std::string range_text(const FieldSpec& f) {
   std::ostringstream s;
   bool lo = f.min != -std::numeric_limits<double>::infinity();
   bool hi = f.max != std::numeric_limits<double>::infinity();
-  if (lo && hi) s << "from " << f.min << " to " << f.max;
-  else if (lo) s << "at least " << f.min;
-  else if (hi) s << "at most " << f.max;
+  if (lo && hi) s << "from " << number_text(f.min) << " to " << number_text(f.max);
+  else if (lo) s << "at least " << number_text(f.min);
+  else if (hi) s << "at most " << number_text(f.max);
   return s.str();
 }
 
@@ -56,9 +73,10 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
   auto bad_type = [&]() {
     return pipeline_error(what + "." + f.key + " must be " + type_word(f.type), ctx.at(n));
   };
-  auto in_range = [&](double v) -> Status {
-    if (v < f.min || v > f.max)
-      return pipeline_error(what + "." + f.key + " must be " + range_text(f) + ", not " + std::to_string(v), ctx.at(n));
+  // Written so that NaN, which compares false with everything, is out of range.
+  auto in_range = [&](double v, const std::string& text) -> Status {
+    if (!(v >= f.min && v <= f.max))
+      return pipeline_error(what + "." + f.key + " must be " + range_text(f) + ", not " + text, ctx.at(n));
     return {};
   };
   switch (f.type) {
@@ -68,7 +86,7 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
     case FieldType::kInt: {
       if (!n.is_integer()) return bad_type();
       int64_t v = n.as_integer()->get();
-      if (auto st = in_range(static_cast<double>(v)); !st) return st.error();
+      if (auto st = in_range(static_cast<double>(v), std::to_string(v)); !st) return st.error();
       return Value(v);
     }
     case FieldType::kNumber: {
@@ -76,7 +94,7 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
       if (n.is_integer()) v = static_cast<double>(n.as_integer()->get());
       else if (n.is_floating_point()) v = n.as_floating_point()->get();
       else return bad_type();
-      if (auto st = in_range(v); !st) return st.error();
+      if (auto st = in_range(v, number_text(v)); !st) return st.error();
       return Value(v);
     }
     case FieldType::kFractionOrCount: {
@@ -89,7 +107,7 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
         double v = n.as_floating_point()->get();
         if (!(v >= 0.0 && v < 1.0))
           return pipeline_error(what + "." + f.key + " is a fraction and must be at least 0 and below 1, not " +
-                                    std::to_string(v) + " (write a whole number for a count of pairs)",
+                                    number_text(v) + " (write a whole number for a count of pairs)",
                                 ctx.at(n));
         return Value(v);
       }
@@ -127,7 +145,7 @@ Result<Value> check_value(const toml::node& n, const FieldSpec& f, const Ctx& ct
       for (const auto& e : *a) {
         if (!e.is_integer()) return pipeline_error(what + "." + f.key + " must hold only integers", ctx.at(e));
         int64_t v = e.as_integer()->get();
-        if (v < f.min || v > f.max)
+        if (!(static_cast<double>(v) >= f.min && static_cast<double>(v) <= f.max))
           return pipeline_error(what + "." + f.key + " values must be " + range_text(f) + ", not " + std::to_string(v),
                                 ctx.at(e));
         out.push_back(v);
@@ -182,14 +200,15 @@ Result<Params> check_table(const toml::table& t, const FieldList& fields, const 
   return out;
 }
 
-Status apply_override(toml::table& root, const Override& o) {
+Status apply_override(toml::table& root, const Override& o, Ctx& ctx) {
+  std::string label = "--set " + o.target + "." + o.key;
   toml::table parsed;
   try {
     parsed = toml::parse("v = " + o.toml_value);
   } catch (const toml::parse_error& e) {
-    return pipeline_error("--set " + o.target + "." + o.key + ": \"" + o.toml_value +
+    return pipeline_error("\"" + o.toml_value +
                               "\" is not a TOML value (quote strings: " + o.key + "='\"text\"')",
-                          Location{"--set", 0, 0, {}});
+                          Location{label, 0, 0, {}});
   }
   toml::node* value = parsed.get("v");
   if (o.target == "corpus" || o.target == "output") {
@@ -198,7 +217,8 @@ Status apply_override(toml::table& root, const Override& o) {
       root.insert(o.target, toml::table{});
       sec = root[o.target].as_table();
     }
-    sec->insert_or_assign(o.key, *value);
+    auto placed = sec->insert_or_assign(o.key, *value);
+    ctx.overridden[&placed.first->second] = label;
     return {};
   }
   toml::array* stages = root["stage"].as_array();
@@ -212,7 +232,8 @@ Status apply_override(toml::table& root, const Override& o) {
                                                                           : "";
       names.push_back(name);
       if (name == o.target) {
-        t->insert_or_assign(o.key, *value);
+        auto placed = t->insert_or_assign(o.key, *value);
+        ctx.overridden[&placed.first->second] = label;
         return {};
       }
     }
@@ -220,14 +241,14 @@ Status apply_override(toml::table& root, const Override& o) {
   names.push_back("corpus");
   names.push_back("output");
   std::string hint = closest_name(o.target, names);
-  return pipeline_error("--set names \"" + o.target + "\", which is not a stage of this pipeline" +
+  return pipeline_error("\"" + o.target + "\" is not a stage of this pipeline, nor corpus or output" +
                             (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
-                        Location{"--set", 0, 0, {}});
+                        Location{label, 0, 0, {}});
 }
 
 Result<Pipeline> build(toml::table& root, const std::string& name, const std::vector<Override>& overrides) {
   Ctx ctx{name};
-  for (const auto& o : overrides) SHEAF_TRY(apply_override(root, o));
+  for (const auto& o : overrides) SHEAF_TRY(apply_override(root, o, ctx));
 
   Pipeline p;
   p.path = name;

@@ -1,6 +1,7 @@
 // Writing a Pipeline back as TOML: `sheaf validate`'s resolved output and
 // `sheaf init`'s commented template.
 #include <charconv>
+#include <filesystem>
 #include <sstream>
 
 #include "pipeline/pipeline.h"
@@ -87,7 +88,10 @@ void render_fields(std::ostringstream& out, const Params& params, const FieldLis
         out << "# " << f.help << "\n" << line << "\n";
         continue;
       }
-      size_t pad = line.size() < 34 ? 34 - line.size() : 1;
+      // Columns count code points: the special tokens' spellings are not ASCII.
+      size_t width = 0;
+      for (char c : line) width += (static_cast<unsigned char>(c) & 0xC0) != 0x80;
+      size_t pad = width < 34 ? 34 - width : 1;
       line += std::string(pad, ' ') + "# " + f.help;
     }
     out << line << "\n";
@@ -133,7 +137,15 @@ std::string init_template(const InitOptions& o) {
   bool jsonl = o.inputs.size() == 1 && (o.inputs[0].ends_with(".jsonl") || o.inputs[0].ends_with(".jsonl.gz") ||
                                         o.inputs[0].ends_with(".jsonl.zst"));
   p.corpus_params.set("layout", std::string(o.inputs.size() == 2 ? "aligned" : jsonl ? "jsonl" : "tsv"), {}, false);
-  p.corpus_params.set("files", o.inputs, {}, false);
+  // Absolute paths: the file works wherever it is saved (relative paths in a
+  // pipeline file are read relative to the file, not to where sheaf runs).
+  std::vector<std::string> files;
+  for (const auto& in : o.inputs) {
+    std::error_code ec;
+    auto abs = std::filesystem::absolute(in, ec);
+    files.push_back(in == "-" || ec ? in : abs.lexically_normal().string());
+  }
+  p.corpus_params.set("files", files, {}, false);
   p.corpus_params.set("source_lang", o.source_lang, {}, false);
   p.corpus_params.set("target_lang", o.target_lang, {}, false);
   p.output_params.set("dir", o.out_dir, {}, false);

@@ -1,7 +1,12 @@
 #include "pipeline/run_dir.h"
 
+#include <fcntl.h>
+#include <sys/file.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstring>
 #include <filesystem>
-#include <fstream>
 #include <set>
 
 #include "io/output_file.h"
@@ -14,6 +19,12 @@ namespace sheaf {
 namespace {
 
 constexpr const char* kMarker = ".sheaf-run";
+constexpr const char* kLock = ".sheaf-lock";
+constexpr std::string_view kMarkerHeader = "sheaf run directory: files this run creates follow\n";
+
+Error fs_error(ErrorKind kind, const std::string& what, const std::error_code& ec, const std::string& path) {
+  return Error(kind, what + ": " + ec.message(), Location{path, 0, 0, {}});
+}
 
 // True when `rel` names a path inside `dir` that does not pass through a
 // symbolic link.
@@ -30,63 +41,181 @@ bool safe_inside(const fs::path& dir, const std::string& rel) {
   return true;
 }
 
+// Reads a small file without following a symbolic link; nullopt-like false
+// when it cannot.
+bool read_small(const fs::path& path, std::string& out) {
+  int fd = ::open(path.c_str(), O_RDONLY | O_NOFOLLOW | O_CLOEXEC);
+  if (fd < 0) return false;
+  char buf[65536];
+  for (;;) {
+    ssize_t r = ::read(fd, buf, sizeof buf);
+    if (r < 0 && errno == EINTR) continue;
+    if (r <= 0) break;
+    out.append(buf, static_cast<size_t>(r));
+    if (out.size() > (64u << 20)) break;
+  }
+  ::close(fd);
+  return true;
+}
+
+Status write_marker(const fs::path& path, std::string_view text, bool append, const std::string& dir) {
+  int fd = ::open(path.c_str(), O_WRONLY | O_CREAT | O_NOFOLLOW | O_CLOEXEC | (append ? O_APPEND : O_TRUNC), 0644);
+  bool ok = fd >= 0;
+  int err = errno;
+  if (ok) {
+    ok = ::write(fd, text.data(), text.size()) == static_cast<ssize_t>(text.size());
+    err = errno;
+    ::close(fd);
+  }
+  if (!ok)
+    return Error(ErrorKind::kIo, std::string("cannot write in the output directory: ") + std::strerror(err),
+                 Location{dir, 0, 0, {}});
+  return {};
+}
+
+// Takes the directory's lock, or says which process holds it.
+Result<std::shared_ptr<const int>> lock_dir(const fs::path& d, const std::string& dir) {
+  fs::path path = d / kLock;
+  int fd = ::open(path.c_str(), O_RDWR | O_CREAT | O_NOFOLLOW | O_CLOEXEC, 0644);
+  if (fd < 0)
+    return Error(ErrorKind::kIo,
+                 std::string("cannot use the output directory: ") + std::strerror(errno) +
+                     "; check its permissions or choose another --out",
+                 Location{dir, 0, 0, {}});
+  if (::flock(fd, LOCK_EX | LOCK_NB) != 0) {
+    int err = errno;
+    std::string holder;
+    char buf[32] = {};
+    ssize_t r = ::pread(fd, buf, sizeof buf - 1, 0);
+    if (r > 0) holder = std::string(buf, static_cast<size_t>(r));
+    while (!holder.empty() && (holder.back() == '\n' || holder.back() == ' ')) holder.pop_back();
+    ::close(fd);
+    if (err == EWOULDBLOCK)
+      return Error(ErrorKind::kIo,
+                   "another sheaf run (process " + (holder.empty() ? std::string("unknown") : holder) +
+                       ") is writing to this directory; wait for it to end or choose another --out",
+                   Location{dir, 0, 0, {}});
+    return Error(ErrorKind::kIo, std::string("cannot lock the output directory: ") + std::strerror(err),
+                 Location{dir, 0, 0, {}});
+  }
+  std::string pid = std::to_string(::getpid()) + "\n";
+  if (::ftruncate(fd, 0) != 0 || ::pwrite(fd, pid.data(), pid.size(), 0) != static_cast<ssize_t>(pid.size())) {
+    int err = errno;
+    ::close(fd);
+    return Error(ErrorKind::kIo, std::string("cannot write in the output directory: ") + std::strerror(err),
+                 Location{dir, 0, 0, {}});
+  }
+  // Emptied when the run lets go, so a finished run leaves the same bytes
+  // whatever its process id (after kill -9 the id stays, harmlessly).
+  return std::shared_ptr<const int>(new int(fd), [](const int* p) {
+    if (::ftruncate(*p, 0) != 0) {
+      // Nothing to do: the lock is released by close() all the same.
+    }
+    ::close(*p);
+    delete p;
+  });
+}
+
 }  // namespace
 
 Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
   std::error_code ec;
   fs::path d(dir);
-  if (fs::exists(d, ec) && !fs::is_directory(d, ec))
+  auto st = fs::symlink_status(d, ec);
+  if (ec && ec != std::errc::no_such_file_or_directory)
+    return fs_error(ErrorKind::kIo, "cannot use the output directory", ec, dir);
+  if (fs::exists(st) && !fs::is_directory(fs::status(d, ec)))
     return Error(ErrorKind::kUsage, "the output path exists and is not a directory; choose another --out",
                  Location{dir, 0, 0, {}});
-  if (!fs::exists(d, ec)) {
+  if (!fs::exists(st)) {
     fs::create_directories(d, ec);
-    if (ec) return Error(ErrorKind::kIo, "cannot create the output directory: " + ec.message(), Location{dir, 0, 0, {}});
+    if (ec) return fs_error(ErrorKind::kIo, "cannot create the output directory", ec, dir);
   }
-  bool empty = fs::is_empty(d, ec);
-  bool previous = fs::exists(d / "manifest.json") || fs::exists(d / kMarker);
-  if (!empty && !previous && !force)
+  auto lock = lock_dir(d, dir);
+  if (!lock.ok()) return lock.error();
+
+  // What is there (the lock file aside)?
+  bool empty = true;
+  fs::directory_iterator it(d, ec);
+  if (ec) return fs_error(ErrorKind::kIo, "cannot read the output directory", ec, dir);
+  for (; it != fs::directory_iterator(); it.increment(ec)) {
+    if (it->path().filename() != kLock) empty = false;
+  }
+  if (ec) return fs_error(ErrorKind::kIo, "cannot read the output directory", ec, dir);
+
+  std::set<std::string> listed;
+  bool has_manifest = fs::exists(fs::symlink_status(d / "manifest.json", ec));
+  bool sheaf_manifest = false;
+  if (has_manifest) {
+    auto outs = read_manifest_outputs((d / "manifest.json").string());
+    if (outs.ok()) {
+      sheaf_manifest = true;
+      for (const auto& o : *outs) listed.insert(o.path);
+      listed.insert("manifest.json");
+    }
+  }
+  std::string marker_text;
+  bool marker = read_small(d / kMarker, marker_text) && marker_text.starts_with(kMarkerHeader);
+  if (marker) {
+    size_t pos = kMarkerHeader.size();
+    while (pos < marker_text.size()) {
+      size_t nl = marker_text.find('\n', pos);
+      if (nl == std::string::npos) break;  // a line cut short by kill -9
+      if (nl > pos) listed.insert(marker_text.substr(pos, nl - pos));
+      pos = nl + 1;
+    }
+  }
+  if (has_manifest && !sheaf_manifest)
+    return Error(ErrorKind::kUsage,
+                 std::string("the output directory holds a manifest.json that is not a sheaf run record; it is not a "
+                             "sheaf run") +
+                     (force ? ", and sheaf would overwrite that file: move it away or choose another --out"
+                            : ": choose an empty directory or another --out"),
+                 Location{dir, 0, 0, {}});
+  if (!empty && !sheaf_manifest && !marker && !force)
     return Error(ErrorKind::kUsage,
                  "the output directory holds files that are not a sheaf run; choose an empty directory, or pass "
                  "--force to write into it (only files a previous sheaf run listed are ever removed)",
                  Location{dir, 0, 0, {}});
-  std::set<std::string> listed;
-  if (fs::exists(d / "manifest.json")) {
-    auto outs = read_manifest_outputs((d / "manifest.json").string());
-    if (outs.ok())
-      for (const auto& o : *outs) listed.insert(o.path);
-    listed.insert("manifest.json");
-  }
-  if (fs::exists(d / kMarker)) {
-    std::ifstream in(d / kMarker);
-    std::string line;
-    std::getline(in, line);  // header
-    while (std::getline(in, line))
-      if (!line.empty()) listed.insert(line);
-  }
   for (const auto& rel : listed) {
     if (!safe_inside(d, rel)) continue;
     for (const std::string& name : {rel, rel + ".partial"}) {
       fs::path p = d / name;
-      if (fs::is_symlink(p, ec) || fs::is_regular_file(p, ec)) fs::remove(p, ec);
+      auto s = fs::symlink_status(p, ec);
+      if (fs::is_symlink(s) || fs::is_regular_file(s)) {
+        fs::remove(p, ec);
+        if (ec) return fs_error(ErrorKind::kIo, "cannot remove a file of the previous run", ec, p.string());
+      }
     }
   }
   RunDir r;
   r.dir_ = dir;
-  std::ofstream marker(d / kMarker, std::ios::trunc);
-  marker << "sheaf run directory: files this run creates follow\n";
-  if (!marker) return Error(ErrorKind::kIo, "cannot write in the output directory", Location{dir, 0, 0, {}});
+  r.lock_ = std::move(lock.value());
+  SHEAF_TRY(write_marker(d / kMarker, kMarkerHeader, false, dir));
   return r;
 }
 
 Status RunDir::will_create(const std::string& rel) const {
-  std::ofstream marker(fs::path(dir_) / kMarker, std::ios::app);
-  marker << rel << "\n";
-  marker.flush();
-  if (!marker) return Error(ErrorKind::kIo, "cannot write in the output directory", Location{dir_, 0, 0, {}});
-  std::error_code ec;
-  fs::path parent = (fs::path(dir_) / rel).parent_path();
-  fs::create_directories(parent, ec);
-  return {};
+  fs::path d(dir_);
+  // Folders of the new file: never a symbolic link (a link left in a
+  // previous run's directory would send the file elsewhere).
+  fs::path cur = d;
+  fs::path parent = fs::path(rel).parent_path();
+  for (const auto& part : parent) {
+    cur /= part;
+    std::error_code ec;
+    auto s = fs::symlink_status(cur, ec);
+    if (fs::is_symlink(s))
+      return Error(ErrorKind::kIo,
+                   "this is a symbolic link; sheaf never writes through links in its output directory: remove the "
+                   "link or choose another --out",
+                   Location{cur.string(), 0, 0, {}});
+    if (!fs::exists(s)) {
+      fs::create_directory(cur, ec);
+      if (ec) return fs_error(ErrorKind::kIo, "cannot create a folder of the output", ec, cur.string());
+    }
+  }
+  return write_marker(d / kMarker, rel + "\n", true, dir_);
 }
 
 Status write_output(const RunDir& dir, RunRecord& rec, OutputEntry entry, std::string_view bytes) {

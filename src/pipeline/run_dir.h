@@ -1,19 +1,29 @@
 // RunDir: the output directory of a run.
 //
-// A directory is "a previous sheaf run" when it holds manifest.json written
-// by sheaf or the marker file .sheaf-run (written first by every run, and
-// appended with every file the run creates, so even a run killed with
-// kill -9 can be cleaned up). prepare():
+// A directory is "a previous sheaf run" when it holds a manifest.json that is
+// a sheaf run record (format "sheaf-run-record", checked by its reader) or
+// the marker file .sheaf-run (written first by every run, and appended with
+// every file the run creates, so even a run killed with kill -9 can be
+// cleaned up). prepare():
+//   - takes an exclusive lock (flock) on .sheaf-lock, which holds the
+//     process id of the run that holds it, so two runs can never write into
+//     one directory at once; the lock is released when the last copy of the
+//     RunDir goes (or the process ends);
 //   - creates a missing directory;
 //   - accepts an empty one;
 //   - replaces a previous run: removes exactly the files its manifest and
 //     marker list (relative paths inside the directory, never through a
-//     symbolic link that leads out of it), and leftover *.partial files;
+//     symbolic link), and leftover *.partial files;
 //   - refuses anything else unless `force`, and then still removes only
-//     the files a previous run listed.
+//     the files a previous run listed; a manifest.json that is not a sheaf
+//     record is never overwritten, even with `force`.
+// No file is ever created through a symbolic link: will_create() refuses a
+// path whose folders are links, and files are opened with O_NOFOLLOW.
+// Every file-system failure is an error value naming the path.
 #pragma once
 
 #include <cstdio>
+#include <memory>
 #include <string>
 #include <string_view>
 
@@ -27,11 +37,13 @@ class RunDir {
 
   const std::string& path() const { return dir_; }
   std::string file(const std::string& rel) const { return dir_ + "/" + rel; }
-  // Records that the run is about to create `rel` (appends to the marker).
+  // Records that the run is about to create `rel` (appends to the marker)
+  // and creates its folders; an error if one of them is a symbolic link.
   Status will_create(const std::string& rel) const;
 
  private:
   std::string dir_;
+  std::shared_ptr<const int> lock_;  // the locked file's descriptor
 };
 
 struct OutputEntry;

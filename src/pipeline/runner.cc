@@ -144,7 +144,8 @@ class Pass1Writer {
     if (split_ && split_->deferred()) {
       SHEAF_TRY(spool_.commit());
       SHEAF_TRY(route_spool());
-      std::filesystem::remove(spool_.path());
+      std::error_code ec;
+      std::filesystem::remove(spool_.path(), ec);
     }
     for (auto& f : files_) SHEAF_TRY(f->commit());
     SHEAF_TRY(rejected_.commit());
@@ -246,7 +247,10 @@ class Pass1Writer {
       len.chars[side].add(p.chars[static_cast<size_t>(side)]);
       len.words[side].add(p.words[static_cast<size_t>(side)]);
     }
-    if (p.chars[1] > 0) len.ratio.add(uint64_t{p.chars[0]} * 100 / p.chars[1]);
+    if (p.chars[1] > 0) {
+      len.ratio.add(uint64_t{p.chars[0]} * 100 / p.chars[1]);
+      len.ratio_sum += static_cast<double>(p.chars[0]) / static_cast<double>(p.chars[1]);
+    }
     f.write(s);
     f.write("\t");
     f.write(t);
@@ -305,6 +309,32 @@ class Pass1Writer {
   std::vector<std::unordered_set<uint64_t>> keys_;
 };
 
+// Streams the bytes of over-long lines into rejected-long.tsv: per line
+// "LINE<TAB>SIDE<TAB>" then its bytes then LF (a line holds no LF).
+void rd_sink_into(PairReader& rd, const RunDir& dir, OutputFile& longs, bool& in_line) {
+  rd.set_oversize_sink([&dir, &longs, &in_line](std::string_view side, uint64_t line, std::string_view bytes,
+                                                bool last) -> Status {
+    if (longs.path().empty()) {
+      SHEAF_TRY(dir.will_create("rejected-long.tsv"));
+      SHEAF_TRY(longs.open(dir.file("rejected-long.tsv")));
+    }
+    if (!in_line) {
+      longs.write(std::to_string(line));
+      longs.write("\t");
+      longs.write(side);
+      longs.write("\t");
+      in_line = true;
+    }
+    longs.write(bytes);
+    if (last) {
+      longs.write("\n");
+      longs.add_record();
+      in_line = false;
+    }
+    return longs.status();
+  });
+}
+
 }  // namespace
 
 Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o) {
@@ -312,8 +342,9 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   if (!o.inputs.empty()) {
     size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
     if (o.inputs.size() != want)
-      return Error(ErrorKind::kUsage,
-                   "--input must be given " + std::to_string(want) + " time(s) for this corpus layout");
+      return Error(ErrorKind::kUsage, std::string(want == 2 ? "--input names two line-aligned files (give it twice)"
+                                                            : "--input names one file") +
+                                          " for layout \"" + p.corpus_params.text("layout") + "\"");
     p.corpus.files = o.inputs;
   }
   int last = static_cast<int>(p.stages.size()) - 1;
@@ -327,6 +358,9 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                                           (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"));
     }
   }
+
+  // The same checks as validate, before anything is read or written.
+  SHEAF_TRY(check_stages(p));
 
   RunRecord rec;
   std::string resolved = render_pipeline(p);
@@ -360,7 +394,17 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   std::vector<std::string> paths;
   for (const auto& f : p.corpus.files) paths.push_back(o.inputs.empty() ? p.resolve(f) : f);
   auto reader = PairReader::open(p.corpus, paths);
-  if (!reader.ok()) return reader.error();
+  if (!reader.ok()) {
+    // Say where a relative path was looked for.
+    const Error& e = reader.error();
+    for (size_t i = 0; i < paths.size() && o.inputs.empty(); ++i)
+      if (e.where().file == paths[i] && paths[i] != p.corpus.files[i])
+        return Error(e.kind(),
+                     e.message() + " (\"" + p.corpus.files[i] + "\" is read relative to the pipeline file's folder, " +
+                         p.base_dir + ")",
+                     e.where());
+    return e;
+  }
 
   std::string out_dir = !o.out_dir.empty() ? o.out_dir : p.resolve(p.output_dir);
   auto dir = RunDir::prepare(out_dir, o.force);
@@ -371,6 +415,12 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     rec.stages.push_back(
         {p.stages[static_cast<size_t>(i)].name, p.stages[static_cast<size_t>(i)].kind->kind, 0, 0, {}, {}});
   rec.stages.push_back({"output", "output", 0, 0, {}, {}});
+
+  // Over-long lines are not held in memory: the reader streams their bytes
+  // into rejected-long.tsv (created at the first one) as it skips them.
+  OutputFile longs;
+  bool in_long_line = false;
+  rd_sink_into(*reader.value(), *dir, longs, in_long_line);
 
   std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
   Pass1Writer writer(*dir, rec, split_names, split, p.corpus.layout == Layout::kAligned);
@@ -469,8 +519,14 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   if (failed.ok()) {
     failed = writer.finish(threads);
   }
+  if (failed.ok() && !longs.path().empty()) {
+    failed = longs.commit();
+    if (failed.ok())
+      rec.outputs.push_back({"rejected-long.tsv", "rejected", "", "", longs.records(), longs.size(), longs.checksum()});
+  }
   if (!failed.ok()) {
     writer.discard();
+    longs.discard();
     return failed.error();
   }
   rec.inputs = rd.inputs();

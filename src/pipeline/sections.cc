@@ -9,13 +9,13 @@ const FieldList& corpus_fields() {
        "\"tsv\": one file of source<TAB>target lines; \"aligned\": two line-aligned files; \"jsonl\": JSON Lines",
        0, 0, {"tsv", "aligned", "jsonl"}},
       {"files", FieldType::kStringList, std::vector<std::string>{},
-       "input file(s), plain, gzip or zstd (detected from content); \"-\" reads standard input"},
+       "input file(s), plain, gzip, zstd, bzip2 or xz (detected from content); \"-\" reads standard input"},
       {"source_lang", FieldType::kString, std::string(""), "ISO 639-1 code of the source side (e.g. \"en\")"},
       {"target_lang", FieldType::kString, std::string(""), "ISO 639-1 code of the target side (e.g. \"es\")"},
       {"source_field", FieldType::kString, std::string("source"), "jsonl: name of the field holding the source text"},
       {"target_field", FieldType::kString, std::string("target"), "jsonl: name of the field holding the target text"},
       {"max_line_bytes", FieldType::kInt, int64_t{1 << 20},
-       "a longer input line is dropped (reason line-too-long) without being held in memory", 16, 1LL << 30},
+       "a longer input line is dropped (reason line-too-long), its bytes streamed to rejected-long.tsv, never held in memory", 16, 1LL << 30},
   };
   return f;
 }

@@ -2,6 +2,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include <charconv>
 #include <fstream>
 #include <sstream>
 
@@ -62,23 +63,53 @@ std::string run_record_json(const RunRecord& r) {
 }
 
 Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path) {
-  std::ifstream in(path);
+  std::ifstream in(path, std::ios::binary);
   if (!in) return Error(ErrorKind::kIo, "cannot read the run record", Location{path, 0, 0, {}});
-  auto j = nlohmann::json::parse(in, nullptr, false);
-  if (j.is_discarded() || !j.is_object() || j.value("tool", "") != "sheaf" || !j.contains("outputs") ||
-      !j["outputs"].is_array())
-    return Error(ErrorKind::kInput, "not a sheaf run record", Location{path, 0, 0, {}});
+  std::ostringstream text;
+  text << in.rdbuf();
+  // Checked throughout: a damaged or foreign file is an error value, never
+  // an exception or a guess.
+  auto j = nlohmann::json::parse(text.str(), nullptr, false);
+  auto bad = [&](const std::string& what) {
+    return Error(ErrorKind::kInput, "not a sheaf run record (" + what + ")", Location{path, 0, 0, {}});
+  };
+  if (j.is_discarded()) return bad("not JSON");
+  if (!j.is_object()) return bad("not a JSON object");
+  auto is = [&](const nlohmann::json& o, const char* key, const char* want) {
+    auto it = o.find(key);
+    return it != o.end() && it->is_string() && it->get_ref<const std::string&>() == want;
+  };
+  if (!is(j, "format", "sheaf-run-record") || !is(j, "tool", "sheaf")) return bad("no \"format\": \"sheaf-run-record\"");
+  auto outs = j.find("outputs");
+  if (outs == j.end() || !outs->is_array()) return bad("no \"outputs\" list");
   std::vector<OutputEntry> out;
-  for (const auto& e : j["outputs"]) {
-    if (!e.is_object() || !e.contains("path") || !e["path"].is_string()) continue;
+  for (const auto& e : *outs) {
+    if (!e.is_object()) return bad("an output is not an object");
     OutputEntry o;
-    o.path = e["path"].get<std::string>();
-    o.kind = e.value("kind", "");
-    o.split = e.value("split", "");
-    o.side = e.value("side", "");
-    o.records = e.value("records", uint64_t{0});
-    o.size = e.value("size", uint64_t{0});
-    o.checksum = std::stoull(e.value("xxh3_64", std::string("0")), nullptr, 16);
+    auto text_field = [&](const char* key, std::string& to, bool required) {
+      auto it = e.find(key);
+      if (it == e.end()) return !required;
+      if (!it->is_string()) return false;
+      to = it->get<std::string>();
+      return true;
+    };
+    auto count_field = [&](const char* key, uint64_t& to) {
+      auto it = e.find(key);
+      if (it == e.end()) return true;
+      if (!it->is_number_unsigned()) return false;
+      to = it->get<uint64_t>();
+      return true;
+    };
+    std::string sum;
+    if (!text_field("path", o.path, true) || !text_field("kind", o.kind, false) ||
+        !text_field("split", o.split, false) || !text_field("side", o.side, false) ||
+        !text_field("xxh3_64", sum, false) || !count_field("records", o.records) || !count_field("size", o.size))
+      return bad("an output entry has a field of the wrong type");
+    if (!sum.empty()) {
+      auto r = std::from_chars(sum.data(), sum.data() + sum.size(), o.checksum, 16);
+      if (sum.size() != 16 || r.ec != std::errc() || r.ptr != sum.data() + sum.size())
+        return bad("an output's xxh3_64 is not 16 hexadecimal digits");
+    }
     out.push_back(std::move(o));
   }
   return out;

@@ -48,7 +48,8 @@ struct Overlap {
 // (for summary.json; not part of manifest.json).
 struct SplitLengths {
   Histogram chars[2], words[2];
-  Histogram ratio;  // 100 x source chars / target chars
+  Histogram ratio;  // 100 x source chars / target chars, floored (bins, percentiles)
+  double ratio_sum = 0;  // the exact ratios' sum (the mean), added in output order
 };
 
 struct RunRecord {
@@ -69,7 +70,10 @@ struct RunRecord {
 };
 
 std::string run_record_json(const RunRecord& r);
-// Reads the "outputs" list of a manifest, for --force and `sheaf stats`.
+// Reads the "outputs" list of a manifest, for --force, `sheaf inspect` and
+// `sheaf stats`: a checked reader, which returns an error (never throws) for
+// a file that is not a sheaf run record (no "format": "sheaf-run-record") or
+// has a field of the wrong type.
 Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path);
 
 }  // namespace sheaf

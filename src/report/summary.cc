@@ -178,7 +178,11 @@ Status write_summary(const StepInput& in, int threads) {
       if (per_side[s] && name != "train" && st.side[s].letters > 0)
         coverage[name][side] = static_cast<double>(st.side[s].covered) / static_cast<double>(st.side[s].letters);
     }
+    // The histogram holds each ratio floored to 0.01 (for its bins and
+    // percentiles); the mean is the exact mean of the ratios.
     sj["length_ratio"] = hist_json(lengths.ratio, kRatioBin, 100.0);
+    if (lengths.ratio.count() > 0)
+      sj["length_ratio"]["mean"] = lengths.ratio_sum / static_cast<double>(lengths.ratio.count());
     splits[name] = sj;
   }
   j["splits"] = splits;
@@ -199,9 +203,23 @@ Status write_summary(const StepInput& in, int threads) {
   return write_output(*in.dir, rec, {"report.html", "report", "", "", 1}, render_report(text));
 }
 
+static Result<std::string> summary_text_unchecked(const std::string& summary_json);
+
 Result<std::string> summary_text(const std::string& summary_json) {
+  // A checked reader: every access below is typed, and nlohmann-json reports
+  // a missing key or a wrong type by an exception, which becomes an error
+  // value here (a damaged summary.json never aborts the tool).
+  try {
+    return summary_text_unchecked(summary_json);
+  } catch (const nlohmann::json::exception& e) {
+    return Error(ErrorKind::kInput, std::string("summary.json is damaged (") + e.what() +
+                                        "); run the pipeline again to write it anew");
+  }
+}
+
+static Result<std::string> summary_text_unchecked(const std::string& summary_json) {
   auto j = ordered_json::parse(summary_json, nullptr, false);
-  if (j.is_discarded() || j.value("format", "") != "sheaf-summary")
+  if (j.is_discarded() || !j.is_object() || !j.contains("format") || j["format"] != "sheaf-summary")
     return Error(ErrorKind::kInput, "not a sheaf summary.json");
   std::ostringstream o;
   char buf[256];
@@ -251,8 +269,12 @@ Result<std::string> summary_text(const std::string& summary_json) {
       for (auto& [side, rows] : v["sweep"].items()) {
         o << "    sweep on " << j["vocabulary"]["sweep_split"].get<std::string>() << " (" << side << "):";
         for (const auto& r : rows) {
-          std::snprintf(buf, sizeof buf, "  %llu: %.1f tok, p99 %llu", static_cast<unsigned long long>(r["size"].get<uint64_t>()),
-                        r["mean_tokens"].get<double>(), static_cast<unsigned long long>(r["p99_tokens"].get<uint64_t>()));
+          // A size the learner never reached is shown with the size it had.
+          uint64_t size = r["size"].get<uint64_t>(), reached = r.value("effective_size", size);
+          std::string shown = std::to_string(size);
+          if (reached < size) shown += " (reached " + std::to_string(reached) + ")";
+          std::snprintf(buf, sizeof buf, "  %s: %.1f tok, p99 %llu", shown.c_str(), r["mean_tokens"].get<double>(),
+                        static_cast<unsigned long long>(r["p99_tokens"].get<uint64_t>()));
           o << buf;
         }
         o << "\n";

@@ -12,11 +12,39 @@ namespace fs = std::filesystem;
 
 namespace sheaf {
 
+namespace {
+
+std::string count_of(uint64_t n, const char* one, const char* many) {
+  return std::to_string(n) + " " + (n == 1 ? one : many);
+}
+
+// With the shard's vocabularies at hand (beside it in its run directory),
+// every id must lie within them.
+Status ids_within_vocabularies(const ShardReader& r, const std::string& path, bool& checked) {
+  checked = false;
+  auto vs = vocabularies_for_shard(path, {});
+  if (!vs.ok()) return {};  // not at hand: the ids cannot be checked
+  checked = true;
+  for (int s = 0; s < 2; ++s)
+    if (r.max_id(s) >= (*vs)[static_cast<size_t>(s)].size())
+      return Error(ErrorKind::kInput,
+                   std::string("damaged shard: the ") + (s ? "target" : "source") + " side holds id " +
+                       std::to_string(r.max_id(s)) + ", beyond its vocabulary of " +
+                       std::to_string((*vs)[static_cast<size_t>(s)].size()),
+                   Location{path, 0, 0, {}});
+  return {};
+}
+
+}  // namespace
+
 Status inspect_shard(const std::string& path, std::ostream& out) {
   auto r = ShardReader::open(path);
-  if (!r.ok()) {
-    out << path << ": DAMAGED: " << r.error().message() << "\n";
-    return r.error();
+  bool vocab_checked = false;
+  Status ids_ok = r.ok() ? ids_within_vocabularies(*r, path, vocab_checked) : Status{};
+  if (!r.ok() || !ids_ok.ok()) {
+    const Error& e = r.ok() ? ids_ok.error() : r.error();
+    out << path << ": DAMAGED: " << e.message() << "\n";
+    return e;
   }
   const ShardHeader& h = r->header();
   out << path << ": ok\n"
@@ -28,13 +56,16 @@ Status inspect_shard(const std::string& path, std::ostream& out) {
       << "  bos / eos        " << ((h.flags & kHasBos) ? "yes" : "no") << " / " << ((h.flags & kHasEos) ? "yes" : "no") << "\n"
       << "  source ids       " << h.source_count << " (max id " << r->max_id(0) << "), vocabulary " << hex64(h.source_vocab) << "\n"
       << "  target ids       " << h.target_count << " (max id " << r->max_id(1) << "), vocabulary " << hex64(h.target_vocab) << "\n"
-      << "  file size        " << h.file_size << " bytes, checksums verified\n";
+      << "  file size        " << h.file_size << " bytes, checksums verified\n"
+      << "  ids              " << (vocab_checked ? "all within their vocabularies" : "not checked (no vocabulary beside the shard)")
+      << "\n";
   return {};
 }
 
 Status inspect_run(const std::string& dir, std::ostream& out) {
   std::string manifest = (fs::path(dir) / "manifest.json").string();
-  if (!fs::exists(manifest))
+  std::error_code ec;
+  if (!fs::exists(manifest, ec))
     return Error(ErrorKind::kInput, "no manifest.json: not a completed sheaf run (an interrupted run leaves none)",
                  Location{dir, 0, 0, {}});
   auto outs = read_manifest_outputs(manifest);
@@ -50,9 +81,12 @@ Status inspect_run(const std::string& dir, std::ostream& out) {
     else if (*sum != o.checksum) verdict = "WRONG CHECKSUM";
     if (verdict == "ok" && o.kind == "shard") {
       auto r = ShardReader::open(p);
+      bool checked = false;
+      Status ids_ok = r.ok() ? ids_within_vocabularies(*r, p, checked) : Status{};
       if (!r.ok()) verdict = "DAMAGED: " + r.error().message();
+      else if (!ids_ok.ok()) verdict = "DAMAGED: " + ids_ok.error().message();
     }
-    out << (verdict == "ok" ? "ok       " : "PROBLEM  ") << o.path << "  (" << o.kind << ", " << o.records << " records)"
+    out << (verdict == "ok" ? "ok       " : "PROBLEM  ") << o.path << "  (" << o.kind << ", " << count_of(o.records, "record", "records") << ")"
         << (verdict == "ok" ? "" : ": " + verdict) << "\n";
     if (verdict != "ok" && !first) first = Error(ErrorKind::kInput, o.path + ": " + verdict, Location{dir, 0, 0, {}});
   }
@@ -71,7 +105,7 @@ Result<std::vector<Vocabulary>> vocabularies_for_shard(const std::string& shard,
     // The shard's run directory holds the vocabularies.
     fs::path run = fs::path(shard).parent_path().parent_path();
     for (const char* n : {"vocab.shared.txt", "vocab.source.txt", "vocab.target.txt"})
-      if (fs::exists(run / n)) candidates.push_back((run / n).string());
+      if (std::error_code ec; fs::exists(run / n, ec)) candidates.push_back((run / n).string());
   }
   for (const auto& c : candidates) {
     auto v = Vocabulary::load(c);

@@ -9,6 +9,7 @@
 
 #include <algorithm>
 #include <cerrno>
+#include <cstddef>
 #include <optional>
 #include <cstring>
 
@@ -52,6 +53,13 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
     return bad("the header checksum does not match", 112);
   if (h.version != kShardFormat) return bad("format version " + std::to_string(h.version) + " is not " + std::to_string(kShardFormat), 8);
   if (h.id_width != 2 && h.id_width != 4) return bad("id width must be 2 or 4", 12);
+  // Values this version does not define are refused, not ignored: a reader
+  // that ignored them would misread a shard of a later format.
+  if (h.order != kInputOrder && h.order != kLengthOrder)
+    return bad("unknown order value " + std::to_string(h.order), offsetof(ShardHeader, order));
+  if ((h.flags & ~uint32_t{kHasBos | kHasEos}) != 0)
+    return bad("unknown flag bits " + std::to_string(h.flags), offsetof(ShardHeader, flags));
+  if (h.reserved != 0) return bad("the reserved header bytes are not zero", offsetof(ShardHeader, reserved));
   if (h.file_size != r.size_)
     return bad("the header says " + std::to_string(h.file_size) + " bytes, the file has " + std::to_string(r.size_) + " (truncated?)");
   uint64_t body_end = r.size_ - 8;
@@ -66,6 +74,16 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   SHEAF_TRY(check(h.source_ids, h.source_count, h.id_width, "the source ids"));
   SHEAF_TRY(check(h.target_offsets, h.pairs + 1, 8, "the target offsets"));
   SHEAF_TRY(check(h.target_ids, h.target_count, h.id_width, "the target ids"));
+  // The four arrays must not overlap (each was checked to fit in the body).
+  struct Span {
+    uint64_t begin, end;
+  } spans[4] = {{h.source_offsets, h.source_offsets + (h.pairs + 1) * 8},
+                {h.source_ids, h.source_ids + h.source_count * h.id_width},
+                {h.target_offsets, h.target_offsets + (h.pairs + 1) * 8},
+                {h.target_ids, h.target_ids + h.target_count * h.id_width}};
+  std::sort(std::begin(spans), std::end(spans), [](const Span& a, const Span& b) { return a.begin < b.begin; });
+  for (int i = 0; i + 1 < 4; ++i)
+    if (spans[i].end > spans[i + 1].begin) return bad("two arrays overlap", spans[i + 1].begin);
   uint64_t sum;
   std::memcpy(&sum, r.data_ + body_end, 8);
   if (XXH3_64bits(r.data_ + kShardHeaderSize, body_end - kShardHeaderSize) != sum ||

@@ -46,6 +46,32 @@ const std::vector<StageKind>& stage_kinds() {
   return kinds;
 }
 
+Status check_stages(const Pipeline& p) {
+  std::vector<std::unique_ptr<Stage>> built;
+  for (size_t i = 0; i < p.stages.size(); ++i) {
+    const StageSpec& spec = p.stages[i];
+    if (spec.kind->role == StageRole::kVocabulary) {
+      auto plan = vocabulary_plan(p, spec);
+      if (!plan.ok()) return plan.error();
+      continue;
+    }
+    if (spec.kind->role != StageRole::kFilter && spec.kind->role != StageRole::kSplit) continue;
+    StageContext ctx;
+    ctx.pipeline = &p;
+    ctx.spec = &spec;
+    ctx.index = static_cast<int>(i);
+    ctx.canonical = [&built](std::string& text, int side) {
+      for (const auto& s : built)
+        if (!s->rewrite(text, side)) return false;
+      return true;
+    };
+    auto st = make_stage(ctx);
+    if (!st.ok()) return st.error();
+    built.push_back(std::move(st.value()));
+  }
+  return {};
+}
+
 Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx) {
   for (const auto& e : entries())
     if (e.kind.kind == ctx.spec->kind->kind && e.make) return e.make(ctx);

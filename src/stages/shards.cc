@@ -169,6 +169,17 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                              }
                              tokens[0].add(src.size());
                              tokens[1].add(tgt.size());
+                             // max_bytes is a bound: a pair that would cross it
+                             // opens the next shard (a pair larger than the
+                             // bound alone gets a shard of its own).
+                             uint64_t pair_bytes = (src.size() + tgt.size()) * set.id_width;
+                             if (max_bytes > 0 && writer.pairs() > 0 && writer.id_bytes() + pair_bytes > max_bytes) {
+                               Status st = flush();
+                               if (!st.ok()) {
+                                 pool.release(e);
+                                 throw ErrorException{st.error()};
+                               }
+                             }
                              writer.add(src, tgt);
                              if (writer.pairs() >= max_pairs || (max_bytes > 0 && writer.id_bytes() >= max_bytes)) {
                                Status st = flush();

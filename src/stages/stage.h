@@ -60,4 +60,10 @@ class Stage {
 // script code) point at the key in the pipeline file.
 Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx);
 
+// The checks that need more than the schema (split sizes, patterns, codes,
+// minimum against maximum, special tokens): builds every streaming stage and
+// plans the vocabulary, without reading the corpus. validate, init and run
+// all call this one function, so they accept exactly the same files.
+Status check_stages(const Pipeline& p);
+
 }  // namespace sheaf

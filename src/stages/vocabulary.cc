@@ -196,6 +196,17 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
     auto learned = train_vocabulary({train}, job.columns, t, &report, &units);
     if (!learned.ok()) return learned.error();
     const Vocabulary& full = *learned;
+    // The learner ran to the largest of size and the sweep sizes, so it
+    // checked only that one against the alphabet: size itself must fit too
+    // (else the file would be larger than asked for).
+    if (plan->size < full.first_merge())
+      return Error(ErrorKind::kData,
+                   "vocabulary size " + std::to_string(plan->size) + " is too small for the " +
+                       std::to_string(full.alphabet_size()) + " characters that cover " +
+                       std::to_string(t.alphabet_coverage) + " of the " + job.side +
+                       " training text (plus 4 special and 256 byte tokens); raise size to at least " +
+                       std::to_string(full.first_merge()) + " or lower alphabet_coverage",
+                   spec.where);
     // The vocabulary written: the first (size - fixed) merges.
     size_t keep = plan->size > full.first_merge() ? std::min(full.merges(), plan->size - full.first_merge()) : 0;
     std::vector<std::string> alphabet;
@@ -228,7 +239,9 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                       {"alphabet_coverage", v.info().alphabet_coverage},
                       {"merges", v.merges()},
                       {"learned_merges", report.merges},
-                      {"stopped_early", report.stopped_early},
+                      // Early only if the file fell short of its size (the
+                      // learner may stop before a larger sweep size only).
+                      {"stopped_early", v.size() < plan->size},
                       {"word_types", report.word_types},
                       {"word_units", report.word_units},
                       {"distinct_characters", report.distinct_characters},

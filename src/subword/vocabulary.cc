@@ -5,6 +5,7 @@
 #include <xxhash.h>
 
 #include <charconv>
+#include <unordered_set>
 #include <fstream>
 #include <sstream>
 
@@ -88,7 +89,8 @@ Result<std::string> unescape_token(std::string_view s) {
       if (i + 1 >= s.size() || s[i + 1] != '{' || close == std::string_view::npos) return bad("a bad \\u escape");
       unsigned v = 0;
       auto r = std::from_chars(s.data() + i + 2, s.data() + close, v, 16);
-      if (r.ec != std::errc() || r.ptr != s.data() + close || v > 0x10FFFF) return bad("a bad \\u escape");
+      if (r.ec != std::errc() || r.ptr != s.data() + close || v > 0x10FFFF || (v >= 0xD800 && v <= 0xDFFF))
+        return bad("a bad \\u escape (not a Unicode scalar value)");
       char buf[4];
       int32_t k = 0;
       U8_APPEND_UNSAFE(buf, k, static_cast<UChar32>(v));
@@ -243,6 +245,7 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
   if (lines.size() - i - 1 != ntok) return fail(0, "the file holds " + std::to_string(lines.size() - i - 1) + " tokens, not " + std::to_string(ntok));
   std::array<std::string, 4> specials;
   std::vector<std::string> alphabet;
+  std::unordered_set<std::string> alphabet_seen;
   std::vector<std::pair<uint32_t, uint32_t>> merges;
   for (uint64_t id = 0; id < ntok; ++id) {
     size_t ln = i + 1 + id;
@@ -266,7 +269,13 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     } else if (want == TokenKind::kByte) {
       if (bytes->size() != 1 || static_cast<uint8_t>((*bytes)[0]) != id - 4) return fail(ln + 1, "byte token with the wrong byte");
     } else if (want == TokenKind::kChar) {
-      if (count_code_points(*bytes) != 1) return fail(ln + 1, "a character token must hold one character");
+      // Exactly one well-formed UTF-8 character (ICU's U8_NEXT refuses
+      // surrogates, overlong forms and stray bytes), and each only once.
+      int32_t at = 0, n = static_cast<int32_t>(bytes->size());
+      UChar32 cp = -1;
+      if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(bytes->data()), at, n, cp);
+      if (cp < 0 || at != n) return fail(ln + 1, "a character token must hold one well-formed UTF-8 character");
+      if (!alphabet_seen.insert(*bytes).second) return fail(ln + 1, "the character token is repeated");
       alphabet.push_back(*bytes);
     } else {
       if (f.size() != 4) return fail(ln + 1, "a merged token needs LEFT+RIGHT");

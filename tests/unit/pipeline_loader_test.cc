@@ -137,7 +137,7 @@ TEST(PipelineLoader, OverridesApplyToNamedStages) {
   Error bad = load_error(text, {*parse_override("lenght.source_max=1")});
   EXPECT_NE(bad.message().find("did you mean \"length\""), std::string::npos) << bad.message();
   Error type = load_error(text, {*parse_override("length.source_max=\"x\"")});
-  EXPECT_EQ(type.where().file, "p.toml");
+  EXPECT_EQ(type.where().file, "--set length.source_max");  // the value came from there, not from the file
   EXPECT_NE(type.message().find("source_max must be an integer"), std::string::npos);
   Error nottoml = load_error(text, {*parse_override("length.source_max=abc")});
   EXPECT_NE(nottoml.message().find("is not a TOML value"), std::string::npos);

@@ -110,7 +110,7 @@ TEST_P(Interrupt, StopsQuicklyRemovesPartialFilesAndWritesNoRecord) {
   EXPECT_GE(interrupted, 1);
 }
 
-INSTANTIATE_TEST_SUITE_P(Signals, Interrupt, ::testing::Values(SIGINT, SIGTERM));
+INSTANTIATE_TEST_SUITE_P(Signals, Interrupt, ::testing::Values(SIGINT, SIGTERM, SIGHUP, SIGPIPE));
 
 TEST(Faults, KillNineLeavesNothingPresentedAsComplete) {
   test::TempDir t;

@@ -142,7 +142,7 @@ TEST(Run, ForceNeverFollowsListedPathsOutOfTheDirectory) {
   test::TempDir t;
   test::write_file(t / "victim.txt", "keep");
   test::write_file(t / "run/manifest.json",
-                   "{\"tool\":\"sheaf\",\"outputs\":[{\"path\":\"../victim.txt\"},{\"path\":\"" + (t / "victim.txt") +
+                   "{\"format\":\"sheaf-run-record\",\"tool\":\"sheaf\",\"outputs\":[{\"path\":\"../victim.txt\"},{\"path\":\"" + (t / "victim.txt") +
                        "\"},{\"path\":\"link/x\"}]}");
   test::fs::create_directory_symlink(t.path(), t / "run/link");
   test::write_file(t / "x", "keep too");

@@ -5,6 +5,7 @@
 #include <gtest/gtest.h>
 
 #include <cstdio>
+#include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -17,7 +18,12 @@ namespace sheaf::test {
 namespace fs = std::filesystem;
 
 inline std::string source_dir() { return SHEAF_SOURCE_DIR; }
-inline std::string binary() { return SHEAF_BINARY; }
+// SHEAF_TEST_BINARY runs the tests against another build (to see a new test
+// fail on the code before its fix).
+inline std::string binary() {
+  const char* other = std::getenv("SHEAF_TEST_BINARY");
+  return other != nullptr && *other != 0 ? other : SHEAF_BINARY;
+}
 
 class TempDir {
  public:
