@@ -10,7 +10,7 @@
 #include <vector>
 
 #include "io/pair_reader.h"
-#include "report/stats.h"
+#include "core/stats.h"
 
 namespace sheaf {
 

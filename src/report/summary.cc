@@ -14,7 +14,7 @@
 #include "core/batch_pool.h"
 #include "io/output_file.h"
 #include "report/html_report.h"
-#include "report/stats.h"
+#include "core/stats.h"
 #include "subword/vocabulary.h"
 
 namespace sheaf {

@@ -15,7 +15,7 @@
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "io/line_blocks.h"
-#include "report/stats.h"
+#include "core/stats.h"
 #include "shards/shard_writer.h"
 #include "subword/codec.h"
 

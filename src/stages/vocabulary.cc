@@ -8,7 +8,7 @@
 
 #include "core/text.h"
 #include "io/output_file.h"
-#include "report/stats.h"
+#include "core/stats.h"
 #include "stages/script.h"
 #include "subword/codec.h"
 

@@ -12,7 +12,7 @@
 #include <gtest/gtest.h>
 
 #include "io/output_file.h"
-#include "report/stats.h"
+#include "core/stats.h"
 #include "shards/shard_format.h"
 
 namespace sheaf {

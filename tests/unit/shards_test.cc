@@ -5,7 +5,7 @@
 
 #include <fstream>
 
-#include "report/stats.h"
+#include "core/stats.h"
 #include "shards/shard_reader.h"
 #include "test_util.h"
 

@@ -1,4 +1,4 @@
-#include "report/stats.h"
+#include "core/stats.h"
 
 #include <algorithm>
 #include <cmath>
