@@ -7,7 +7,6 @@
 #include <unistd.h>
 #include <xxhash.h>
 
-#include <chrono>
 #include <cstring>
 #include <filesystem>
 #include <fstream>
@@ -21,6 +20,7 @@
 #include "io/line_blocks.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
+#include "pipeline/progress.h"
 #include "pipeline/run_dir.h"
 #include "pipeline/steps.h"
 #include "stages/split.h"
@@ -39,43 +39,6 @@ bool has_tsv_breaker(std::string_view s) {
     if (static_cast<unsigned char>(c) <= '\r' && (c == '\t' || c == '\n' || c == '\r')) return true;
   return false;
 }
-
-// Progress on standard error, twice a second, while pass 1 runs.
-class Progress {
- public:
-  Progress(bool on, const std::atomic<uint64_t>& bytes, const std::atomic<uint64_t>& pairs)
-      : on_(on), bytes_(bytes), pairs_(pairs) {
-    if (on_) thread_ = std::thread([this] { loop(); });
-  }
-  ~Progress() { stop(); }
-  void stop() {
-    if (!on_) return;
-    done_ = true;
-    thread_.join();
-    on_ = false;
-    std::fprintf(stderr, "\r\033[K");
-  }
-
- private:
-  void loop() {
-    auto start = std::chrono::steady_clock::now();
-    while (!done_) {
-      std::this_thread::sleep_for(std::chrono::milliseconds(100));
-      if (++tick_ % 5 != 0) continue;
-      double secs = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-      double mb = static_cast<double>(bytes_.load()) / 1e6;
-      std::fprintf(stderr, "\r\033[Kcleaning: %.1f MB, %llu pairs read (%.1f MB/s)", mb,
-                   static_cast<unsigned long long>(pairs_.load()), secs > 0 ? mb / secs : 0.0);
-      std::fflush(stderr);
-    }
-  }
-  bool on_;
-  const std::atomic<uint64_t>& bytes_;
-  const std::atomic<uint64_t>& pairs_;
-  std::atomic<bool> done_{false};
-  int tick_ = 0;
-  std::thread thread_;
-};
 
 // Pass 1's output side: split files, rejected.tsv, counts, overlap keys.
 class Pass1Writer {
