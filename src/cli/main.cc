@@ -107,6 +107,10 @@ int main(int argc, char** argv) {
   }
   try {
     return run_command(argc, argv);
+  } catch (const ErrorException& e) {
+    // An error value raised where no oneTBB filter was there to catch it
+    // (e.g. ICU's word iterator failing during encode).
+    return fail(e.error);
   } catch (const std::bad_alloc&) {
     // Destructors have removed every partial file on the way here.
     return fail(Error(ErrorKind::kIo,
@@ -299,7 +303,6 @@ int run_command(int argc, char** argv) {
       std::cout << text;
       return 0;
     }
-    if (!s.ok()) return fail(s.error());
     std::cout << *s;
     return 0;
   }

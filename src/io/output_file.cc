@@ -28,7 +28,12 @@ OutputFile::~OutputFile() {
 
 Status OutputFile::open(const std::string& path) {
   path_ = path;
-  fd_ = ::open((path + ".partial").c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  // A leftover ".partial" (or a link planted under that name) is removed,
+  // never written through: the new file is created afresh, and the open
+  // fails rather than follow a link that appears in between.
+  std::string partial = path + ".partial";
+  if (::unlink(partial.c_str()) != 0 && errno != ENOENT) return write_error(path, errno);
+  fd_ = ::open(partial.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_NOFOLLOW | O_CLOEXEC, 0644);
   if (fd_ < 0) return write_error(path, errno);
   xxh_ = XXH3_createState();
   XXH3_64bits_reset(xxh_);

@@ -131,8 +131,14 @@ Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
     fs::create_directories(d, ec);
     if (ec) return fs_error(ErrorKind::kIo, "cannot create the output directory", ec, dir);
   }
+  // A directory sheaf refuses keeps no lock file it did not have before.
+  bool had_lock = fs::exists(fs::symlink_status(d / kLock, ec));
   auto lock = lock_dir(d, dir);
   if (!lock.ok()) return lock.error();
+  auto refuse = [&](Error e) -> Error {
+    if (!had_lock) ::unlink((d / kLock).c_str());
+    return e;
+  };
 
   // What is there (the lock file aside)?
   bool empty = true;
@@ -166,17 +172,17 @@ Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
     }
   }
   if (has_manifest && !sheaf_manifest)
-    return Error(ErrorKind::kUsage,
+    return refuse(Error(ErrorKind::kUsage,
                  std::string("the output directory holds a manifest.json that is not a sheaf run record; it is not a "
                              "sheaf run") +
                      (force ? ", and sheaf would overwrite that file: move it away or choose another --out"
                             : ": choose an empty directory or another --out"),
-                 Location{dir, 0, 0, {}});
+                 Location{dir, 0, 0, {}}));
   if (!empty && !sheaf_manifest && !marker && !force)
-    return Error(ErrorKind::kUsage,
-                 "the output directory holds files that are not a sheaf run; choose an empty directory, or pass "
-                 "--force to write into it (only files a previous sheaf run listed are ever removed)",
-                 Location{dir, 0, 0, {}});
+    return refuse(Error(ErrorKind::kUsage,
+                        "the output directory holds files that are not a sheaf run; choose an empty directory, or "
+                        "pass --force to write into it (only files a previous sheaf run listed are ever removed)",
+                        Location{dir, 0, 0, {}}));
   for (const auto& rel : listed) {
     if (!safe_inside(d, rel)) continue;
     for (const std::string& name : {rel, rel + ".partial"}) {

@@ -184,7 +184,7 @@ std::string render_report(const std::string& summary_json) {
   o << "</table>\n";
 
   o << "<h2>Splits</h2><table><tr><th>split</th><th>pairs</th><th>side</th><th>chars mean / p99</th><th>words mean / p99</th>"
-       "<th>tokens mean / p95 / p99 / max</th><th>byte fallback</th></tr>";
+       "<th>tokens mean / p95 / p99 / max</th><th>byte tokens</th></tr>";
   for (auto& [name, s] : j["splits"].items()) {
     for (const char* side : {"source", "target"}) {
       const auto& x = s[side];
@@ -230,7 +230,7 @@ std::string render_report(const std::string& summary_json) {
     for (const auto& x : v["vocabularies"]) {
       o << "<h2>Size sweep on " << esc(v["sweep_split"]) << " (" << esc(x["side"]) << " vocabulary)</h2><div class='grid'><div class='card'>"
         << sweep_svg(x["sweep"]) << "</div><div class='card'><table><tr><th>side</th><th>size</th><th>mean</th><th>p95</th><th>p99</th>"
-        << "<th>tokens/word</th><th>over max</th><th>byte fallback</th></tr>";
+        << "<th>tokens/word</th><th>over max</th><th>byte tokens</th></tr>";
       for (auto& [side, rows] : x["sweep"].items())
         for (const auto& r : rows)
           o << "<tr><td>" << esc(side) << "</td><td>" << num(r["size"]) << "</td><td>" << fmt(r["mean_tokens"].get<double>(), 1) << "</td><td>"

@@ -14,6 +14,7 @@
 #include "io/output_file.h"
 #include "core/stats.h"
 #include "shards/shard_format.h"
+#include "test_util.h"
 
 namespace sheaf {
 namespace {
@@ -109,6 +110,36 @@ TEST(Edges, DiscardingAFileNeverOpenedRemovesNothing) {
   EXPECT_TRUE(std::filesystem::exists(dir / ".partial"));
   std::filesystem::current_path(old);
   std::filesystem::remove_all(dir);
+}
+
+// A link planted under an output's ".partial" name (in a previous run's
+// directory, or any name under --force) is replaced, never written through.
+TEST(Edges, AnOutputNeverWritesThroughALinkedPartialFile) {
+  test::TempDir t;
+  test::write_file(t / "victim.txt", "a user's file\n");
+  std::filesystem::create_symlink(t / "victim.txt", t / "train.tsv.partial");
+  OutputFile f;
+  ASSERT_TRUE(f.open(t / "train.tsv").ok());
+  f.write("x\ty\n");
+  ASSERT_TRUE(f.commit().ok());
+  EXPECT_EQ(test::read_file(t / "victim.txt"), "a user's file\n");
+  EXPECT_EQ(test::read_file(t / "train.tsv"), "x\ty\n");
+  EXPECT_FALSE(std::filesystem::is_symlink(t / "train.tsv"));
+}
+
+// A directory of someone else's files is refused, and keeps no lock file.
+TEST(Edges, ARefusedDirectoryKeepsNoLockFile) {
+  test::TempDir t;
+  std::filesystem::create_directories(t / "mine");
+  test::write_file(t / "mine/notes.txt", "mine\n");
+  test::write_file(t / "c.tsv", "Hello there.\tHola.\n");
+  test::write_file(t / "p.toml", test::pipeline_text("files = [\"c.tsv\"]\nsource_lang = \"en\"\ntarget_lang = \"es\"",
+                                                     "[[stage]]\nkind = \"length\"\n", "mine"));
+  auto r = test::run_sheaf("run " + (t / "p.toml") + " --quiet");
+  EXPECT_EQ(r.status, 2);
+  std::vector<std::string> names;
+  for (const auto& e : std::filesystem::directory_iterator(t / "mine")) names.push_back(e.path().filename().string());
+  EXPECT_EQ(names, std::vector<std::string>{"notes.txt"});
 }
 
 }  // namespace
