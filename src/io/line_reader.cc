@@ -1,5 +1,6 @@
 #include "io/line_reader.h"
 
+#include <algorithm>
 #include <cstring>
 
 namespace sheaf {
@@ -42,11 +43,28 @@ Result<size_t> LineReader::fill() {
   return *r;
 }
 
-// The first line would hold a CR that is not at its end: the file's lines end
-// with CR alone (classic Mac OS), which would make the whole file one line.
+// The first line would hold a CR that is not at its end: the file's lines may
+// end with CR alone (classic Mac OS), which would make the whole file one
+// line. Only text that reads as CR-ended lines is refused: every CR-cut
+// segment shorter than max_line_bytes, and two CRs inside or one at the very
+// end. One stray CR in a long first line, or in a one-pair file, is content
+// (the line is kept, or streamed as an over-long line) and loses nothing.
 Status LineReader::check_cr_only(size_t end) const {
   if (number_ != 0 || end <= begin_ + 1) return {};
-  if (std::memchr(buf_.data() + begin_, '\r', end - begin_ - 1) == nullptr) return {};
+  const char* p = buf_.data() + begin_;
+  const char* stop = buf_.data() + end;
+  size_t inner = 0, longest = 0;
+  for (const char* seg = p;;) {
+    const void* cr = std::memchr(seg, '\r', static_cast<size_t>(stop - seg));
+    const char* seg_end = cr ? static_cast<const char*>(cr) : stop;
+    longest = std::max(longest, static_cast<size_t>(seg_end - seg));
+    if (cr == nullptr) break;
+    if (seg_end + 1 < stop) ++inner;
+    seg = seg_end + 1;
+    if (seg >= stop) break;
+  }
+  bool ends_with_cr = stop[-1] == '\r';
+  if (inner == 0 || longest > max_line_ || (inner < 2 && !ends_with_cr)) return {};
   return Error(ErrorKind::kInput,
                "the lines of this file end with a carriage return (CR) alone, not LF or CR LF, so it reads as one "
                "line; convert the line ends first (e.g. tr '\\r' '\\n' < FILE > FILE.lf)",

@@ -267,6 +267,25 @@ TEST(Hostile, CarriageReturnOnlyLineEndsAreNamed) {
   EXPECT_EQ(r.err.find("relax the filters"), std::string::npos) << r.err;
 }
 
+// A stray CR in line 1 is content, not a sign of CR-only line ends: a
+// one-pair file is read (its pair is then refused as unsafe for TSV, with
+// its bytes in rejected.tsv), and a long first line with one CR is rejected
+// alone while the good pairs after it are kept.
+TEST(Hostile, AStrayCarriageReturnInLineOneRefusesNothing) {
+  test::TempDir t;
+  test::write_file(t / "one.tsv", "Hello\rworld\tHola mundo");
+  auto r = test::run_sheaf("run " + write_pipeline(t, t / "one.tsv", "", t / "out-one") + " --quiet");
+  EXPECT_EQ(r.err.find("carriage return"), std::string::npos) << r.err;
+  EXPECT_NE(test::read_file(t / "out-one/rejected.tsv").find("Hello\rworld\tHola mundo"), std::string::npos);
+  std::string first = std::string(2 << 20, 'a') + "\r" + std::string(10, 'b') + "\tx\n";
+  std::string good;
+  for (int i = 0; i < 50; ++i) good += "pair number " + std::to_string(i) + "\tpar n\u00famero " + std::to_string(i) + "\n";
+  test::write_file(t / "long.tsv", first + good);
+  r = test::run_sheaf("run " + write_pipeline(t, t / "long.tsv", "", t / "out-long") + " --quiet");
+  EXPECT_EQ(r.status, 0) << r.err;
+  EXPECT_EQ(test::read_file(t / "out-long/train.tsv"), good);
+}
+
 // 8. validate and run agree; init refuses what would not load.
 TEST(Hostile, ValidateRefusesWhatRunRefuses) {
   test::TempDir t;
