@@ -3,6 +3,7 @@
 #include <nlohmann/json.hpp>
 
 #include <charconv>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 
@@ -62,7 +63,18 @@ std::string run_record_json(const RunRecord& r) {
   return j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
 }
 
+constexpr uint64_t kMaxRecordBytes = uint64_t{256} << 20;
+
 Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path) {
+  // A record is a small regular file: a link, a device (/dev/zero) or a huge
+  // file under that name is not one, and is never read whole.
+  std::error_code ec;
+  auto st = std::filesystem::symlink_status(path, ec);
+  if (ec || !std::filesystem::is_regular_file(st))
+    return Error(ErrorKind::kInput, "not a sheaf run record (not a regular file)", Location{path, 0, 0, {}});
+  if (std::filesystem::file_size(path, ec) > kMaxRecordBytes || ec)
+    return Error(ErrorKind::kInput, "not a sheaf run record (larger than any record sheaf writes)",
+                 Location{path, 0, 0, {}});
   std::ifstream in(path, std::ios::binary);
   if (!in) return Error(ErrorKind::kIo, "cannot read the run record", Location{path, 0, 0, {}});
   std::ostringstream text;
@@ -105,6 +117,11 @@ Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path) 
         !text_field("split", o.split, false) || !text_field("side", o.side, false) ||
         !text_field("xxh3_64", sum, false) || !count_field("records", o.records) || !count_field("size", o.size))
       return bad("an output entry has a field of the wrong type");
+    // Outputs lie inside the run directory: a relative path of plain names.
+    std::filesystem::path rel(o.path);
+    bool inside = !o.path.empty() && rel.is_relative();
+    for (const auto& part : rel) inside = inside && part != ".." && part != "." && !part.empty();
+    if (!inside) return bad("an output path \"" + o.path + "\" is not a path inside the run directory");
     if (!sum.empty()) {
       auto r = std::from_chars(sum.data(), sum.data() + sum.size(), o.checksum, 16);
       if (sum.size() != 16 || r.ec != std::errc() || r.ptr != sum.data() + sum.size())

@@ -11,8 +11,9 @@
 
 #include <gtest/gtest.h>
 
-#include "io/output_file.h"
 #include "core/stats.h"
+#include "io/output_file.h"
+#include "report/run_record.h"
 #include "shards/shard_format.h"
 #include "test_util.h"
 
@@ -140,6 +141,23 @@ TEST(Edges, ARefusedDirectoryKeepsNoLockFile) {
   std::vector<std::string> names;
   for (const auto& e : std::filesystem::directory_iterator(t / "mine")) names.push_back(e.path().filename().string());
   EXPECT_EQ(names, std::vector<std::string>{"notes.txt"});
+}
+
+// The checked record reader: outputs must lie inside the run directory, and
+// a record is a small regular file (a link to /dev/zero is not read).
+TEST(Edges, TheRecordReaderRefusesOutsidePathsAndEndlessFiles) {
+  test::TempDir t;
+  auto record = [](const std::string& path) {
+    return "{\"format\": \"sheaf-run-record\", \"tool\": \"sheaf\", \"outputs\": [{\"path\": \"" + path + "\"}]}";
+  };
+  test::write_file(t / "ok.json", record("shards/train.00000.shard"));
+  ASSERT_TRUE(read_manifest_outputs(t / "ok.json").ok());
+  for (const std::string bad : {"../../etc/hostname", "/etc/hostname", "a/../../b", ""}) {
+    test::write_file(t / "bad.json", record(bad));
+    EXPECT_FALSE(read_manifest_outputs(t / "bad.json").ok()) << bad;
+  }
+  std::filesystem::create_symlink("/dev/zero", t / "zero.json");
+  EXPECT_FALSE(read_manifest_outputs(t / "zero.json").ok());
 }
 
 }  // namespace
