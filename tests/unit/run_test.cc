@@ -141,13 +141,19 @@ TEST(Run, RefusesAForeignDirectoryAndForceRemovesOnlyListedFiles) {
 TEST(Run, ForceNeverFollowsListedPathsOutOfTheDirectory) {
   test::TempDir t;
   test::write_file(t / "victim.txt", "keep");
+  // A record listing paths outside its directory is not one sheaf wrote: the
+  // directory is refused and nothing is touched.
   test::write_file(t / "run/manifest.json",
                    "{\"format\":\"sheaf-run-record\",\"tool\":\"sheaf\",\"outputs\":[{\"path\":\"../victim.txt\"},{\"path\":\"" + (t / "victim.txt") +
-                       "\"},{\"path\":\"link/x\"}]}");
-  test::fs::create_directory_symlink(t.path(), t / "run/link");
-  test::write_file(t / "x", "keep too");
-  ASSERT_EQ(run_demo(t / "run").status, 0);
+                       "\"}]}");
+  EXPECT_EQ(run_demo(t / "run").status, 2);
   EXPECT_EQ(test::read_file(t / "victim.txt"), "keep");
+  // A listed path inside the directory that passes through a link is not followed.
+  test::write_file(t / "run2/manifest.json",
+                   "{\"format\":\"sheaf-run-record\",\"tool\":\"sheaf\",\"outputs\":[{\"path\":\"link/x\"}]}");
+  test::fs::create_directory_symlink(t.path(), t / "run2/link");
+  test::write_file(t / "x", "keep too");
+  ASSERT_EQ(run_demo(t / "run2").status, 0);
   EXPECT_EQ(test::read_file(t / "x"), "keep too");
 }
 
