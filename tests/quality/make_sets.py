@@ -46,7 +46,7 @@ FAMILY = {"es": "romance", "pt": "romance", "pt_BR": "romance", "it": "romance",
 SAME_LANGUAGE = {"pt": "pt_BR", "pt_BR": "pt"}
 
 KINDS = ["repeat-exact", "repeat-near", "copy", "partial-copy", "wrong-lang", "wrong-lang-related",
-         "wrong-lang-short", "misaligned", "truncated", "bad-bytes", "damaged-markup"]
+         "wrong-lang-source", "wrong-lang-short", "misaligned", "truncated", "bad-bytes", "damaged-markup"]
 
 PRINTF = re.compile(r"%(\d+\$)?[-+ #0']*(\d+|\*)?(\.(\d+|\*))?(hh|h|ll|l|j|z|t|L|q|I64|I32)?[diouxXeEfFgGaAcspnm%]")
 KEY = re.compile(r"^[a-z][A-Za-z0-9]*([:_-][A-Za-z0-9]+)+$")
@@ -196,6 +196,11 @@ def make(lang, sets, others, rng, limit, per_kind):
     wrong("wrong-lang", lambda: list(unrelated), 20, 10**9)
     if related:
         wrong("wrong-lang-related", lambda: list(related), 20, 10**9)
+    # The source language in the target: another entry's English text.
+    for i in pick(lambda r: letters(r["src"]) >= 20, per_kind):
+        j = rng.randrange(n)
+        if letters(pos[j]["src"]) >= 20 and loose(pos[j]["src"]) != loose(pos[i]["src"]):
+            add(rng.uniform(0, n), pos[i]["src"], pos[j]["src"], "wrong-lang-source", pos[i], "source of another entry")
     wrong("wrong-lang-short", lambda: list(related or unrelated), 1, 19)
 
     for i in pick(lambda r: True, per_kind):

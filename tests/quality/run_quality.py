@@ -29,7 +29,7 @@ import make_sets  # noqa: E402
 
 CODE = {"pt_BR": "pt-BR", "zh_TW": "zh-TW"}
 FILTERS = ["normalize", "pattern", "length", "copy", "script", "dedup", "exclude", "language"]
-TARGETED = ["repeat-exact", "copy", "partial-copy", "wrong-lang", "wrong-lang-related", "bad-bytes",
+TARGETED = ["repeat-exact", "copy", "partial-copy", "wrong-lang", "wrong-lang-related", "wrong-lang-source", "bad-bytes",
             "damaged-markup"]
 # Targets and the margins the small slice is held to (ctest). On the slice a
 # language has about 300 genuine pairs, so one lost pair is 0.33 points.
@@ -221,7 +221,7 @@ def main():
         print()
         aimed = {"pattern": ["damaged-markup"], "length": ["truncated", "misaligned"], "copy": ["copy", "partial-copy"],
                  "script": ["wrong-lang"], "dedup": ["repeat-exact", "repeat-near"],
-                 "language": ["wrong-lang", "wrong-lang-related", "wrong-lang-short"]}
+                 "language": ["wrong-lang", "wrong-lang-related", "wrong-lang-source", "wrong-lang-short"]}
         cols = [s for s in FILTERS[1:] if s != "exclude"]
         print("| lang | " + " | ".join("%s (%s)" % (s, ", ".join(aimed[s])) for s in cols) + " |")
         print("|---" * (len(cols) + 1) + "|")

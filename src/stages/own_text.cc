@@ -1,0 +1,209 @@
+#include "stages/own_text.h"
+
+#include <unicode/uchar.h>
+#include <unicode/utf8.h>
+
+#include <cctype>
+#include <cstdint>
+#include <vector>
+
+namespace sheaf {
+
+namespace {
+
+inline bool ascii_alpha(unsigned char c) { return static_cast<unsigned char>((c | 0x20) - 'a') < 26; }
+inline bool ascii_digit(unsigned char c) { return static_cast<unsigned char>(c - '0') < 10; }
+
+// Length of the printf conversion at s[i] == '%' (C11 7.21.6.1: argument
+// position, flags without the space flag, width, precision, length
+// modifier, conversion), 0 if none. A space flag is left out so that
+// "50% discount" is not read as a conversion.
+size_t printf_at(std::string_view s, size_t i) {
+  size_t j = i + 1, n = s.size();
+  if (j < n && s[j] == '%') return 2;
+  size_t k = j;
+  while (k < n && ascii_digit(static_cast<unsigned char>(s[k]))) ++k;
+  if (k > j && k < n && s[k] == '$') j = k + 1;
+  while (j < n && (s[j] == '-' || s[j] == '+' || s[j] == '#' || s[j] == '0' || s[j] == '\'')) ++j;
+  if (j < n && s[j] == '*') ++j;
+  while (j < n && ascii_digit(static_cast<unsigned char>(s[j]))) ++j;
+  if (j < n && s[j] == '.') {
+    ++j;
+    if (j < n && s[j] == '*') ++j;
+    while (j < n && ascii_digit(static_cast<unsigned char>(s[j]))) ++j;
+  }
+  if (j + 1 < n && ((s[j] == 'h' && s[j + 1] == 'h') || (s[j] == 'l' && s[j + 1] == 'l'))) j += 2;
+  else if (j < n && std::string_view("hljztLq").find(s[j]) != std::string_view::npos) ++j;
+  if (j < n && std::string_view("diouxXeEfFgGaAcspnm").find(s[j]) != std::string_view::npos) return j + 1 - i;
+  return 0;
+}
+
+// Length of the markup or placeholder span starting at s[i], 0 if none.
+size_t span_at(std::string_view s, size_t i) {
+  size_t n = s.size();
+  switch (s[i]) {
+    case '<': {  // a tag or <metavariable>
+      for (size_t j = i + 1; j < n && j < i + 200; ++j) {
+        if (s[j] == '<') return 0;
+        if (s[j] == '>') return j > i + 1 ? j + 1 - i : 0;
+      }
+      return 0;
+    }
+    case '&': {  // &name; &#NN; &#xHH;
+      size_t j = i + 1;
+      if (j < n && s[j] == '#') {
+        ++j;
+        bool hex = j < n && (s[j] == 'x' || s[j] == 'X');
+        j += hex;
+        size_t d = j;
+        while (j < n && j < d + 7 && (ascii_digit(static_cast<unsigned char>(s[j])) ||
+                                      (hex && std::isxdigit(static_cast<unsigned char>(s[j])))))
+          ++j;
+        return j > d && j < n && s[j] == ';' ? j + 1 - i : 0;
+      }
+      size_t d = j;
+      while (j < n && j < d + 10 && ascii_alpha(static_cast<unsigned char>(s[j]))) ++j;
+      return j >= d + 2 && j < n && s[j] == ';' ? j + 1 - i : 0;
+    }
+    case '%':
+      return printf_at(s, i);
+    case '{': {  // {0} {name} {{name}}, no space inside
+      size_t j = i + 1;
+      bool twice = j < n && s[j] == '{';
+      j += twice;
+      for (; j < n && j < i + 64; ++j) {
+        if (s[j] == '{' || s[j] == ' ') return 0;
+        if (s[j] == '}') {
+          if (twice) return j + 1 < n && s[j + 1] == '}' ? j + 2 - i : 0;
+          return j + 1 - i;
+        }
+      }
+      return 0;
+    }
+    case '$': {  // $NAME ${NAME}
+      size_t j = i + 1;
+      if (j < n && s[j] == '{') {
+        for (; j < n && j < i + 64; ++j)
+          if (s[j] == '}') return j + 1 - i;
+        return 0;
+      }
+      while (j < n && (ascii_alpha(static_cast<unsigned char>(s[j])) || s[j] == '_' ||
+                       (j > i + 1 && ascii_digit(static_cast<unsigned char>(s[j])))))
+        ++j;
+      return j > i + 1 ? j - i : 0;
+    }
+    default:
+      return 0;
+  }
+}
+
+// True for a white-space-separated token that is an address or an option.
+bool skip_token(std::string_view t) {
+  if (t.size() >= 2 && t[0] == '-' && (t[1] == '-' || ascii_alpha(static_cast<unsigned char>(t[1])))) return true;
+  if (t.find("://") != std::string_view::npos || t.substr(0, 4) == "www.") return true;
+  size_t at = t.find('@');
+  return at != std::string_view::npos && at > 0 && t.find('.', at) != std::string_view::npos;
+}
+
+struct Word {
+  size_t begin, end;
+  size_t letters;
+  bool digit;
+  uint64_t hash;  // FNV-1a of the bytes, ASCII lowercased, '_' left out
+};
+
+// Calls fn(word) for every word of `s` outside markup, placeholders and
+// skipped tokens.
+template <typename Fn>
+void words(std::string_view s, Fn&& fn) {
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  size_t n = s.size(), i = 0, token_end = 0;
+  Word w{0, 0, 0, false, 0};
+  bool in_word = false;
+  auto close = [&](size_t at) {
+    if (in_word) {
+      w.end = at;
+      fn(w);
+      in_word = false;
+    }
+  };
+  auto open = [&](size_t at) {
+    if (!in_word) {
+      w = Word{at, at, 0, false, 0xcbf29ce484222325ULL};
+      in_word = true;
+    }
+  };
+  auto mix = [&](uint8_t b) { w.hash = (w.hash ^ b) * 0x100000001b3ULL; };
+  while (i < n) {
+    if (i >= token_end && p[i] != ' ') {  // the start of a token
+      size_t e = s.find(' ', i);
+      token_end = e == std::string_view::npos ? n : e;
+      if (skip_token(s.substr(i, token_end - i))) {
+        close(i);
+        i = token_end;
+        continue;
+      }
+    }
+    uint8_t b = p[i];
+    if (b < 0x80) {
+      if (ascii_alpha(b) || ascii_digit(b) || b == '_') {
+        open(i);
+        if (b != '_') mix(static_cast<uint8_t>(ascii_alpha(b) ? (b | 0x20) : b));
+        w.letters += ascii_alpha(b);
+        w.digit |= ascii_digit(b);
+        ++i;
+        continue;
+      }
+      size_t k = span_at(s, i);
+      close(i);
+      i += k ? k : 1;
+      continue;
+    }
+    int32_t j = static_cast<int32_t>(i);
+    UChar32 c;
+    U8_NEXT(p, j, static_cast<int32_t>(n), c);
+    uint32_t mask = c < 0 ? 0 : U_GET_GC_MASK(c);
+    if (mask & (U_GC_L_MASK | U_GC_M_MASK | U_GC_ND_MASK)) {
+      open(i);
+      for (size_t k = i; k < static_cast<size_t>(j); ++k) mix(p[k]);
+      w.letters += (mask & U_GC_L_MASK) != 0;
+      w.digit |= (mask & U_GC_ND_MASK) != 0;
+    } else {
+      close(i);
+    }
+    i = static_cast<size_t>(j);
+  }
+  close(n);
+}
+
+}  // namespace
+
+size_t own_text(std::string_view side, std::string_view other, std::string& out) {
+  thread_local std::vector<uint64_t> set;  // open addressing; 0 marks an empty slot
+  size_t cap = 16;
+  while (cap < other.size()) cap <<= 1;
+  set.assign(cap, 0);
+  size_t mask = cap - 1;
+  words(other, [&](const Word& w) {
+    uint64_t h = w.hash | 1;
+    size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
+    while (set[k] != 0 && set[k] != h) k = (k + 1) & mask;
+    set[k] = h;
+  });
+  out.clear();
+  size_t letters = 0;
+  words(side, [&](const Word& w) {
+    if (w.digit || w.letters == 0) return;
+    uint64_t h = w.hash | 1;
+    size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
+    while (set[k] != 0 && set[k] != h) k = (k + 1) & mask;
+    if (set[k] == h) return;
+    if (!out.empty()) out.push_back(' ');
+    for (size_t i = w.begin; i < w.end; ++i)
+      if (side[i] != '_') out.push_back(side[i]);
+    letters += w.letters;
+  });
+  return letters;
+}
+
+}  // namespace sheaf

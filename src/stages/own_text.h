@@ -1,0 +1,30 @@
+// own_text: the part of one side of a pair that is evidence of its language.
+//
+// Real translations carry text that belongs to no language: spans copied
+// from the other side (identifiers, product names, option names, numbers),
+// format placeholders, markup and addresses. The script and language stages
+// judge a side by what is left once these are taken out:
+//   - anything between '<' and the next '>' (tags and <metavariables>; at
+//     most 200 bytes, no '<' inside), and entities (&name; &#NN; &#xHH;);
+//   - printf conversions (%s, %1$s, %-20.127s, %lu, %%), brace and template
+//     variables ({0}, {name}, {{name}}), shell variables ($HOME, ${HOME});
+//   - white-space-separated tokens that are URLs (scheme://, www.), e-mail
+//     addresses (a '@' with a '.' after it) or options (-x, --name);
+//   - words (runs of letters, digits and '_') that hold a digit, or that
+//     also occur as words of the other side (ASCII letters compared without
+//     case; '_', a menu accelerator or identifier joint, is ignored).
+// What remains are the side's own words, separated by single spaces, and the
+// number of letters in them. Pure function; thread-safe (per-thread scratch).
+#pragma once
+
+#include <cstddef>
+#include <string>
+#include <string_view>
+
+namespace sheaf {
+
+// Writes the own words of `side` (judged against `other`) to `out`, replacing
+// its contents; returns the number of letters (general category L*) in them.
+size_t own_text(std::string_view side, std::string_view other, std::string& out);
+
+}  // namespace sheaf
