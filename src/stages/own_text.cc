@@ -109,7 +109,10 @@ struct Word {
   size_t begin, end;
   size_t letters;
   bool digit;
-  uint64_t hash;  // FNV-1a of the bytes, ASCII lowercased, '_' left out
+  bool underscore;
+  size_t upper, lower;   // ASCII letters by case
+  bool camel;            // an ASCII uppercase letter right after a lowercase one
+  uint64_t hash;         // FNV-1a of the bytes, ASCII lowercased, '_' left out
 };
 
 // Calls fn(word) for every word of `s` outside markup, placeholders and
@@ -118,7 +121,7 @@ template <typename Fn>
 void words(std::string_view s, Fn&& fn) {
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   size_t n = s.size(), i = 0, token_end = 0;
-  Word w{0, 0, 0, false, 0};
+  Word w{};
   bool in_word = false;
   auto close = [&](size_t at) {
     if (in_word) {
@@ -129,7 +132,9 @@ void words(std::string_view s, Fn&& fn) {
   };
   auto open = [&](size_t at) {
     if (!in_word) {
-      w = Word{at, at, 0, false, 0xcbf29ce484222325ULL};
+      w = Word{};
+      w.begin = w.end = at;
+      w.hash = 0xcbf29ce484222325ULL;
       in_word = true;
     }
   };
@@ -149,6 +154,11 @@ void words(std::string_view s, Fn&& fn) {
       if (ascii_alpha(b) || ascii_digit(b) || b == '_') {
         open(i);
         if (b != '_') mix(static_cast<uint8_t>(ascii_alpha(b) ? (b | 0x20) : b));
+        w.underscore |= b == '_';
+        bool up = b >= 'A' && b <= 'Z';
+        w.camel |= up && i > w.begin && p[i - 1] >= 'a' && p[i - 1] <= 'z';
+        w.upper += up;
+        w.lower += b >= 'a' && b <= 'z';
         w.letters += ascii_alpha(b);
         w.digit |= ascii_digit(b);
         ++i;
@@ -176,34 +186,96 @@ void words(std::string_view s, Fn&& fn) {
   close(n);
 }
 
+// FNV-1a of each '_'-separated part of s[begin, end), ASCII lowercased
+// (the same hash Word::hash gives a word without '_').
+template <typename Fn>
+void part_hashes(std::string_view s, size_t begin, size_t end, Fn&& fn) {
+  uint64_t h = 0xcbf29ce484222325ULL;
+  bool any = false;
+  for (size_t i = begin; i <= end; ++i) {
+    if (i == end || s[i] == '_') {
+      if (any) fn(h);
+      h = 0xcbf29ce484222325ULL;
+      any = false;
+      continue;
+    }
+    auto b = static_cast<uint8_t>(s[i]);
+    h = (h ^ (ascii_alpha(b) ? (b | 0x20) : b)) * 0x100000001b3ULL;
+    any = true;
+  }
+}
+
+}  // namespace
+
+namespace {
+
+// The words of `other` as a hash set (open addressing, per-thread storage),
+// with the '_'-separated parts of words that hold '_'.
+class OtherWords {
+ public:
+  explicit OtherWords(std::string_view other) : set_(storage()) {
+    size_t cap = 16;
+    while (cap < 2 * other.size()) cap <<= 1;
+    set_.assign(cap, 0);
+    mask_ = cap - 1;
+    words(other, [&](const Word& w) {
+      add(w.hash);
+      if (w.underscore) part_hashes(other, w.begin, w.end, [&](uint64_t h) { add(h); });
+    });
+  }
+  // True when the word (or, for a word with '_', each of its parts) is there.
+  bool has(std::string_view side, const Word& w) const {
+    if (has(w.hash)) return true;
+    if (!w.underscore) return false;
+    bool all = true;
+    part_hashes(side, w.begin, w.end, [&](uint64_t h) { all &= has(h); });
+    return all;
+  }
+
+ private:
+  static std::vector<uint64_t>& storage() {
+    thread_local std::vector<uint64_t> v;
+    return v;
+  }
+  size_t slot(uint64_t h) const {
+    size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask_;
+    while (set_[k] != 0 && set_[k] != h) k = (k + 1) & mask_;
+    return k;
+  }
+  void add(uint64_t h) { set_[slot(h | 1)] = h | 1; }
+  bool has(uint64_t h) const { return set_[slot(h | 1)] == (h | 1); }
+  std::vector<uint64_t>& set_;  // 0 marks an empty slot
+  size_t mask_ = 0;
+};
+
 }  // namespace
 
 size_t own_text(std::string_view side, std::string_view other, std::string& out) {
-  thread_local std::vector<uint64_t> set;  // open addressing; 0 marks an empty slot
-  size_t cap = 16;
-  while (cap < other.size()) cap <<= 1;
-  set.assign(cap, 0);
-  size_t mask = cap - 1;
-  words(other, [&](const Word& w) {
-    uint64_t h = w.hash | 1;
-    size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
-    while (set[k] != 0 && set[k] != h) k = (k + 1) & mask;
-    set[k] = h;
-  });
+  OtherWords theirs(other);
   out.clear();
   size_t letters = 0;
   words(side, [&](const Word& w) {
-    if (w.digit || w.letters == 0) return;
-    uint64_t h = w.hash | 1;
-    size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask;
-    while (set[k] != 0 && set[k] != h) k = (k + 1) & mask;
-    if (set[k] == h) return;
+    if (w.digit || w.letters == 0 || w.camel) return;
+    if (w.underscore && w.letters == 1) return;                        // a menu accelerator: _F
+    if (w.upper >= 2 && w.lower == 0 && w.upper == w.letters) return;  // an acronym or metavariable: GID, FILE
+    if (theirs.has(side, w)) return;
     if (!out.empty()) out.push_back(' ');
     for (size_t i = w.begin; i < w.end; ++i)
       if (side[i] != '_') out.push_back(side[i]);
     letters += w.letters;
   });
   return letters;
+}
+
+WordShare shared_words(std::string_view side, std::string_view other) {
+  OtherWords theirs(other);
+  WordShare r;
+  words(side, [&](const Word& w) {
+    if (w.digit || w.letters == 0) return;
+    ++r.words;
+    r.shared += theirs.has(side, w);
+  });
+  return r;
 }
 
 }  // namespace sheaf

@@ -10,9 +10,13 @@
 //     variables ({0}, {name}, {{name}}), shell variables ($HOME, ${HOME});
 //   - white-space-separated tokens that are URLs (scheme://, www.), e-mail
 //     addresses (a '@' with a '.' after it) or options (-x, --name);
-//   - words (runs of letters, digits and '_') that hold a digit, or that
-//     also occur as words of the other side (ASCII letters compared without
-//     case; '_', a menu accelerator or identifier joint, is ignored).
+//   - words (runs of letters, digits and '_') that hold a digit; that are
+//     identifiers or names written in camel case (GSeekType, PostScript);
+//     that are acronyms or metavariables (two or more ASCII capitals and no
+//     other letter: GID, FILE); that are menu accelerators (one letter with
+//     '_': _F); or that also occur as words of the other side, or whose
+//     '_'-separated parts all do (ASCII letters compared without case; '_'
+//     itself is ignored).
 // What remains are the side's own words, separated by single spaces, and the
 // number of letters in them. Pure function; thread-safe (per-thread scratch).
 #pragma once
@@ -26,5 +30,13 @@ namespace sheaf {
 // Writes the own words of `side` (judged against `other`) to `out`, replacing
 // its contents; returns the number of letters (general category L*) in them.
 size_t own_text(std::string_view side, std::string_view other, std::string& out);
+
+// How much of `side` is copied from `other`: its words with letters (outside
+// markup, placeholders and skipped tokens, and without digits), and how many
+// of them also occur in `other` (compared as own_text compares them).
+struct WordShare {
+  size_t words = 0, shared = 0;
+};
+WordShare shared_words(std::string_view side, std::string_view other);
 
 }  // namespace sheaf
