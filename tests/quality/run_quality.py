@@ -31,10 +31,16 @@ CODE = {"pt_BR": "pt-BR", "zh_TW": "zh-TW"}
 FILTERS = ["normalize", "pattern", "length", "copy", "script", "dedup", "exclude", "language"]
 TARGETED = ["repeat-exact", "copy", "partial-copy", "wrong-lang", "wrong-lang-related", "wrong-lang-source", "bad-bytes",
             "damaged-markup"]
-# Targets and the margins the small slice is held to (ctest). On the slice a
-# language has about 300 genuine pairs, so one lost pair is 0.33 points.
-CHECKS = {"retention_min": 0.98, "recall_min": {k: 0.95 for k in TARGETED}}
-CHECKS["recall_min"].update({"repeat-exact": 1.0, "copy": 1.0, "bad-bytes": 1.0, "damaged-markup": 1.0})
+# What --check holds the small slice (--limit 300 --per-kind 30) to: the
+# figures measured on the full sets (docs/quality.md) less a margin for the
+# slice's size. With about 300 genuine pairs a language, one pair is 0.33
+# points, and with 30 negatives of a kind one pair is 3.3 points: so the
+# margins are one point of retention and about two pairs of recall, below
+# the lowest language's full-set figure. Kinds that every language removes
+# completely are held to 100%.
+CHECKS = {"retention_min": 0.97, "recall_min": {
+    "repeat-exact": 1.0, "copy": 1.0, "bad-bytes": 1.0, "damaged-markup": 1.0,
+    "partial-copy": 0.80, "wrong-lang": 0.88, "wrong-lang-source": 0.90, "wrong-lang-related": 0.55}}
 
 # What must survive unchanged on both sides, or go from both: placeholders
 # (printf, brace, shell and template variables, <metavariables>) and tags.
