@@ -132,6 +132,9 @@ double trigram_overlap(std::string_view a, std::string_view b) {
 
 namespace {
 
+// Trigram overlap (Dice) at or below which a pair is not examined further.
+constexpr double kNotCopy = 0.3;
+
 class CopyStage : public Stage {
  public:
   CopyStage(const StageContext& ctx, double max_overlap, double max_shared, int64_t min_words)
@@ -145,6 +148,13 @@ class CopyStage : public Stage {
       }
       // Too few words to tell a copy from a translation that looks alike
       // (names, cognates, a month's abbreviation): not judged.
+      // Counting shared words costs a scan of both sides. A pair whose
+      // character trigrams overlap by at most kNotCopy (the cheap upper
+      // bound says so) is no copy by either test: its Dice is below
+      // max_overlap, and a target with most of its words copied shares far
+      // more (the quality sets' partial copies: docs/quality.md).
+      if (trigram_overlap_bound(p.text[0], p.text[1], kNotCopy, known_chars(p, 0), known_chars(p, 1)) <= kNotCopy)
+        continue;
       WordShare w = shared_words(p.text[1], p.text[0]);
       if (w.words < min_words_) continue;
       if (max_shared_ < 1.0 && static_cast<double>(w.shared) >= max_shared_ * static_cast<double>(w.words)) {

@@ -181,6 +181,9 @@ LetterEvidence letter_evidence(std::string_view text, const USet* own, const USe
   return e;
 }
 
+// Bytes of a side's own text CLD2 is given.
+constexpr size_t kMaxBytes = 160;
+
 class LanguageStage : public Stage {
  public:
   LanguageStage(const StageContext& ctx, int64_t min_letters, int64_t min_share, std::vector<std::string> accept[2],
@@ -206,6 +209,15 @@ class LanguageStage : public Stage {
           continue;
         }
         ++judged[side];
+        // A sentence's language shows in its first words: CLD2 reads at most
+        // kMaxBytes of the own text (cut at a space), as its cost grows
+        // with the length.
+        if (own.size() > kMaxBytes) {
+          size_t cut = own.rfind(' ', kMaxBytes);
+          own.resize(cut == std::string::npos || cut == 0 ? kMaxBytes : cut);
+          while (!own.empty() && (static_cast<unsigned char>(own.back()) & 0xC0) == 0x80) own.pop_back();
+          if (!own.empty() && static_cast<unsigned char>(own.back()) >= 0xC0) own.pop_back();
+        }
         LanguageGuess g = identify_language(own);
         if (!g.reliable || g.percent[0] < min_share_) continue;
         std::string top = language_key(g.code[0]);
