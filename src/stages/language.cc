@@ -196,11 +196,15 @@ class LanguageStage : public Stage {
     }
   }
   void map(PairBatch& batch) override {
-    std::string own;
+    std::string owns[2];
+    size_t letters[2];
     uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0};
     for (Pair& p : batch.pairs) {
+      if (!p.kept()) continue;
+      own_texts(p.text[0], p.text[1], owns, letters);
       for (int side = 0; side < 2 && p.kept(); ++side) {
-        if (own_text(p.text[side], p.text[1 - side], own) < min_letters_) {
+        std::string& own = owns[side];
+        if (letters[side] < min_letters_) {
           ++few[side];
           continue;
         }

@@ -97,14 +97,6 @@ size_t span_at(std::string_view s, size_t i) {
   }
 }
 
-// True for a white-space-separated token that is an address or an option.
-bool skip_token(std::string_view t) {
-  if (t.size() >= 2 && t[0] == '-' && (t[1] == '-' || ascii_alpha(static_cast<unsigned char>(t[1])))) return true;
-  if (t.find("://") != std::string_view::npos || t.substr(0, 4) == "www.") return true;
-  size_t at = t.find('@');
-  return at != std::string_view::npos && at > 0 && t.find('.', at) != std::string_view::npos;
-}
-
 struct Word {
   size_t begin, end;
   size_t letters;
@@ -115,18 +107,26 @@ struct Word {
   uint64_t hash;         // FNV-1a of the bytes, ASCII lowercased, '_' left out
 };
 
-// Calls fn(word) for every word of `s` outside markup, placeholders and
-// skipped tokens.
-template <typename Fn>
-void words(std::string_view s, Fn&& fn) {
+// End of the token (white-space-separated) that holds s[i].
+inline size_t token_end(std::string_view s, size_t i) {
+  size_t e = s.find(' ', i);
+  return e == std::string_view::npos ? s.size() : e;
+}
+
+// Appends to `out` every word of `s` outside markup, placeholders and
+// skipped tokens (options, URLs, e-mail addresses). Tokens are found as the
+// scan meets them: an option by its first bytes, an address when its "://"
+// or '@' comes up, and then the words the token gave so far are taken back.
+void collect(std::string_view s, std::vector<Word>& out) {
+  out.clear();
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  size_t n = s.size(), i = 0, token_end = 0;
+  size_t n = s.size(), i = 0, token = 0;  // token: where the current token began
   Word w{};
   bool in_word = false;
   auto close = [&](size_t at) {
     if (in_word) {
       w.end = at;
-      fn(w);
+      out.push_back(w);
       in_word = false;
     }
   };
@@ -138,17 +138,13 @@ void words(std::string_view s, Fn&& fn) {
       in_word = true;
     }
   };
+  auto skip_rest = [&]() {  // drops the current token
+    in_word = false;
+    while (!out.empty() && out.back().begin >= token) out.pop_back();
+    i = token_end(s, i);
+  };
   auto mix = [&](uint8_t b) { w.hash = (w.hash ^ b) * 0x100000001b3ULL; };
   while (i < n) {
-    if (i >= token_end && p[i] != ' ') {  // the start of a token
-      size_t e = s.find(' ', i);
-      token_end = e == std::string_view::npos ? n : e;
-      if (skip_token(s.substr(i, token_end - i))) {
-        close(i);
-        i = token_end;
-        continue;
-      }
-    }
     uint8_t b = p[i];
     if (b < 0x80) {
       if (ascii_alpha(b) || ascii_digit(b) || b == '_') {
@@ -164,8 +160,31 @@ void words(std::string_view s, Fn&& fn) {
         ++i;
         continue;
       }
-      size_t k = span_at(s, i);
       close(i);
+      if (b == ' ') {
+        token = ++i;
+        continue;
+      }
+      if (i == token && b == '-' && i + 1 < n && (p[i + 1] == '-' || ascii_alpha(p[i + 1]))) {  // an option
+        skip_rest();
+        continue;
+      }
+      if (b == '.' && i == token + 3 && (s.substr(token, 3) == "www" || s.substr(token, 3) == "WWW")) {
+        skip_rest();
+        continue;
+      }
+      if (b == ':' && s.substr(i, 3) == "://") {
+        skip_rest();
+        continue;
+      }
+      if (b == '@' && i > token) {
+        size_t e = token_end(s, i);
+        if (s.find('.', i) < e) {
+          skip_rest();
+          continue;
+        }
+      }
+      size_t k = span_at(s, i);
       i += k ? k : 1;
       continue;
     }
@@ -209,19 +228,19 @@ void part_hashes(std::string_view s, size_t begin, size_t end, Fn&& fn) {
 
 namespace {
 
-// The words of `other` as a hash set (open addressing, per-thread storage),
-// with the '_'-separated parts of words that hold '_'.
+// The words of the other side as a hash set (open addressing, in storage
+// the caller lends), with the '_'-separated parts of words that hold '_'.
 class OtherWords {
  public:
-  explicit OtherWords(std::string_view other) : set_(storage()) {
+  OtherWords(std::string_view other, const std::vector<Word>& ws, std::vector<uint64_t>& storage) : set_(storage) {
     size_t cap = 16;
     while (cap < 2 * other.size()) cap <<= 1;
     set_.assign(cap, 0);
     mask_ = cap - 1;
-    words(other, [&](const Word& w) {
+    for (const Word& w : ws) {
       add(w.hash);
       if (w.underscore) part_hashes(other, w.begin, w.end, [&](uint64_t h) { add(h); });
-    });
+    }
   }
   // True when the word (or, for a word with '_', each of its parts) is there.
   bool has(std::string_view side, const Word& w) const {
@@ -233,10 +252,6 @@ class OtherWords {
   }
 
  private:
-  static std::vector<uint64_t>& storage() {
-    thread_local std::vector<uint64_t> v;
-    return v;
-  }
   size_t slot(uint64_t h) const {
     size_t k = (h * 0x9E3779B97F4A7C15ULL) >> 40 & mask_;
     while (set_[k] != 0 && set_[k] != h) k = (k + 1) & mask_;
@@ -248,33 +263,63 @@ class OtherWords {
   size_t mask_ = 0;
 };
 
-}  // namespace
+// Per-thread scratch: each side's words and each side's word set.
+struct Scratch {
+  std::vector<Word> words[2];
+  std::vector<uint64_t> sets[2];
+};
+Scratch& scratch() {
+  thread_local Scratch s;
+  return s;
+}
 
-size_t own_text(std::string_view side, std::string_view other, std::string& out) {
-  OtherWords theirs(other);
+// Writes the own words of `side` among `ws` to `out`; returns their letters.
+size_t own_words(std::string_view side, const std::vector<Word>& ws, const OtherWords& theirs, std::string& out) {
   out.clear();
   size_t letters = 0;
-  words(side, [&](const Word& w) {
-    if (w.digit || w.letters == 0 || w.camel) return;
-    if (w.underscore && w.letters == 1) return;                        // a menu accelerator: _F
-    if (w.upper >= 2 && w.lower == 0 && w.upper == w.letters) return;  // an acronym or metavariable: GID, FILE
-    if (theirs.has(side, w)) return;
+  for (const Word& w : ws) {
+    if (w.digit || w.letters == 0 || w.camel) continue;
+    if (w.underscore && w.letters == 1) continue;                        // a menu accelerator: _F
+    if (w.upper >= 2 && w.lower == 0 && w.upper == w.letters) continue;  // an acronym or metavariable: GID, FILE
+    if (theirs.has(side, w)) continue;
     if (!out.empty()) out.push_back(' ');
     for (size_t i = w.begin; i < w.end; ++i)
       if (side[i] != '_') out.push_back(side[i]);
     letters += w.letters;
-  });
+  }
   return letters;
 }
 
+}  // namespace
+
+size_t own_text(std::string_view side, std::string_view other, std::string& out) {
+  Scratch& s = scratch();
+  collect(side, s.words[0]);
+  collect(other, s.words[1]);
+  OtherWords theirs(other, s.words[1], s.sets[0]);
+  return own_words(side, s.words[0], theirs, out);
+}
+
+void own_texts(std::string_view source, std::string_view target, std::string out[2], size_t letters[2]) {
+  Scratch& s = scratch();
+  collect(source, s.words[0]);
+  collect(target, s.words[1]);
+  OtherWords of_target(target, s.words[1], s.sets[0]), of_source(source, s.words[0], s.sets[1]);
+  letters[0] = own_words(source, s.words[0], of_target, out[0]);
+  letters[1] = own_words(target, s.words[1], of_source, out[1]);
+}
+
 WordShare shared_words(std::string_view side, std::string_view other) {
-  OtherWords theirs(other);
+  Scratch& s = scratch();
+  collect(side, s.words[0]);
+  collect(other, s.words[1]);
+  OtherWords theirs(other, s.words[1], s.sets[0]);
   WordShare r;
-  words(side, [&](const Word& w) {
-    if (w.digit || w.letters == 0) return;
+  for (const Word& w : s.words[0]) {
+    if (w.digit || w.letters == 0) continue;
     ++r.words;
     r.shared += theirs.has(side, w);
-  });
+  }
   return r;
 }
 

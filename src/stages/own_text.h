@@ -30,6 +30,9 @@ namespace sheaf {
 // Writes the own words of `side` (judged against `other`) to `out`, replacing
 // its contents; returns the number of letters (general category L*) in them.
 size_t own_text(std::string_view side, std::string_view other, std::string& out);
+// Both sides' own texts at once (each side read once): out[0] and letters[0]
+// for the source, out[1] and letters[1] for the target.
+void own_texts(std::string_view source, std::string_view target, std::string out[2], size_t letters[2]);
 
 // How much of `side` is copied from `other`: its words with letters (outside
 // markup, placeholders and skipped tokens, and without digits), and how many

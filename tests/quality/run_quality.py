@@ -152,6 +152,8 @@ def main():
     ap.add_argument("--seed", type=int, default=13)
     ap.add_argument("--alone", action="store_true", help="also measure each filter stage by itself")
     ap.add_argument("--check", action="store_true", help="assert the targets (CHECKS); exit 1 on a miss")
+    ap.add_argument("--set", action="append", default=[], metavar="STAGE.KEY=VALUE",
+                    help="change one default (sheaf run --set) to measure another value")
     a = ap.parse_args()
     sheaf = os.path.abspath(a.sheaf)
     sets_dir = os.path.join(a.work, "sets")
@@ -170,7 +172,7 @@ def main():
         labels, text = load_labels(sets_dir, lang)
         tsv = os.path.join(sets_dir, lang + ".tsv")
         out = os.path.join(a.work, "run-" + lang)
-        dropped = run(sheaf, tsv, lang, out, sets=["split.dev=0", "split.test=0"])
+        dropped = run(sheaf, tsv, lang, out, sets=["split.dev=0", "split.test=0"] + a.set)
         f = figures(labels, dropped)
         # One-sided rewrites, on the kept pairs.
         kept_inputs = [tuple((text[n - 1].split("\t") + [""])[:2]) for n, _, _, _ in labels if n not in dropped]
