@@ -199,7 +199,7 @@ const StageKind& script_kind() {
       "drops pairs whose letters are mostly in the wrong script (cheap language check)",
       StageRole::kFilter,
       {
-          {"min_ratio", FieldType::kNumber, 0.9, "minimum fraction of a side's own letters in its expected scripts", 0, 1},
+          {"min_ratio", FieldType::kNumber, 0.5, "minimum fraction of a side's own letters in its expected scripts", 0, 1},
           {"min_letters", FieldType::kInt, int64_t{4}, "sides with fewer letters of their own are not judged", 0, 1e9},
           {"source_scripts", FieldType::kStringList, std::vector<std::string>{},
            "ISO 15924 codes for the source (empty: from source_lang)"},
