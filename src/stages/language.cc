@@ -9,6 +9,7 @@
 #include <unicode/uscript.h>
 #include <unicode/ulocdata.h>
 #include <unicode/uset.h>
+#include <xxhash.h>
 
 #include <algorithm>
 #include <atomic>
@@ -198,7 +199,7 @@ class LanguageStage : public Stage {
   void map(PairBatch& batch) override {
     std::string owns[2];
     size_t letters[2];
-    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0};
+    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, cached[2] = {0, 0};
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       own_texts(p.text[0], p.text[1], owns, letters);
@@ -222,28 +223,19 @@ class LanguageStage : public Stage {
           while (!own.empty() && (static_cast<unsigned char>(own.back()) & 0xC0) == 0x80) own.pop_back();
           if (!own.empty() && static_cast<unsigned char>(own.back()) >= 0xC0) own.pop_back();
         }
-        LanguageGuess g = identify_language(own);
-        if (!g.reliable || g.percent[0] < min_share_) continue;
-        std::string top = language_key(g.code[0]);
-        if (top == "un" || accepted(side, top)) continue;
-        int accepted_share = 0;
-        for (int k = 1; k < 3; ++k)
-          if (g.code[k] != "un" && accepted(side, language_key(g.code[k]))) accepted_share += g.percent[k];
-        if (accepted_share > 100 - min_share_) continue;
-        // CLD2 tells closely related languages apart poorly on short text,
-        // and answers English for text it cannot place (compact_lang_det.h).
-        // So the letters have a say: letters only the found language writes
-        // confirm the verdict, letters only the side's language writes
-        // overturn it; when they say nothing (or both), CLD2 is asked again,
-        // told which language to expect, and the verdict must stand.
-        LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(top));
-        if (e.for_own > 0 && e.for_found == 0) continue;
-        if (!(e.for_found > 0 && e.for_own == 0)) {
-          ++rechecked[side];
-          LanguageGuess h = identify_language(own, lang_[side]);
-          if (!h.reliable || language_key(h.code[0]) != top || h.percent[0] < min_share_) continue;
+        // The same own text on the same side gets the same verdict: a
+        // per-thread table remembers recent ones, so text that comes again
+        // (a source with several translations) is not asked about twice.
+        uint64_t h = XXH3_64bits_withSeed(own.data(), own.size(), id_ * 2 + static_cast<uint64_t>(side)) | 1;
+        CachedVerdict& slot = cache()[h & (kCacheSlots - 1)];
+        if (slot.key == h) {
+          ++cached[side];
+        } else {
+          slot.key = h;
+          slot.code = verdict(side, own, rechecked[side]);
         }
-        batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + g.code[0]);
+        if (slot.code.empty()) continue;
+        batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + slot.code);
       }
     }
     for (int s = 0; s < 2; ++s) {
@@ -251,6 +243,7 @@ class LanguageStage : public Stage {
       settled_[s].fetch_add(settled[s], std::memory_order_relaxed);
       few_[s].fetch_add(few[s], std::memory_order_relaxed);
       rechecked_[s].fetch_add(rechecked[s], std::memory_order_relaxed);
+      cached_[s].fetch_add(cached[s], std::memory_order_relaxed);
     }
   }
 
@@ -261,11 +254,49 @@ class LanguageStage : public Stage {
       c.emplace_back(std::string("settled-by-script:") + side_name(s), settled_[s].load());
       c.emplace_back(std::string("too-few-letters:") + side_name(s), few_[s].load());
       c.emplace_back(std::string("rechecked:") + side_name(s), rechecked_[s].load());
+      c.emplace_back(std::string("cached:") + side_name(s), cached_[s].load());
     }
     return c;
   }
 
  private:
+  struct CachedVerdict {
+    uint64_t key = 0;
+    std::string code;  // the language found, empty: keep
+  };
+  static constexpr size_t kCacheSlots = 4096;
+  static std::vector<CachedVerdict>& cache() {
+    thread_local std::vector<CachedVerdict> c(kCacheSlots);
+    return c;
+  }
+
+  // CLD2's verdict on a side's own text: the code of the other language it
+  // confidently finds, or empty to keep the pair.
+  std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
+    LanguageGuess g = identify_language(own);
+    if (!g.reliable || g.percent[0] < min_share_) return {};
+    std::string top = language_key(g.code[0]);
+    if (top == "un" || accepted(side, top)) return {};
+    int accepted_share = 0;
+    for (int k = 1; k < 3; ++k)
+      if (g.code[k] != "un" && accepted(side, language_key(g.code[k]))) accepted_share += g.percent[k];
+    if (accepted_share > 100 - min_share_) return {};
+    // CLD2 tells closely related languages apart poorly on short text,
+    // and answers English for text it cannot place (compact_lang_det.h).
+    // So the letters have a say: letters only the found language writes
+    // confirm the verdict, letters only the side's language writes
+    // overturn it; when they say nothing (or both), CLD2 is asked again,
+    // told which language to expect, and the verdict must stand.
+    LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(top));
+    if (e.for_own > 0 && e.for_found == 0) return {};
+    if (!(e.for_found > 0 && e.for_own == 0)) {
+      ++rechecked;
+      LanguageGuess h = identify_language(own, lang_[side]);
+      if (!h.reliable || language_key(h.code[0]) != top || h.percent[0] < min_share_) return {};
+    }
+    return g.code[0];
+  }
+
   bool accepted(int side, const std::string& key) const {
     return std::find(accept_[side].begin(), accept_[side].end(), key) != accept_[side].end();
   }
@@ -274,7 +305,14 @@ class LanguageStage : public Stage {
   int min_share_;
   std::vector<std::string> accept_[2];  // language keys accepted per side
   std::string lang_[2], key_[2];
-  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{};
+  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{}, cached_[2]{};
+  // Tells this stage's cached verdicts from another's (each stage object
+  // has its own, so two stages or two runs in one process never share).
+  uint64_t id_ = next_id();
+  static uint64_t next_id() {
+    static std::atomic<uint64_t> n{1};
+    return n.fetch_add(1);
+  }
 };
 
 }  // namespace

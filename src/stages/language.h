@@ -18,8 +18,12 @@
 // docs/pipeline.md). Codes compare as CLD2 reads them, by primary subtag
 // ("he" is CLD2's "iw", "zh-TW" is "zh-Hant", which is "zh").
 // Reason code: language:SIDE=CODE with the detected code.
-// Counters: judged:SIDE (sides CLD2 was asked about), settled-by-script:SIDE,
-// too-few-letters:SIDE.
+// CLD2 reads at most 160 bytes of the own text; a verdict is remembered per
+// thread (4,096 recent texts per side), so text that comes again is not
+// asked about twice.
+// Counters: judged:SIDE (sides that needed a verdict), settled-by-script:SIDE,
+// too-few-letters:SIDE, rechecked:SIDE (asked a second time, with the hint),
+// cached:SIDE (verdicts taken from the table).
 // CLD2's detection functions are thread-safe (compact_lang_det.h), so map()
 // runs in parallel. This is the slowest filter: put cheaper ones first.
 #pragma once
