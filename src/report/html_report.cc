@@ -178,6 +178,8 @@ std::string render_report(const std::string& summary_json) {
   for (const auto& s : j["funnel"]) {
     std::string reasons;
     for (auto& [k, v] : s["rejected"].items()) reasons += (reasons.empty() ? "" : ", ") + esc(k) + " " + num(v);
+    std::string changed = text_changes(s.dump());
+    if (!changed.empty()) reasons += (reasons.empty() ? "" : "; ") + esc(changed);
     o << "<tr><td>" << esc(s["name"]) << "</td><td>" << num(s["in"]) << "</td><td>"
       << num(s["in"].get<uint64_t>() - s["out"].get<uint64_t>()) << "</td><td style='text-align:left'>" << reasons << "</td></tr>";
   }
@@ -242,6 +244,19 @@ std::string render_report(const std::string& summary_json) {
   }
   o << "<p class='tick'>Written by sheaf. Figures: summary.json; every file: manifest.json.</p></body></html>\n";
   return o.str();
+}
+
+std::string text_changes(const std::string& stage_json) {
+  ordered_json s = ordered_json::parse(stage_json);
+  std::string out;
+  if (!s.contains("counters")) return out;
+  for (auto& [k, v] : s["counters"].items()) {
+    if (v.get<uint64_t>() == 0 || (k.rfind("rewritten:", 0) != 0 && k.rfind("changed:", 0) != 0)) continue;
+    std::string name = k;
+    for (char& c : name) c = c == ':' ? ' ' : c;
+    out += (out.empty() ? "" : ", ") + name + " " + std::to_string(v.get<uint64_t>());
+  }
+  return out;
 }
 
 }  // namespace sheaf

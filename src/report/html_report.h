@@ -9,4 +9,9 @@ namespace sheaf {
 
 std::string render_report(const std::string& summary_json);
 
+// The text changes a funnel stage of summary.json counted (its counters
+// named rewritten:RULE:SIDE and changed:SIDE that are not zero), as
+// "rewritten markup source 3, changed target 12"; empty if none.
+std::string text_changes(const std::string& stage_json);
+
 }  // namespace sheaf

@@ -141,6 +141,11 @@ Status write_summary(const StepInput& in, int threads) {
     }
     f["rejected"] = reasons;
     f["examples"] = examples;
+    if (!s.counters.empty()) {
+      ordered_json c = ordered_json::object();
+      for (const auto& [k, v] : s.counters) c[k] = v;
+      f["counters"] = c;
+    }
     funnel.push_back(f);
   }
   j["funnel"] = funnel;
@@ -238,6 +243,8 @@ static Result<std::string> summary_text_unchecked(const std::string& summary_jso
   for (const auto& s : j["funnel"]) {
     std::string reasons;
     for (auto& [k, v] : s["rejected"].items()) reasons += (reasons.empty() ? "" : ", ") + k + " " + num(v);
+    std::string changed = text_changes(s.dump());
+    if (!changed.empty()) reasons += (reasons.empty() ? "" : "; ") + changed;
     std::snprintf(buf, sizeof buf, "  %-14s %12s %12s  ", s["name"].get<std::string>().c_str(), num(s["in"]).c_str(),
                   num(s["in"].get<uint64_t>() - s["out"].get<uint64_t>()).c_str());
     o << buf << reasons << "\n";

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "core/text.h"
+#include "stages/own_text.h"
 
 namespace sheaf {
 
@@ -131,14 +132,33 @@ double trigram_overlap(std::string_view a, std::string_view b) {
 
 namespace {
 
+// Trigram overlap (Dice) at or below which a pair is not examined further.
+constexpr double kNotCopy = 0.3;
+
 class CopyStage : public Stage {
  public:
-  CopyStage(const StageContext& ctx, double max_overlap) : index_(ctx.index), max_overlap_(max_overlap) {}
+  CopyStage(const StageContext& ctx, double max_overlap, double max_shared, int64_t min_words)
+      : index_(ctx.index), max_overlap_(max_overlap), max_shared_(max_shared), min_words_(static_cast<size_t>(min_words)) {}
   void map(PairBatch& batch) override {
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       if (p.text[0] == p.text[1]) {
         batch.drop(p, index_, "copy:identical");
+        continue;
+      }
+      // Too few words to tell a copy from a translation that looks alike
+      // (names, cognates, a month's abbreviation): not judged.
+      // Counting shared words costs a scan of both sides. A pair whose
+      // character trigrams overlap by at most kNotCopy (the cheap upper
+      // bound says so) is no copy by either test: its Dice is below
+      // max_overlap, and a target with most of its words copied shares far
+      // more (the quality sets' partial copies: docs/quality.md).
+      if (trigram_overlap_bound(p.text[0], p.text[1], kNotCopy, known_chars(p, 0), known_chars(p, 1)) <= kNotCopy)
+        continue;
+      WordShare w = shared_words(p.text[1], p.text[0]);
+      if (w.words < min_words_) continue;
+      if (max_shared_ < 1.0 && static_cast<double>(w.shared) >= max_shared_ * static_cast<double>(w.words)) {
+        batch.drop(p, index_, "copy:words");
       } else if (max_overlap_ < 1.0 && could_overlap(p.text[0], p.text[1]) &&
                  trigram_overlap_bound(p.text[0], p.text[1], max_overlap_, known_chars(p, 0), known_chars(p, 1)) >
                      max_overlap_ &&
@@ -163,7 +183,8 @@ class CopyStage : public Stage {
     return c == kUnmeasured ? SIZE_MAX : c;
   }
   int index_;
-  double max_overlap_;
+  double max_overlap_, max_shared_;
+  size_t min_words_;
 };
 
 }  // namespace
@@ -175,13 +196,19 @@ const StageKind& copy_kind() {
       StageRole::kFilter,
       {
           {"max_overlap", FieldType::kNumber, 0.8,
-           "drop when the sides' character-trigram overlap (Dice) is above this; 1 = identical only", 0, 1},
+           "drop when the sides' character-trigram overlap (Dice) is above this; 1 = off", 0, 1},
+          {"max_shared_words", FieldType::kNumber, 0.75,
+           "drop when at least this share of the target's words occur in the source; 1 = off", 0, 1},
+          {"min_words", FieldType::kInt, int64_t{3},
+           "targets with fewer words are judged only for being identical to the source", 0, 1e9},
       }};
   return k;
 }
 
 Result<std::unique_ptr<Stage>> make_copy(const StageContext& ctx) {
-  return std::unique_ptr<Stage>(std::make_unique<CopyStage>(ctx, ctx.spec->params.number("max_overlap")));
+  const Params& p = ctx.spec->params;
+  return std::unique_ptr<Stage>(std::make_unique<CopyStage>(ctx, p.number("max_overlap"), p.number("max_shared_words"),
+                                                            p.integer("min_words")));
 }
 
 }  // namespace sheaf

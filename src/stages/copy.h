@@ -1,10 +1,14 @@
 // copy: drops untranslated pairs.
 //
-// "copy:identical" when both sides are the same text; "copy:overlap" when the
-// sides share too much: the Dice coefficient of their multisets of character
-// trigrams (lowercased, spaces kept) exceeds max_overlap. Translations between
-// related languages share letters but rarely whole trigram sequences; a side
-// copied with small edits shares almost all of them. Thread-safe; no state.
+// "copy:identical" when both sides are the same text. A target with fewer
+// than min_words words (stages/own_text.h's words: no placeholders, options,
+// addresses or words with digits) is judged no further: names, numbers and
+// cognates look like copies and are translations. Longer targets:
+// "copy:words" when at least max_shared_words of the target's words occur in
+// the source (a partial copy), "copy:overlap" when the Dice coefficient of
+// the sides' multisets of character trigrams (lowercased, spaces kept)
+// exceeds max_overlap. Pairs whose cheap trigram bound is at most 0.3 are
+// neither. Thread-safe; no state.
 #pragma once
 
 #include <string_view>

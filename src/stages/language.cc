@@ -2,34 +2,28 @@
 
 #include <cstdio>  // CLD2's public header needs it first
 #include <cld2/public/compact_lang_det.h>
+#include <cld2/public/encodings.h>
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
 
+#include <unicode/uscript.h>
+#include <unicode/ulocdata.h>
+#include <unicode/uset.h>
+#include <xxhash.h>
+
 #include <algorithm>
+#include <atomic>
+#include <map>
+#include <mutex>
 #include <vector>
+
+#include "stages/own_text.h"
 
 namespace sheaf {
 
 namespace {
 
 std::string primary(std::string_view code) { return std::string(code.substr(0, code.find_first_of("-_"))); }
-
-size_t count_letters(std::string_view s) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  size_t letters = 0;
-  while (i < n) {
-    if (p[i] < 0x80) {
-      letters += ((p[i] | 0x20) >= 'a' && (p[i] | 0x20) <= 'z');
-      ++i;
-      continue;
-    }
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
-    if (c >= 0 && u_isalpha(c)) ++letters;
-  }
-  return letters;
-}
 
 }  // namespace
 
@@ -51,41 +45,274 @@ std::vector<std::string> related_languages(std::string_view lang) {
   return {};
 }
 
-LanguageGuess identify_language(std::string_view text) {
+LanguageGuess identify_language(std::string_view text, std::string_view hint) {
+  CLD2::CLDHints hints{nullptr, nullptr, CLD2::UNKNOWN_ENCODING, CLD2::UNKNOWN_LANGUAGE};
+  if (!hint.empty()) hints.language_hint = CLD2::GetLanguageFromName(std::string(hint).c_str());
+  CLD2::Language lang3[3];
+  int percent3[3];
+  double score3[3];
+  int text_bytes = 0;
   bool reliable = false;
-  CLD2::Language lang = CLD2::DetectLanguage(text.data(), static_cast<int>(text.size()), true, &reliable);
-  return {CLD2::LanguageCode(lang), reliable};
+  CLD2::ExtDetectLanguageSummary(text.data(), static_cast<int>(text.size()), true, &hints, 0, lang3, percent3, score3,
+                                 nullptr, &text_bytes, &reliable);
+  LanguageGuess g;
+  for (int k = 0; k < 3; ++k) {
+    g.code[k] = CLD2::LanguageCode(lang3[k]);
+    g.percent[k] = percent3[k];
+  }
+  g.reliable = reliable;
+  return g;
 }
 
 bool cld2_knows(std::string_view code) {
   std::string c(code);
-  return CLD2::GetLanguageFromName(c.c_str()) != CLD2::UNKNOWN_LANGUAGE;
+  return CLD2::GetLanguageFromName(c.c_str()) != CLD2::UNKNOWN_LANGUAGE ||
+         CLD2::GetLanguageFromName(primary(code).c_str()) != CLD2::UNKNOWN_LANGUAGE;
+}
+
+std::string language_key(std::string_view code) {
+  std::string c(code);
+  CLD2::Language l = CLD2::GetLanguageFromName(c.c_str());
+  if (l == CLD2::UNKNOWN_LANGUAGE) l = CLD2::GetLanguageFromName(primary(code).c_str());
+  return l == CLD2::UNKNOWN_LANGUAGE ? primary(code) : primary(CLD2::LanguageCode(l));
 }
 
 namespace {
 
+// Scripts that, among the languages CLD2 knows, only one language is written
+// in (CLD2 itself detects these languages by script alone, see
+// kCLDFlagScoreAsQuads in compact_lang_det.h). A side whose own letters are
+// all in such a script of its own language needs no identification.
+const char* sole_language_of_script(UScriptCode s) {
+  switch (s) {
+    case USCRIPT_THAI: return "th";
+    case USCRIPT_GREEK: return "el";
+    case USCRIPT_HANGUL: return "ko";
+    case USCRIPT_HIRAGANA: case USCRIPT_KATAKANA: return "ja";
+    case USCRIPT_GEORGIAN: return "ka";
+    case USCRIPT_ARMENIAN: return "hy";
+    case USCRIPT_KHMER: return "km";
+    case USCRIPT_LAO: return "lo";
+    case USCRIPT_SINHALA: return "si";
+    case USCRIPT_TAMIL: return "ta";
+    case USCRIPT_TELUGU: return "te";
+    case USCRIPT_KANNADA: return "kn";
+    case USCRIPT_MALAYALAM: return "ml";
+    case USCRIPT_GUJARATI: return "gu";
+    case USCRIPT_GURMUKHI: return "pa";
+    case USCRIPT_ORIYA: return "or";
+    case USCRIPT_MYANMAR: return "my";
+    case USCRIPT_THAANA: return "dv";
+    default: return nullptr;
+  }
+}
+
+// True when every letter of `own` is in a script whose sole language is
+// `key` (kana and Han together count for Japanese only when kana appear).
+bool settled_by_script(std::string_view own, const std::string& key) {
+  bool any = false;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(own.data());
+  int32_t n = static_cast<int32_t>(own.size()), i = 0;
+  while (i < n) {
+    if (p[i] < 0x80) {
+      if (static_cast<unsigned>((p[i] | 0x20) - 'a') < 26u) return false;
+      ++i;
+      continue;
+    }
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
+    UErrorCode st = U_ZERO_ERROR;
+    const char* sole = sole_language_of_script(uscript_getScript(c, &st));
+    if (!sole || key != sole) return false;
+    any = true;
+  }
+  return any;
+}
+
+
+// The standard exemplar characters of a language (CLDR, through ICU's
+// ulocdata_getExemplarSet): the letters its everyday orthography uses.
+// Frozen sets are safe to query from many threads; each language's set is
+// built once, on first use (only drop candidates need one).
+const USet* exemplars(const std::string& code) {
+  static std::mutex mu;
+  static std::map<std::string, USet*> sets;
+  std::lock_guard<std::mutex> lock(mu);
+  auto it = sets.find(code);
+  if (it != sets.end()) return it->second;
+  UErrorCode st = U_ZERO_ERROR;
+  ULocaleData* d = ulocdata_open(code.c_str(), &st);
+  USet* set = nullptr;
+  if (U_SUCCESS(st)) {
+    set = ulocdata_getExemplarSet(d, nullptr, 0, ULOCDATA_ES_STANDARD, &st);
+    if (U_FAILURE(st) || st == U_USING_DEFAULT_WARNING) {
+      if (set) uset_close(set);
+      set = nullptr;
+    } else {
+      uset_freeze(set);
+    }
+  }
+  if (d) ulocdata_close(d);
+  sets[code] = set;  // nullptr: no data, no evidence either way
+  return set;
+}
+
+// What the letters of `text` say between the side's language (exemplars
+// `own`) and the language CLD2 found (`found`): letters only `found` uses,
+// and letters only `own` uses (lowercased; letters in neither or both say
+// nothing).
+struct LetterEvidence {
+  size_t for_found = 0, for_own = 0;
+};
+LetterEvidence letter_evidence(std::string_view text, const USet* own, const USet* found) {
+  LetterEvidence e;
+  if (!own || !found) return e;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  while (i < n) {
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
+    c = u_tolower(c);
+    bool a = uset_contains(own, c), b = uset_contains(found, c);
+    e.for_found += !a && b;
+    e.for_own += a && !b;
+  }
+  return e;
+}
+
+// Bytes of a side's own text CLD2 is given.
+constexpr size_t kMaxBytes = 160;
+
 class LanguageStage : public Stage {
  public:
-  LanguageStage(const StageContext& ctx, int64_t min_letters, std::vector<std::string> accept[2])
-      : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)) {
-    for (int s = 0; s < 2; ++s) accept_[s] = std::move(accept[s]);
+  LanguageStage(const StageContext& ctx, int64_t min_letters, int64_t min_share, std::vector<std::string> accept[2],
+                std::string lang[2])
+      : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)), min_share_(static_cast<int>(min_share)) {
+    for (int s = 0; s < 2; ++s) {
+      accept_[s] = std::move(accept[s]);
+      lang_[s] = std::move(lang[s]);
+      key_[s] = language_key(lang_[s]);
+    }
   }
   void map(PairBatch& batch) override {
+    std::string owns[2];
+    size_t letters[2];
+    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, cached[2] = {0, 0};
     for (Pair& p : batch.pairs) {
+      if (!p.kept()) continue;
+      own_texts(p.text[0], p.text[1], owns, letters);
       for (int side = 0; side < 2 && p.kept(); ++side) {
-        if (count_letters(p.text[side]) < min_letters_) continue;
-        LanguageGuess g = identify_language(p.text[side]);
-        if (!g.reliable || g.code == "un") continue;
-        std::string got = primary(g.code);
-        if (std::find(accept_[side].begin(), accept_[side].end(), got) == accept_[side].end()) batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + g.code);
+        std::string& own = owns[side];
+        if (letters[side] < min_letters_) {
+          ++few[side];
+          continue;
+        }
+        if (settled_by_script(own, key_[side])) {
+          ++settled[side];
+          continue;
+        }
+        ++judged[side];
+        // A sentence's language shows in its first words: CLD2 reads at most
+        // kMaxBytes of the own text (cut at a space), as its cost grows
+        // with the length.
+        if (own.size() > kMaxBytes) {
+          size_t cut = own.rfind(' ', kMaxBytes);
+          own.resize(cut == std::string::npos || cut == 0 ? kMaxBytes : cut);
+          while (!own.empty() && (static_cast<unsigned char>(own.back()) & 0xC0) == 0x80) own.pop_back();
+          if (!own.empty() && static_cast<unsigned char>(own.back()) >= 0xC0) own.pop_back();
+        }
+        // The same own text on the same side gets the same verdict: a
+        // per-thread table remembers recent ones, so text that comes again
+        // (a source with several translations) is not asked about twice.
+        uint64_t h = XXH3_64bits_withSeed(own.data(), own.size(), id_ * 2 + static_cast<uint64_t>(side)) | 1;
+        CachedVerdict& slot = cache()[h & (kCacheSlots - 1)];
+        if (slot.key == h) {
+          ++cached[side];
+        } else {
+          slot.key = h;
+          slot.code = verdict(side, own, rechecked[side]);
+        }
+        if (slot.code.empty()) continue;
+        batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + slot.code);
       }
+    }
+    for (int s = 0; s < 2; ++s) {
+      judged_[s].fetch_add(judged[s], std::memory_order_relaxed);
+      settled_[s].fetch_add(settled[s], std::memory_order_relaxed);
+      few_[s].fetch_add(few[s], std::memory_order_relaxed);
+      rechecked_[s].fetch_add(rechecked[s], std::memory_order_relaxed);
+      cached_[s].fetch_add(cached[s], std::memory_order_relaxed);
     }
   }
 
+  std::vector<std::pair<std::string, uint64_t>> counters() const override {
+    std::vector<std::pair<std::string, uint64_t>> c;
+    for (int s = 0; s < 2; ++s) {
+      c.emplace_back(std::string("judged:") + side_name(s), judged_[s].load());
+      c.emplace_back(std::string("settled-by-script:") + side_name(s), settled_[s].load());
+      c.emplace_back(std::string("too-few-letters:") + side_name(s), few_[s].load());
+      c.emplace_back(std::string("rechecked:") + side_name(s), rechecked_[s].load());
+      c.emplace_back(std::string("cached:") + side_name(s), cached_[s].load());
+    }
+    return c;
+  }
+
  private:
+  struct CachedVerdict {
+    uint64_t key = 0;
+    std::string code;  // the language found, empty: keep
+  };
+  static constexpr size_t kCacheSlots = 4096;
+  static std::vector<CachedVerdict>& cache() {
+    thread_local std::vector<CachedVerdict> c(kCacheSlots);
+    return c;
+  }
+
+  // CLD2's verdict on a side's own text: the code of the other language it
+  // confidently finds, or empty to keep the pair.
+  std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
+    LanguageGuess g = identify_language(own);
+    if (!g.reliable || g.percent[0] < min_share_) return {};
+    std::string top = language_key(g.code[0]);
+    if (top == "un" || accepted(side, top)) return {};
+    int accepted_share = 0;
+    for (int k = 1; k < 3; ++k)
+      if (g.code[k] != "un" && accepted(side, language_key(g.code[k]))) accepted_share += g.percent[k];
+    if (accepted_share > 100 - min_share_) return {};
+    // CLD2 tells closely related languages apart poorly on short text,
+    // and answers English for text it cannot place (compact_lang_det.h).
+    // So the letters have a say: letters only the found language writes
+    // confirm the verdict, letters only the side's language writes
+    // overturn it; when they say nothing (or both), CLD2 is asked again,
+    // told which language to expect, and the verdict must stand.
+    LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(top));
+    if (e.for_own > 0 && e.for_found == 0) return {};
+    if (!(e.for_found > 0 && e.for_own == 0)) {
+      ++rechecked;
+      LanguageGuess h = identify_language(own, lang_[side]);
+      if (!h.reliable || language_key(h.code[0]) != top || h.percent[0] < min_share_) return {};
+    }
+    return g.code[0];
+  }
+
+  bool accepted(int side, const std::string& key) const {
+    return std::find(accept_[side].begin(), accept_[side].end(), key) != accept_[side].end();
+  }
   int index_;
   size_t min_letters_;
-  std::vector<std::string> accept_[2];  // primary subtags accepted per side
+  int min_share_;
+  std::vector<std::string> accept_[2];  // language keys accepted per side
+  std::string lang_[2], key_[2];
+  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{}, cached_[2]{};
+  // Tells this stage's cached verdicts from another's (each stage object
+  // has its own, so two stages or two runs in one process never share).
+  uint64_t id_ = next_id();
+  static uint64_t next_id() {
+    static std::atomic<uint64_t> n{1};
+    return n.fetch_add(1);
+  }
 };
 
 }  // namespace
@@ -96,9 +323,11 @@ const StageKind& language_kind() {
       "language identification with CLD2 (the slowest filter: keep it late)",
       StageRole::kFilter,
       {
-          {"min_letters", FieldType::kInt, int64_t{20}, "sides with fewer letters are not judged", 0, 1e9},
-          {"accept_related", FieldType::kBool, true,
-           "also accept close relatives CLD2 confuses on short text (es: gl, ca, pt; see docs)"},
+          {"min_letters", FieldType::kInt, int64_t{20}, "sides with fewer letters of their own are not judged", 0, 1e9},
+          {"min_share", FieldType::kInt, int64_t{60},
+           "percent of a side's own text CLD2 must give to another language to drop the pair", 1, 100},
+          {"accept_related", FieldType::kBool, false,
+           "also accept close relatives (es: gl, ca, pt; see docs); off: they count as other languages"},
           {"source_accept", FieldType::kStringList, std::vector<std::string>{},
            "further language codes accepted on the source side"},
           {"target_accept", FieldType::kStringList, std::vector<std::string>{},
@@ -120,12 +349,14 @@ Result<std::unique_ptr<Stage>> make_language(const StageContext& ctx) {
   std::vector<std::string> accept[2];
   for (int side = 0; side < 2; ++side) {
     const std::string& lang = side == 0 ? ctx.pipeline->corpus.source_lang : ctx.pipeline->corpus.target_lang;
-    accept[side].push_back(primary(lang));
+    accept[side].push_back(language_key(lang));
     if (p.flag("accept_related"))
-      for (const auto& r : related_languages(lang)) accept[side].push_back(primary(r));
-    for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(primary(a));
+      for (const auto& r : related_languages(lang)) accept[side].push_back(language_key(r));
+    for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(language_key(a));
   }
-  return std::unique_ptr<Stage>(std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), accept));
+  std::string langs[2] = {ctx.pipeline->corpus.source_lang, ctx.pipeline->corpus.target_lang};
+  return std::unique_ptr<Stage>(
+      std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), p.integer("min_share"), accept, langs));
 }
 
 }  // namespace sheaf

@@ -336,6 +336,7 @@ class NormalizeStage : public Stage {
 
   void map(PairBatch& batch) override {
     std::string out;
+    uint64_t changed[2] = {0, 0};
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       for (int side = 0; side < 2 && p.kept(); ++side) {
@@ -344,6 +345,9 @@ class NormalizeStage : public Stage {
           case TextNormalizer::Outcome::kUnchanged:
             break;
           case TextNormalizer::Outcome::kRewritten:
+            // kRewritten can hand back the same bytes (the slow path ran but
+            // found nothing to change): only a real change is counted.
+            if (out != p.text[side]) ++changed[side];
             p.set_text(side, batch.arena.copy(out));
             break;
           case TextNormalizer::Outcome::kInvalidUtf8:
@@ -353,6 +357,7 @@ class NormalizeStage : public Stage {
         if (repairs) repaired_.fetch_add(repairs, std::memory_order_relaxed);
       }
     }
+    for (int side = 0; side < 2; ++side) changed_[side].fetch_add(changed[side], std::memory_order_relaxed);
   }
 
   bool rewrite(std::string& text, int side) const override {
@@ -364,13 +369,16 @@ class NormalizeStage : public Stage {
   }
 
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
-    return {{"repaired_utf8", repaired_.load()}};
+    return {{"repaired_utf8", repaired_.load()},
+            {"changed:source", changed_[0].load()},
+            {"changed:target", changed_[1].load()}};
   }
 
  private:
   int index_;
   TextNormalizer norm_;
   std::atomic<uint64_t> repaired_{0};
+  std::atomic<uint64_t> changed_[2]{};  // pairs whose side the stage changed
 };
 
 }  // namespace

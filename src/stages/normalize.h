@@ -18,7 +18,8 @@
 // Steps 2-3 run again when 5 changed the text, so the result is both
 // normalized and clean. After this stage no side holds a TAB, CR or LF.
 // Text that is already clean ASCII is recognized in one scan and not copied.
-// Thread-safe: map() keeps no state but atomic counters.
+// Counters: repaired_utf8, changed:source, changed:target (pairs whose side
+// the stage changed). Thread-safe: map() keeps no state but atomic counters.
 #pragma once
 
 #include <atomic>

@@ -2,7 +2,11 @@
 
 #include <re2/re2.h>
 
+#include <algorithm>
+#include <atomic>
+
 #include "core/text.h"
+#include "stages/markup.h"
 
 namespace sheaf {
 
@@ -16,15 +20,25 @@ struct Rule {
   std::string replacement;
 };
 
+// Counters of one rewrite (or of markup) per side: pairs whose side it changed.
+struct SideCounts {
+  std::atomic<uint64_t> n[2]{};
+};
+
 class PatternStage : public Stage {
  public:
-  PatternStage(const StageContext& ctx, std::vector<Rule> rules) : index_(ctx.index), rules_(std::move(rules)) {}
+  PatternStage(const StageContext& ctx, std::vector<Rule> rules, bool strip_markup)
+      : index_(ctx.index), rules_(std::move(rules)), strip_markup_(strip_markup), rewritten_(rules_.size()) {}
 
   void map(PairBatch& batch) override {
     std::string buf;
+    std::vector<uint64_t> rewritten(2 * rules_.size());
+    uint64_t markup[2] = {0, 0}, entities[2] = {0, 0};
     for (Pair& p : batch.pairs) {
-      for (const Rule& r : rules_) {
-        if (!p.kept()) break;
+      if (!p.kept()) continue;
+      if (strip_markup_ && !strip(batch, p, markup, entities)) continue;
+      for (size_t k = 0; k < rules_.size() && p.kept(); ++k) {
+        const Rule& r = rules_[k];
         for (int side = 0; side < 2 && p.kept(); ++side) {
           if (!r.side[side]) continue;
           std::string_view t = p.text[side];
@@ -36,26 +50,102 @@ class PatternStage : public Stage {
           buf.assign(t);
           RE2::GlobalReplace(&buf, *r.re, r.replacement);
           collapse_spaces(buf);
+          if (buf.empty()) {
+            batch.drop(p, index_, std::string("emptied:") + side_name(side));
+            break;
+          }
+          ++rewritten[2 * k + static_cast<size_t>(side)];
           p.set_text(side, batch.arena.copy(buf));
         }
       }
     }
+    for (size_t k = 0; k < rules_.size(); ++k)
+      for (int side = 0; side < 2; ++side)
+        rewritten_[k].n[side].fetch_add(rewritten[2 * k + static_cast<size_t>(side)], std::memory_order_relaxed);
+    for (int side = 0; side < 2; ++side) {
+      markup_.n[side].fetch_add(markup[side], std::memory_order_relaxed);
+      entities_.n[side].fetch_add(entities[side], std::memory_order_relaxed);
+    }
   }
 
   bool rewrite(std::string& text, int side) const override {
+    if (strip_markup_) {
+      std::string out = remove_markup(text, find_markup(text));
+      collapse_spaces(out);
+      if (out.empty()) return false;
+      text.swap(out);
+    }
     for (const Rule& r : rules_) {
       if (!r.side[side]) continue;
       if (!RE2::PartialMatch(text, *r.re)) continue;
       if (r.drop) return false;
       RE2::GlobalReplace(&text, *r.re, r.replacement);
       collapse_spaces(text);
+      if (text.empty()) return false;
     }
     return true;
   }
 
+  std::vector<std::pair<std::string, uint64_t>> counters() const override {
+    std::vector<std::pair<std::string, uint64_t>> c;
+    for (int side = 0; side < 2; ++side) {
+      if (strip_markup_) {
+        c.emplace_back(std::string("rewritten:markup:") + side_name(side), markup_.n[side].load());
+        c.emplace_back(std::string("rewritten:entities:") + side_name(side), entities_.n[side].load());
+      }
+      for (size_t k = 0; k < rules_.size(); ++k)
+        if (!rules_[k].drop)
+          c.emplace_back("rewritten:" + rules_[k].name + ":" + side_name(side), rewritten_[k].n[side].load());
+    }
+    return c;
+  }
+
  private:
+  // Takes markup out of both sides alike: when both hold the same tags
+  // (element and kind, in any order) they go from both; when the tags differ
+  // the pair is dropped, since removing them could leave one side saying
+  // what the other does not. Entities are decoded on each side. Returns
+  // false when the pair was dropped.
+  bool strip(PairBatch& batch, Pair& p, uint64_t markup[2], uint64_t entities[2]) const {
+    bool any = false;
+    for (int side = 0; side < 2; ++side)
+      any |= p.text[side].find('<') != std::string_view::npos || p.text[side].find('&') != std::string_view::npos;
+    if (!any) return true;
+    std::vector<MarkupTag> tags[2] = {find_markup(p.text[0]), find_markup(p.text[1])};
+    std::vector<std::string> keys[2];
+    for (int side = 0; side < 2; ++side) {
+      for (const auto& t : tags[side]) keys[side].push_back(t.key);
+      std::sort(keys[side].begin(), keys[side].end());
+    }
+    if (keys[0] != keys[1]) {
+      batch.drop(p, index_, "markup:unpaired");
+      return false;
+    }
+    std::string out[2];
+    size_t decoded[2] = {0, 0};
+    for (int side = 0; side < 2; ++side) {
+      if (tags[side].empty() && p.text[side].find('&') == std::string_view::npos) continue;
+      out[side] = remove_markup(p.text[side], tags[side], &decoded[side]);
+      collapse_spaces(out[side]);
+      if (out[side].empty()) {
+        batch.drop(p, index_, std::string("emptied:") + side_name(side));
+        return false;
+      }
+    }
+    for (int side = 0; side < 2; ++side) {
+      if (tags[side].empty() && decoded[side] == 0) continue;
+      markup[side] += !tags[side].empty();
+      entities[side] += decoded[side] != 0;
+      if (out[side] != p.text[side]) p.set_text(side, batch.arena.copy(out[side]));
+    }
+    return true;
+  }
+
   int index_;
   std::vector<Rule> rules_;
+  bool strip_markup_;
+  std::vector<SideCounts> rewritten_;  // per rule
+  SideCounts markup_, entities_;
 };
 
 const FieldList& rule_fields() {
@@ -84,17 +174,18 @@ const StageKind& pattern_kind() {
       return p;
     };
     return std::vector<Params>{
-        rule("html-tag", "</?[A-Za-z][^<>]{0,200}>", "rewrite", " "),
-        rule("html-entity", "&(nbsp|#160|#xA0);", "rewrite", " "),
         rule("email", "[A-Za-z0-9._%+-]+@[A-Za-z0-9-]+(\\.[A-Za-z0-9-]+)+", "drop", ""),
         rule("url", "(https?://|www\\.)\\S+", "drop", ""),
     };
   }();
   static const StageKind k{
       "pattern",
-      "RE2 rules that drop pairs or rewrite matches (markup, URLs, e-mail addresses)",
+      "HTML markup out of both sides alike; RE2 rules that drop pairs or rewrite matches (URLs, e-mail addresses)",
       StageRole::kFilter,
       {
+          {"markup", FieldType::kChoice, std::string("strip"),
+           "strip: HTML tags out of both sides when both hold the same, else drop the pair; keep: leave them", 0, 0,
+           {"strip", "keep"}},
           {"rules", FieldType::kTableList, kDefaultRules,
            "rules in order: { name, pattern, side = source|target|both, action = drop|rewrite, replacement }", 0, 0,
            {}, &rule_fields()},
@@ -131,7 +222,8 @@ Result<std::unique_ptr<Stage>> make_pattern(const StageContext& ctx) {
                    p.where("replacement").empty() ? where : p.where("replacement"));
     rules.push_back(std::move(r));
   }
-  return std::unique_ptr<Stage>(std::make_unique<PatternStage>(ctx, std::move(rules)));
+  return std::unique_ptr<Stage>(
+      std::make_unique<PatternStage>(ctx, std::move(rules), ctx.spec->params.text("markup") == "strip"));
 }
 
 }  // namespace sheaf

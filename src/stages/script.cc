@@ -8,6 +8,7 @@
 #include <map>
 
 #include "core/text.h"
+#include "stages/own_text.h"
 
 namespace sheaf {
 
@@ -157,22 +158,37 @@ namespace {
 
 class ScriptStage : public Stage {
  public:
-  ScriptStage(const StageContext& ctx, std::vector<UScriptCode> s, std::vector<UScriptCode> t, double min_ratio)
-      : index_(ctx.index), tables_{ScriptTable(std::move(s)), ScriptTable(std::move(t))}, min_ratio_(min_ratio) {}
+  ScriptStage(const StageContext& ctx, std::vector<UScriptCode> s, std::vector<UScriptCode> t, double min_ratio,
+              int64_t min_letters)
+      : index_(ctx.index),
+        tables_{ScriptTable(std::move(s)), ScriptTable(std::move(t))},
+        min_ratio_(min_ratio),
+        min_letters_(static_cast<size_t>(min_letters)) {}
   void map(PairBatch& batch) override {
+    std::string own;
     for (Pair& p : batch.pairs) {
       for (int side = 0; side < 2 && p.kept(); ++side) {
-        ScriptCount c = tables_[side].count(p.text[side]);
-        if (c.letters > 0 && static_cast<double>(c.expected) < min_ratio_ * static_cast<double>(c.letters))
+        // The whole side first: taking text out can only lower the share of
+        // the expected scripts when the other side holds this side's script
+        // (a copy, which the copy stage judges), so a side that passes whole
+        // passes, and only the others pay for their own text.
+        if (passes(tables_[side].count(p.text[side]), 1)) continue;
+        if (own_text(p.text[side], p.text[1 - side], own) < min_letters_) continue;
+        if (!passes(tables_[side].count(own), min_letters_))
           batch.drop(p, index_, std::string("script:") + side_name(side));
       }
     }
   }
 
  private:
+  bool passes(ScriptCount c, size_t min_letters) const {
+    return c.letters < min_letters ||
+           static_cast<double>(c.expected) >= min_ratio_ * static_cast<double>(c.letters);
+  }
   int index_;
   ScriptTable tables_[2];
   double min_ratio_;
+  size_t min_letters_;
 };
 
 }  // namespace
@@ -183,7 +199,8 @@ const StageKind& script_kind() {
       "drops pairs whose letters are mostly in the wrong script (cheap language check)",
       StageRole::kFilter,
       {
-          {"min_ratio", FieldType::kNumber, 0.9, "minimum fraction of a side's letters in its expected scripts", 0, 1},
+          {"min_ratio", FieldType::kNumber, 0.5, "minimum fraction of a side's own letters in its expected scripts", 0, 1},
+          {"min_letters", FieldType::kInt, int64_t{4}, "sides with fewer letters of their own are not judged", 0, 1e9},
           {"source_scripts", FieldType::kStringList, std::vector<std::string>{},
            "ISO 15924 codes for the source (empty: from source_lang)"},
           {"target_scripts", FieldType::kStringList, std::vector<std::string>{},
@@ -216,7 +233,8 @@ Result<std::unique_ptr<Stage>> make_script(const StageContext& ctx) {
     }
   }
   return std::unique_ptr<Stage>(
-      std::make_unique<ScriptStage>(ctx, std::move(codes[0]), std::move(codes[1]), p.number("min_ratio")));
+      std::make_unique<ScriptStage>(ctx, std::move(codes[0]), std::move(codes[1]), p.number("min_ratio"),
+                                    p.integer("min_letters")));
 }
 
 }  // namespace sheaf

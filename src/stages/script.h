@@ -1,11 +1,14 @@
-// script: drops pairs whose letters are mostly not in the side's scripts.
+// script: drops pairs whose own letters are mostly not in the side's scripts.
 //
 // Per side, among the letters (general category L*) whose Unicode script
 // (ICU uscript_getScript) is neither Common nor Inherited, the fraction in the
-// expected scripts must be at least min_ratio. A side with no such letters
-// (numbers, punctuation only) passes. Expected scripts come from the side's
-// language (table in docs/pipeline.md) unless SIDE_scripts lists ISO 15924
-// codes. Reason code: script:SIDE. Thread-safe; no state.
+// expected scripts must be at least min_ratio (default 0.5). The letters
+// counted are the side's own (stages/own_text.h: spans shared with the other
+// side, placeholders, markup, addresses, identifiers and acronyms taken
+// out); a side with fewer than min_letters (default 4) own letters passes,
+// and so does a side whose whole text passes. Expected scripts come from the
+// side's language (table in docs/pipeline.md) unless SIDE_scripts lists
+// ISO 15924 codes. Reason code: script:SIDE. Thread-safe; no state.
 #pragma once
 
 #include <string>

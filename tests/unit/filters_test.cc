@@ -70,8 +70,8 @@ TEST(Copy, IdenticalAndOverlappingSides) {
                    {"The garden opens at nine.", "The garden opens at nine!"},
                    {"The garden opens at nine.", "El jardín abre a las nueve."}})
                 .reasons,
-            (Reasons{"copy:identical", "copy:overlap", ""}));
-  test::StageHarness only_identical("kind = \"copy\"\nmax_overlap = 1.0");
+            (Reasons{"copy:identical", "copy:words", ""}));
+  test::StageHarness only_identical("kind = \"copy\"\nmax_overlap = 1.0\nmax_shared_words = 1.0");
   EXPECT_EQ(only_identical.reason("The garden opens at nine.", "The garden opens at nine!"), "");
   EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "abcd"), 1.0);
   EXPECT_DOUBLE_EQ(trigram_overlap("abcd", "wxyz"), 0.0);
@@ -173,6 +173,7 @@ TEST(Script, DropsWrongScriptSides) {
 
 TEST(Pattern, DropAndRewriteRules) {
   test::StageHarness h(R"(kind = "pattern"
+markup = "keep"
 rules = [
   { name = "html-tag", pattern = "</?[a-z]+>", action = "rewrite", replacement = " " },
   { name = "phone", pattern = "\\d{3}-\\d{4}", side = "target", action = "drop" },
@@ -190,11 +191,58 @@ rules = [
 
 TEST(Pattern, DefaultRulesStripMarkupAndDropAddresses) {
   test::StageHarness h("kind = \"pattern\"");
-  auto r = h.run({{"<p>Open</p>&nbsp;", "Abierto"},
+  auto r = h.run({{"<p>Open</p>&nbsp;", "<p>Abierto</p>"},
                   {"See https://example.org/x", "Vea"},
                   {"Write to a.b@example.org", "Escriba"}});
   EXPECT_EQ(r.reasons, (Reasons{"", "url", "email"}));
-  EXPECT_EQ(r.text[0].first, "Open");
+  EXPECT_EQ(r.text[0], (std::pair<std::string, std::string>{"Open", "Abierto"}));
+}
+
+// Markup goes from both sides alike or the pair goes; placeholders written
+// like tags stay on both sides. The texts are gettext catalogue entries
+// (Debian's dpkg, coreutils and GTK 3 message catalogues, English msgids
+// with invented targets in their style).
+TEST(Pattern, MarkupLeavesBothSidesAlikeOrDropsThePair) {
+  test::StageHarness h("kind = \"pattern\"", "en", "de");
+  auto r = h.run({
+      {"--%s needs a <directory> argument", "--%s braucht ein <Verzeichnis> als Argument"},
+      {"<no current directory>", "<kein aktuelles Verzeichnis>"},
+      {"--%s needs <link> <name> <path>", "--%s braucht <Verweis> <Name> <Pfad>"},
+      {"<b>Warning:</b> file exists", "<b>Warnung:</b> Datei existiert"},
+      {"<span weight=\"bold\">Bold</span> text", "<span weight=\"bold\">Fett</span>er Text"},
+      {"<b>Warning:</b> file exists", "Warnung: Datei existiert"},
+      {"<b>Warning</b> file", "<b>Warnung Datei"},
+      {"<i></i>", "<i></i>"},
+      {"a &lt; b &amp; c", "a &lt; b &amp; c"},
+  });
+  EXPECT_EQ(r.reasons, (Reasons{"", "", "", "", "", "markup:unpaired", "markup:unpaired", "emptied:source", ""}));
+  EXPECT_EQ(r.text[0].first, "--%s needs a <directory> argument");
+  EXPECT_EQ(r.text[0].second, "--%s braucht ein <Verzeichnis> als Argument");
+  EXPECT_EQ(r.text[1].first, "<no current directory>");
+  EXPECT_EQ(r.text[2].second, "--%s braucht <Verweis> <Name> <Pfad>");
+  EXPECT_EQ(r.text[3], (std::pair<std::string, std::string>{"Warning: file exists", "Warnung: Datei existiert"}));
+  EXPECT_EQ(r.text[4], (std::pair<std::string, std::string>{"Bold text", "Fett er Text"}));
+  EXPECT_EQ(r.text[8], (std::pair<std::string, std::string>{"a < b & c", "a < b & c"}));
+  auto c = h.stage().counters();
+  auto get = [&](const std::string& k) {
+    for (const auto& [name, v] : c)
+      if (name == k) return v;
+    return uint64_t{999};
+  };
+  EXPECT_EQ(get("rewritten:markup:source"), 2u);
+  EXPECT_EQ(get("rewritten:markup:target"), 2u);
+  EXPECT_EQ(get("rewritten:entities:source"), 1u);
+}
+
+TEST(Pattern, RewriteThatEmptiesASideDrops) {
+  test::StageHarness h(R"(kind = "pattern"
+markup = "keep"
+rules = [{ name = "brackets", pattern = "\\[[^]]*\\]", side = "target", action = "rewrite" }])");
+  ASSERT_TRUE(h.ok()) << h.error();
+  EXPECT_EQ(h.run({{"Open", "[abrir]"}, {"Open", "Abrir [x]"}}).reasons, (Reasons{"emptied:target", ""}));
+  auto c = h.stage().counters();
+  ASSERT_EQ(c.size(), 2u);
+  EXPECT_EQ(c[1], (std::pair<std::string, uint64_t>{"rewritten:brackets:target", 1}));
 }
 
 TEST(Pattern, InvalidPatternIsAPipelineErrorWithRe2sMessage) {

@@ -246,8 +246,12 @@ TEST(Normalize, InvalidUtf8IsDroppedOrRepaired) {
   EXPECT_EQ(f.text[0].second, "\uFFFD");
   EXPECT_EQ(f.text[1].first, "\uFFFD");
   auto counters = fix.stage().counters();
-  ASSERT_EQ(counters.size(), 1u);
+  ASSERT_EQ(counters.size(), 3u);
   EXPECT_EQ(counters[0], (std::pair<std::string, uint64_t>{"repaired_utf8", 3}));
+  // Pairs whose side the stage changed: both sides of the first pair, the
+  // source of the second.
+  EXPECT_EQ(counters[1], (std::pair<std::string, uint64_t>{"changed:source", 2}));
+  EXPECT_EQ(counters[2], (std::pair<std::string, uint64_t>{"changed:target", 1}));
 }
 
 TEST(Normalize, StageRewritesBothSidesWithTheirOwnForm) {
