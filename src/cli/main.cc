@@ -136,7 +136,10 @@ int run_command(int argc, char** argv) {
   // init
   auto* init = app.add_subcommand("init", "print a complete pipeline file for a corpus");
   InitOptions io;
-  init->add_option("--input", io.inputs, "corpus file; give it twice for two line-aligned files")->required();
+  init->add_option("--input", io.inputs, "corpus file; give it twice for two line-aligned files");
+  init->add_option("--corpus", io.corpora,
+                   "a named corpus, NAME=FILE or NAME=SOURCE_FILE,TARGET_FILE; repeat it, highest priority first");
+  init->add_flag("--near-dup", io.near_dup, "also write the near-duplicate stage");
   init->add_option("--from", io.source_lang, "ISO 639-1 code of the source side")->required();
   init->add_option("--to", io.target_lang, "ISO 639-1 code of the target side")->required();
   init->add_option("--vocab-size", io.vocab_size, "subword vocabulary size")->capture_default_str();
@@ -213,8 +216,7 @@ int run_command(int argc, char** argv) {
   };
 
   if (init->parsed()) {
-    if (io.inputs.size() > 2)
-      return fail(Error(ErrorKind::kUsage, "--input takes one file, or two line-aligned files"));
+    if (auto st = check_init_options(io); !st.ok()) return fail(st.error());
     if (auto st = check_init(io); !st.ok()) return fail(st.error());
     std::cout << init_template(io);
     return 0;

@@ -32,6 +32,7 @@ inline constexpr uint32_t kUnmeasured = UINT32_MAX;
 
 struct Pair {
   uint64_t line = 0;             // 1-based input line (pair index for two files)
+  uint32_t corpus = 0;           // index of its corpus in Pipeline::corpora
   std::string_view raw;          // original line, or the source line (two files)
   std::string_view raw_target;   // the target line (two files only)
   // Current source and target text. Stages that rewrite a side call
@@ -61,6 +62,9 @@ struct PairBatch {
   std::string raw_target;
   Arena arena;
   std::vector<Pair> pairs;
+  // Scratch for a stage's wider per-pair values between its map() and its
+  // reduce() (near_dup's band keys); the runner never reads it.
+  std::vector<uint64_t> scratch;
 
   void drop(Pair& p, int stage, std::string reason) {
     p.drop_stage = stage;

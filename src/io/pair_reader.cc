@@ -7,43 +7,67 @@
 namespace sheaf {
 
 Result<std::unique_ptr<PairReader>> PairReader::open(const CorpusSpec& spec, const std::vector<std::string>& paths) {
-  std::vector<std::unique_ptr<LineReader>> readers;
-  for (const auto& path : paths) {
-    auto src = open_byte_source(path);
-    if (!src.ok()) return src.error();
-    readers.push_back(std::make_unique<LineReader>(std::move(src.value()), spec.max_line_bytes));
+  return open(std::vector<CorpusSpec>{spec}, std::vector<std::vector<std::string>>{paths});
+}
+
+Result<std::unique_ptr<PairReader>> PairReader::open(const std::vector<CorpusSpec>& corpora,
+                                                     const std::vector<std::vector<std::string>>& paths) {
+  std::vector<Source> sources;
+  for (size_t c = 0; c < corpora.size(); ++c) {
+    Source s;
+    s.spec = corpora[c];
+    s.paths = paths[c];
+    for (const auto& path : paths[c]) {
+      auto src = open_byte_source(path);
+      if (!src.ok()) return src.error();
+      s.readers.push_back(std::make_unique<LineReader>(std::move(src.value()), corpora[c].max_line_bytes));
+    }
+    sources.push_back(std::move(s));
   }
-  return std::unique_ptr<PairReader>(new PairReader(spec, std::move(readers), paths));
+  return std::unique_ptr<PairReader>(new PairReader(std::move(sources)));
 }
 
 void PairReader::set_oversize_sink(const OversizeSink& sink) {
-  for (size_t i = 0; i < readers_.size(); ++i) {
-    std::string side = readers_.size() == 2 ? side_name(static_cast<int>(i)) : "-";
-    readers_[i]->set_oversize_sink([sink, side](uint64_t line, std::string_view bytes, bool last) {
-      return sink(side, line, bytes, last);
-    });
+  for (size_t c = 0; c < sources_.size(); ++c) {
+    auto& readers = sources_[c].readers;
+    for (size_t i = 0; i < readers.size(); ++i) {
+      std::string side = readers.size() == 2 ? side_name(static_cast<int>(i)) : "-";
+      readers[i]->set_oversize_sink([sink, c, side](uint64_t line, std::string_view bytes, bool last) {
+        return sink(c, side, line, bytes, last);
+      });
+    }
   }
 }
 
-std::vector<InputInfo> PairReader::inputs() const {
+std::vector<InputInfo> PairReader::inputs(size_t corpus) const {
   std::vector<InputInfo> out;
-  for (size_t i = 0; i < readers_.size(); ++i) {
-    const auto& r = *readers_[i];
-    out.push_back({paths_[i], r.source().file_bytes(), r.source().checksum(), compression_name(r.compression()),
+  const Source& s = sources_[corpus];
+  for (size_t i = 0; i < s.readers.size(); ++i) {
+    const auto& r = *s.readers[i];
+    out.push_back({s.paths[i], r.source().file_bytes(), r.source().checksum(), compression_name(r.compression()),
                    r.lines()});
   }
   return out;
 }
 
+std::vector<InputInfo> PairReader::inputs() const {
+  std::vector<InputInfo> out;
+  for (size_t c = 0; c < sources_.size(); ++c)
+    for (auto& in : inputs(c)) out.push_back(std::move(in));
+  return out;
+}
+
 uint64_t PairReader::consumed() const {
   uint64_t n = 0;
-  for (const auto& r : readers_) n += r->consumed();
+  for (const auto& s : sources_)
+    for (const auto& r : s.readers) n += r->consumed();
   return n;
 }
 
-Status PairReader::length_mismatch(int shorter) {
+Status PairReader::length_mismatch(Source& src, int shorter) {
   // Count the rest of the longer file so the message gives both counts.
-  LineReader& longer = *readers_[1 - shorter];
+  auto& readers = src.readers;
+  LineReader& longer = *readers[static_cast<size_t>(1 - shorter)];
   Line l;
   for (;;) {
     auto more = longer.next(l);
@@ -51,10 +75,10 @@ Status PairReader::length_mismatch(int shorter) {
     if (!*more) break;
   }
   return Error(ErrorKind::kInput,
-               "the aligned files have different numbers of lines: " + readers_[0]->name() + " has " +
-                   std::to_string(readers_[0]->lines()) + ", " + readers_[1]->name() + " has " +
-                   std::to_string(readers_[1]->lines()) + "; line N of one must translate line N of the other",
-               Location{readers_[shorter]->name(), 0, 0, {}});
+               "the aligned files have different numbers of lines: " + readers[0]->name() + " has " +
+                   std::to_string(readers[0]->lines()) + ", " + readers[1]->name() + " has " +
+                   std::to_string(readers[1]->lines()) + "; line N of one must translate line N of the other",
+               Location{readers[static_cast<size_t>(shorter)]->name(), 0, 0, {}});
 }
 
 namespace {
@@ -83,13 +107,13 @@ void PairReader::parse_tsv(PairBatch& b, Pair& p, std::string_view line) {
   p.text[1] = line.substr(at + 1);
 }
 
-void PairReader::parse_jsonl(PairBatch& b, Pair& p, std::string_view line) {
+void PairReader::parse_jsonl(const CorpusSpec& spec, PairBatch& b, Pair& p, std::string_view line) {
   auto j = nlohmann::json::parse(line.begin(), line.end(), nullptr, false);
   if (j.is_discarded() || !j.is_object()) {
     b.drop(p, kReadStage, "bad-json");
     return;
   }
-  const std::string* field[2] = {&spec_.source_field, &spec_.target_field};
+  const std::string* field[2] = {&spec.source_field, &spec.target_field};
   for (int s = 0; s < 2; ++s) {
     auto it = j.find(*field[s]);
     if (it == j.end()) {
@@ -105,20 +129,34 @@ void PairReader::parse_jsonl(PairBatch& b, Pair& p, std::string_view line) {
 }
 
 Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) {
+  while (current_ < sources_.size()) {
+    auto more = next_from(sources_[current_], b, max_pairs, max_bytes);
+    if (!more.ok() || *more) {
+      if (more.ok())
+        for (Pair& p : b.pairs) p.corpus = static_cast<uint32_t>(current_);
+      return more;
+    }
+    ++current_;
+  }
+  return false;
+}
+
+Result<bool> PairReader::next_from(Source& src, PairBatch& b, size_t max_pairs, size_t max_bytes) {
+  auto& readers = src.readers;
   std::vector<Pending> pend;
   pend.reserve(max_pairs);
   std::vector<std::string> oversize_reason;
   uint64_t start = consumed();
-  bool aligned = readers_.size() == 2;
+  bool aligned = readers.size() == 2;
   Line a, t;
   while (pend.size() < max_pairs && b.raw.size() + b.raw_target.size() < max_bytes) {
-    auto more = readers_[0]->next(a);
+    auto more = readers[0]->next(a);
     if (!more.ok()) return more.error();
     if (aligned) {
-      auto more2 = readers_[1]->next(t);
+      auto more2 = readers[1]->next(t);
       if (!more2.ok()) return more2.error();
       if (*more != *more2) {
-        Status st = length_mismatch(*more ? 1 : 0);
+        Status st = length_mismatch(src, *more ? 1 : 0);
         return st.error();
       }
     }
@@ -138,7 +176,7 @@ Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) 
   }
   if (pend.empty()) return false;
   b.pairs.resize(pend.size());
-  uint64_t first = readers_[0]->lines() - pend.size() + 1;
+  uint64_t first = readers[0]->lines() - pend.size() + 1;
   for (size_t i = 0; i < pend.size(); ++i) {
     Pair& p = b.pairs[i];
     p.line = first + i;
@@ -156,13 +194,13 @@ Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) 
     // The raw views keep a byte-order mark (rejected.tsv is byte-exact); the
     // text does not.
     std::string_view body = p.raw.substr(pend[i].skip);
-    switch (spec_.layout) {
+    switch (src.spec.layout) {
       case Layout::kTsv: parse_tsv(b, p, body); break;
       case Layout::kAligned:
         p.text[0] = body;
         p.text[1] = p.raw_target.substr(pend[i].skip2);
         break;
-      case Layout::kJsonl: parse_jsonl(b, p, body); break;
+      case Layout::kJsonl: parse_jsonl(src.spec, b, p, body); break;
     }
   }
   b.input_bytes = consumed() - start;

@@ -11,6 +11,9 @@
 //   bad-json, missing-field:NAME, not-a-string:NAME   (jsonl)
 // Problems with the input as a whole (unreadable file, UTF-16, corrupt
 // compression, two files of different lengths) are errors.
+// Several corpora are read one after the other, in the order given; a batch
+// holds pairs of one corpus, each pair carries its corpus's index, and line
+// numbers count within each corpus.
 #pragma once
 
 #include <functional>
@@ -37,29 +40,40 @@ class PairReader {
  public:
   // `paths` are the corpus files resolved to real paths.
   static Result<std::unique_ptr<PairReader>> open(const CorpusSpec& spec, const std::vector<std::string>& paths);
+  // Several corpora, read in this order; paths[i] are corpora[i]'s files.
+  static Result<std::unique_ptr<PairReader>> open(const std::vector<CorpusSpec>& corpora,
+                                                  const std::vector<std::vector<std::string>>& paths);
 
   // Appends up to `max_pairs` pairs (or about `max_bytes` of input) to an
   // empty batch. Returns false when the input is exhausted and nothing was read.
   Result<bool> next(PairBatch& batch, size_t max_pairs, size_t max_bytes);
 
-  // Where the bytes of over-long lines go: side ("-" for one file, "source"
-  // or "target" for two), line number, a piece of the line, last piece.
-  using OversizeSink = std::function<Status(std::string_view side, uint64_t line, std::string_view bytes, bool last)>;
+  // Where the bytes of over-long lines go: the corpus's index, side ("-" for
+  // one file, "source" or "target" for two), line number, a piece of the
+  // line, last piece.
+  using OversizeSink = std::function<Status(size_t corpus, std::string_view side, uint64_t line,
+                                            std::string_view bytes, bool last)>;
   void set_oversize_sink(const OversizeSink& sink);
 
   std::vector<InputInfo> inputs() const;
+  // The inputs of one corpus.
+  std::vector<InputInfo> inputs(size_t corpus) const;
   uint64_t consumed() const;
 
  private:
-  PairReader(const CorpusSpec& spec, std::vector<std::unique_ptr<LineReader>> readers, std::vector<std::string> paths)
-      : spec_(spec), readers_(std::move(readers)), paths_(std::move(paths)) {}
-  Status length_mismatch(int shorter);
-  void parse_tsv(PairBatch& b, Pair& p, std::string_view line);
-  void parse_jsonl(PairBatch& b, Pair& p, std::string_view line);
+  struct Source {
+    CorpusSpec spec;
+    std::vector<std::unique_ptr<LineReader>> readers;
+    std::vector<std::string> paths;
+  };
+  explicit PairReader(std::vector<Source> sources) : sources_(std::move(sources)) {}
+  Result<bool> next_from(Source& src, PairBatch& batch, size_t max_pairs, size_t max_bytes);
+  static Status length_mismatch(Source& src, int shorter);
+  static void parse_tsv(PairBatch& b, Pair& p, std::string_view line);
+  static void parse_jsonl(const CorpusSpec& spec, PairBatch& b, Pair& p, std::string_view line);
 
-  CorpusSpec spec_;
-  std::vector<std::unique_ptr<LineReader>> readers_;
-  std::vector<std::string> paths_;
+  std::vector<Source> sources_;
+  size_t current_ = 0;
 };
 
 }  // namespace sheaf

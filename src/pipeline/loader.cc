@@ -211,6 +211,22 @@ Status apply_override(toml::table& root, const Override& o, Ctx& ctx) {
                           Location{label, 0, 0, {}});
   }
   toml::node* value = parsed.get("v");
+  if (toml::array* named = root["corpus"].as_array()) {
+    // Named corpora: "corpus" sets the key in every corpus, a corpus's name
+    // in that corpus only.
+    bool hit = false;
+    for (auto& e : *named) {
+      toml::table* t = e.as_table();
+      if (t == nullptr) continue;
+      const toml::node* n = t->get("name");
+      bool named_here = n && n->is_string() && n->as_string()->get() == o.target;
+      if (o.target == "corpus" || named_here) {
+        t->insert_or_assign(o.key, *value);
+        hit = true;
+      }
+    }
+    if (hit) return {};
+  }
   if (o.target == "corpus" || o.target == "output") {
     toml::table* sec = root[o.target].as_table();
     if (sec == nullptr) {
@@ -244,6 +260,161 @@ Status apply_override(toml::table& root, const Override& o, Ctx& ctx) {
   return pipeline_error("\"" + o.target + "\" is not a stage of this pipeline, nor corpus or output" +
                             (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
                         Location{label, 0, 0, {}});
+}
+
+// The [corpus] keys (of a [corpus] table or one [[corpus]]) as a CorpusSpec.
+Result<CorpusSpec> corpus_from(const Params& c, const std::string& what, const std::string& file) {
+  CorpusSpec spec;
+  const std::string& layout = c.text("layout");
+  spec.layout = layout == "aligned" ? Layout::kAligned : layout == "jsonl" ? Layout::kJsonl : Layout::kTsv;
+  spec.files = c.list("files");
+  size_t want = spec.layout == Layout::kAligned ? 2 : 1;
+  if (spec.files.size() != want) {
+    Location where = c.where("files").empty() ? Location{file, 0, 0, {}} : c.where("files");
+    return pipeline_error(what + ".files must name " +
+                              (want == 2 ? "two line-aligned files (source, then target) for layout \"aligned\""
+                                         : "exactly one file for layout \"" + layout + "\"") +
+                              "; it names " + std::to_string(spec.files.size()),
+                          where);
+  }
+  spec.source_lang = c.text("source_lang");
+  spec.target_lang = c.text("target_lang");
+  spec.source_field = c.text("source_field");
+  spec.target_field = c.text("target_field");
+  spec.max_line_bytes = static_cast<uint64_t>(c.integer("max_line_bytes"));
+  spec.params = c;
+  return spec;
+}
+
+bool valid_name(const std::string& n) {
+  if (n.empty()) return false;
+  for (char ch : n)
+    if (!(std::isalnum(static_cast<unsigned char>(ch)) || ch == '-' || ch == '_')) return false;
+  return true;
+}
+
+// [[corpus]] tables: several named corpora, in priority order.
+Status load_named_corpora(const toml::array& arr, const Ctx& ctx, Pipeline& p) {
+  p.named_corpora = true;
+  int stdin_users = 0;
+  for (size_t i = 0; i < arr.size(); ++i) {
+    const toml::table* t = arr[i].as_table();
+    if (t == nullptr) return pipeline_error("each corpus must be a table: write it as [[corpus]]", ctx.at(arr[i]));
+    std::string what = "[[corpus]] " + std::to_string(i + 1);
+    auto params = check_table(*t, named_corpus_fields(), ctx, what, {"stages"});
+    if (!params.ok()) return params.error();
+    const Params& c = params.value();
+    const std::string& n = c.text("name");
+    Location at = c.where("name").empty() ? ctx.at(*t) : c.where("name");
+    if (!valid_name(n))
+      return pipeline_error(what + " needs name = \"...\" of letters, digits, '-' and '_'", at);
+    for (const auto& other : p.corpora)
+      if (other.name == n) return pipeline_error("two corpora are named \"" + n + "\"", at);
+    if (n == "corpus" || n == "output" || n == "read")
+      return pipeline_error("corpus name \"" + n + "\" is reserved; choose another", at);
+    auto spec = corpus_from(c, "[[corpus]] \"" + n + "\"", ctx.file);
+    if (!spec.ok()) return spec.error();
+    CorpusSpec& cs = spec.value();
+    cs.name = n;
+    cs.held_out = c.flag("held_out");
+    cs.weight = c.number("weight");
+    cs.skip = c.list("skip");
+    cs.where = ctx.at(*t);
+    for (const auto& f : cs.files) stdin_users += f == "-";
+    // One language pair: a later corpus may leave the languages out.
+    if (!p.corpora.empty()) {
+      const CorpusSpec& first = p.corpora.front();
+      for (int side = 0; side < 2; ++side) {
+        std::string& mine = side == 0 ? cs.source_lang : cs.target_lang;
+        const std::string& theirs = side == 0 ? first.source_lang : first.target_lang;
+        const char* key = side == 0 ? "source_lang" : "target_lang";
+        if (mine.empty()) mine = theirs;
+        if (mine != theirs)
+          return pipeline_error("corpus \"" + n + "\" has " + key + " \"" + mine + "\" but \"" + first.name +
+                                    "\" has \"" + theirs + "\"; every corpus of a run shares one language pair",
+                                c.where(key).empty() ? at : c.where(key));
+      }
+    }
+    p.corpora.push_back(std::move(cs));
+  }
+  if (p.corpora.empty()) return pipeline_error("[[corpus]] lists no corpus", Location{ctx.file, 0, 0, {}});
+  if (stdin_users > 1)
+    return pipeline_error("only one corpus file can be standard input (\"-\")", p.corpora.front().where);
+  bool any_held_out = false;
+  for (const auto& cs : p.corpora) any_held_out |= cs.held_out;
+  if (!any_held_out)
+    return pipeline_error("no corpus has held_out = true, so dev and test could take no pair", p.corpora.front().where);
+  p.corpus = p.corpora.front();
+  p.corpus_params = p.corpus.params;
+  return {};
+}
+
+// skip = [...] and [corpus.stages.NAME] tables, checked against the stages.
+Status resolve_corpus_stages(const toml::array& arr, const toml::array* stages, const Ctx& ctx, Pipeline& p) {
+  std::vector<std::string> names;
+  for (const auto& s : p.stages) names.push_back(s.name);
+  auto filter_stage = [&](const std::string& corpus, const std::string& stage, const Location& at,
+                          const char* how) -> Result<int> {
+    int i = p.stage_index(stage);
+    if (i < 0) {
+      std::string hint = closest_name(stage, names);
+      return pipeline_error("corpus \"" + corpus + "\" " + how + " \"" + stage + "\", which is not a stage of this pipeline" +
+                                (hint.empty() ? "" : " (did you mean \"" + hint + "\"?)"),
+                            at);
+    }
+    const StageSpec& s = p.stages[static_cast<size_t>(i)];
+    if (s.kind->role != StageRole::kFilter || s.kind->kind == "dedup" || s.kind->kind == "near-dup")
+      return pipeline_error("corpus \"" + corpus + "\" " + how + " \"" + stage +
+                                "\": only filter stages other than dedup and near-dup can differ per corpus "
+                                "(deduplication compares every corpus with the same keys)",
+                            at);
+    return i;
+  };
+  for (auto& c : p.corpora) {
+    for (const auto& s : c.skip) {
+      auto i = filter_stage(c.name, s, c.params.where("skip"), "skips");
+      if (!i.ok()) return i.error();
+    }
+    for (const auto& node : arr) {
+      const toml::table* t = node.as_table();
+      if (t == nullptr || !t->get("name") || !t->get("name")->is_string() || t->get("name")->as_string()->get() != c.name)
+        continue;
+      const toml::node* sn = t->get("stages");
+      if (sn == nullptr) continue;
+      const toml::table* st = sn->as_table();
+      if (st == nullptr)
+        return pipeline_error("corpus \"" + c.name + "\": stages must be a table of stage names, e.g. [corpus.stages.length]",
+                              ctx.at(*sn));
+      for (auto&& [k, v] : *st) {
+        std::string stage(k.str());
+        Location at = k.source().begin ? ctx.at(k.source()) : ctx.at(v);
+        auto i = filter_stage(c.name, stage, at, "sets keys of");
+        if (!i.ok()) return i.error();
+        const toml::table* keys = v.as_table();
+        if (keys == nullptr)
+          return pipeline_error("corpus \"" + c.name + "\": stages." + stage + " must be a table of keys", at);
+        // The stage's own table with this corpus's keys on top, checked
+        // like any stage.
+        toml::table merged = *(*stages)[static_cast<size_t>(*i)].as_table();
+        for (auto&& [kk, vv] : *keys) {
+          std::string key(kk.str());
+          if (key == "kind" || key == "name")
+            return pipeline_error("corpus \"" + c.name + "\": stages." + stage + " cannot change " + key, ctx.at(vv));
+          merged.insert_or_assign(key, vv);
+        }
+        const StageSpec& spec = p.stages[static_cast<size_t>(*i)];
+        auto params = check_table(merged, spec.kind->fields, ctx, "corpus \"" + c.name + "\" stages." + stage, {"kind", "name"});
+        if (!params.ok()) return params.error();
+        c.stage_params.emplace_back(stage, std::move(params.value()));
+      }
+    }
+  }
+  for (const auto& c : p.corpora)
+    for (const auto& s : p.stages)
+      if (c.name == s.name)
+        return pipeline_error("corpus \"" + c.name + "\" has the name of a stage; --set could not tell them apart", c.where);
+  p.corpus = p.corpora.front();
+  return {};
 }
 
 Result<Pipeline> build(toml::table& root, const std::string& name, const std::vector<Override>& overrides) {
@@ -285,27 +456,17 @@ Result<Pipeline> build(toml::table& root, const std::string& name, const std::ve
     out = std::move(r.value());
     return {};
   };
-  SHEAF_TRY(section("corpus", corpus_fields(), p.corpus_params));
-  SHEAF_TRY(section("output", output_fields(), p.output_params));
-
-  const Params& c = p.corpus_params;
-  const std::string& layout = c.text("layout");
-  p.corpus.layout = layout == "aligned" ? Layout::kAligned : layout == "jsonl" ? Layout::kJsonl : Layout::kTsv;
-  p.corpus.files = c.list("files");
-  size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
-  if (p.corpus.files.size() != want) {
-    Location where = c.where("files").empty() ? Location{name, 0, 0, {}} : c.where("files");
-    return pipeline_error(std::string("[corpus].files must name ") +
-                              (want == 2 ? "two line-aligned files (source, then target) for layout \"aligned\""
-                                         : "exactly one file for layout \"" + layout + "\"") +
-                              "; it names " + std::to_string(p.corpus.files.size()),
-                          where);
+  const toml::array* named = root.get("corpus") ? root.get("corpus")->as_array() : nullptr;
+  if (named == nullptr) {
+    SHEAF_TRY(section("corpus", corpus_fields(), p.corpus_params));
+    auto spec = corpus_from(p.corpus_params, "[corpus]", name);
+    if (!spec.ok()) return spec.error();
+    p.corpus = std::move(spec.value());
+    p.corpora = {p.corpus};
+  } else {
+    SHEAF_TRY(load_named_corpora(*named, ctx, p));
   }
-  p.corpus.source_lang = c.text("source_lang");
-  p.corpus.target_lang = c.text("target_lang");
-  p.corpus.source_field = c.text("source_field");
-  p.corpus.target_field = c.text("target_field");
-  p.corpus.max_line_bytes = static_cast<uint64_t>(c.integer("max_line_bytes"));
+  SHEAF_TRY(section("output", output_fields(), p.output_params));
   p.output_dir = p.output_params.text("dir");
 
   const toml::node* sn = root.get("stage");
@@ -357,6 +518,8 @@ Result<Pipeline> build(toml::table& root, const std::string& name, const std::ve
     }
   }
 
+  if (named != nullptr) SHEAF_TRY(resolve_corpus_stages(*named, sn ? sn->as_array() : nullptr, ctx, p));
+
   // Order: filters, then at most one split, then at most one vocabulary,
   // then at most one shards stage (which needs a vocabulary).
   int last_role = 0;
@@ -392,6 +555,11 @@ int Pipeline::stage_index(std::string_view name) const {
   for (size_t i = 0; i < stages.size(); ++i)
     if (stages[i].name == name) return static_cast<int>(i);
   return -1;
+}
+
+std::string Pipeline::origin(uint32_t corpus, uint64_t line) const {
+  if (!named_corpora || corpus >= corpora.size()) return std::to_string(line);
+  return corpora[corpus].name + ":" + std::to_string(line);
 }
 
 std::string Pipeline::resolve(const std::string& path) const {

@@ -23,6 +23,7 @@
 #include "pipeline/progress.h"
 #include "pipeline/run_dir.h"
 #include "pipeline/steps.h"
+#include "stages/per_corpus.h"
 #include "stages/split.h"
 #include "stages/stage.h"
 
@@ -44,8 +45,10 @@ bool has_tsv_breaker(std::string_view s) {
 class Pass1Writer {
  public:
   Pass1Writer(const RunDir& dir, RunRecord& rec, const std::vector<std::string>& splits, SplitStage* split,
-              bool aligned)
-      : dir_(dir), rec_(rec), names_(splits), split_(split), aligned_(aligned), keys_(splits.size()) {}
+              const Pipeline& p)
+      : dir_(dir), rec_(rec), names_(splits), split_(split), pipeline_(p), keys_(splits.size()) {
+    for (const auto& c : p.corpora) aligned_.push_back(c.layout == Layout::kAligned);
+  }
 
   Status open() {
     for (const auto& n : names_) lengths_.push_back(&rec_.lengths[n]);
@@ -74,17 +77,27 @@ class Pass1Writer {
         ++rec_.stages[k].in;
         if (k < upto || drop == kKept) ++rec_.stages[k].out;
       }
+      CorpusCount* cc = rec_.corpora.empty() ? nullptr : &rec_.corpora[p.corpus];
+      if (cc) {
+        ++cc->read;
+        cc->stage_out.resize(n, 0);
+        for (size_t k = 0; k < n && (k < upto || drop == kKept); ++k) ++cc->stage_out[k];
+      }
       if (!p.kept()) {
         ++rec_.rejected;
         std::string code = reason_code(p.reason);
         rec_.stages[upto].reasons[code]++;
+        if (cc) {
+          ++cc->rejected;
+          ++cc->reasons[rec_.stages[upto].name + "/" + code];
+        }
         auto& ex = rec_.stages[upto].examples[code];
         if (ex.size() < kExamples) {
           // The start of the line, made valid UTF-8 for JSON (the exact bytes
           // are in rejected.tsv).
           std::string text;
           repair_utf8(p.raw.substr(0, 160), text);
-          if (aligned_) {
+          if (aligned_[p.corpus]) {
             text += '\t';
             repair_utf8(p.raw_target.substr(0, 160), text);
           }
@@ -94,6 +107,7 @@ class Pass1Writer {
         continue;
       }
       ++rec_.kept;
+      if (cc) ++cc->kept;
       if (split_ && split_->deferred()) {
         spool(p);
         continue;
@@ -183,13 +197,13 @@ class Pass1Writer {
  private:
   void write_rejected(const Pair& p, size_t stage) {
     OutputFile& f = rejected_;
-    f.write(std::to_string(p.line));
+    f.write(pipeline_.origin(p.corpus, p.line));
     f.write("\t");
     f.write(rec_.stages[stage].name);
     f.write("\t");
     f.write(p.reason);
     f.write("\t");
-    if (aligned_) {
+    if (aligned_[p.corpus]) {
       f.write(std::to_string(p.raw.size()));
       f.write("\t");
       f.write(p.raw);
@@ -219,6 +233,7 @@ class Pass1Writer {
     f.write(t);
     f.write("\n");
     f.add_record();
+    if (!rec_.corpora.empty()) ++rec_.corpora[p.corpus].splits[names_[static_cast<size_t>(split)]];
     if (split_ && split != 0) {
       std::string k = split_->key_text(p);
       keys_[static_cast<size_t>(split)].insert(XXH3_64bits(k.data(), k.size()));
@@ -233,13 +248,24 @@ class Pass1Writer {
     spool_.write(std::string_view(reinterpret_cast<const char*>(&n1), 4));
     spool_.write(std::string_view(reinterpret_cast<const char*>(p.chars.data()), 8));
     spool_.write(std::string_view(reinterpret_cast<const char*>(p.words.data()), 8));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(&p.corpus), 4));
     spool_.write(p.text[0]);
     spool_.write(p.text[1]);
+    if (!pipeline_.corpora[p.corpus].held_out) {
+      // It may have to be dropped at the end (held-out-key): keep what
+      // rejected.tsv needs.
+      uint32_t r0 = static_cast<uint32_t>(p.raw.size()), r1 = static_cast<uint32_t>(p.raw_target.size());
+      spool_.write(std::string_view(reinterpret_cast<const char*>(&p.line), 8));
+      spool_.write(std::string_view(reinterpret_cast<const char*>(&r0), 4));
+      spool_.write(std::string_view(reinterpret_cast<const char*>(&r1), 4));
+      spool_.write(p.raw);
+      spool_.write(p.raw_target);
+    }
   }
 
   Status route_spool() {
     std::ifstream in(spool_.path(), std::ios::binary);
-    std::string s, t;
+    std::string s, t, raw, raw_target;
     Pair p;
     for (;;) {
       uint64_t h;
@@ -249,15 +275,57 @@ class Pass1Writer {
       in.read(reinterpret_cast<char*>(&n1), 4);
       in.read(reinterpret_cast<char*>(p.chars.data()), 8);
       in.read(reinterpret_cast<char*>(p.words.data()), 8);
+      in.read(reinterpret_cast<char*>(&p.corpus), 4);
       s.resize(n0);
       t.resize(n1);
       in.read(s.data(), n0);
       in.read(t.data(), n1);
-      if (!in) return Error(ErrorKind::kIo, "the split spool file is damaged", Location{spool_.path(), 0, 0, {}});
+      if (in && p.corpus < pipeline_.corpora.size() && !pipeline_.corpora[p.corpus].held_out) {
+        uint32_t r0 = 0, r1 = 0;
+        in.read(reinterpret_cast<char*>(&p.line), 8);
+        in.read(reinterpret_cast<char*>(&r0), 4);
+        in.read(reinterpret_cast<char*>(&r1), 4);
+        raw.resize(r0);
+        raw_target.resize(r1);
+        in.read(raw.data(), r0);
+        in.read(raw_target.data(), r1);
+        p.raw = raw;
+        p.raw_target = raw_target;
+      }
+      if (!in || p.corpus >= pipeline_.corpora.size())
+        return Error(ErrorKind::kIo, "the split spool file is damaged", Location{spool_.path(), 0, 0, {}});
       p.text = {s, t};
-      route(s, t, split_->assign(h), p);
+      int split = split_->assign(h, p.corpus);
+      if (split < 0) {
+        drop_late(p, "held-out-key:" + names_[static_cast<size_t>(split_->assign(h))]);
+        continue;
+      }
+      route(s, t, split, p);
     }
     return {};
+  }
+
+  // A pair the split stage drops after the pass (held-out-key): it was
+  // counted as kept through the output; count it as dropped by the split.
+  void drop_late(Pair& p, std::string reason) {
+    size_t n = rec_.stages.size(), at = n - 2;  // the split stage, just before "output"
+    std::string code = reason_code(reason);
+    p.reason = std::move(reason);
+    --rec_.kept;
+    ++rec_.rejected;
+    --rec_.stages[at].out;
+    --rec_.stages[n - 1].in;
+    --rec_.stages[n - 1].out;
+    rec_.stages[at].reasons[code]++;
+    if (!rec_.corpora.empty()) {
+      CorpusCount& c = rec_.corpora[p.corpus];
+      --c.kept;
+      ++c.rejected;
+      --c.stage_out[at];
+      --c.stage_out[n - 1];
+      ++c.reasons[rec_.stages[at].name + "/" + code];
+    }
+    write_rejected(p, at);
   }
 
  private:
@@ -265,7 +333,8 @@ class Pass1Writer {
   RunRecord& rec_;
   std::vector<std::string> names_;
   SplitStage* split_;
-  bool aligned_;
+  const Pipeline& pipeline_;
+  std::vector<bool> aligned_;  // per corpus
   std::vector<std::unique_ptr<OutputFile>> files_;
   std::vector<SplitLengths*> lengths_;
   OutputFile rejected_, spool_;
@@ -273,16 +342,17 @@ class Pass1Writer {
 };
 
 // Streams the bytes of over-long lines into rejected-long.tsv: per line
-// "LINE<TAB>SIDE<TAB>" then its bytes then LF (a line holds no LF).
-void rd_sink_into(PairReader& rd, const RunDir& dir, OutputFile& longs, bool& in_line) {
-  rd.set_oversize_sink([&dir, &longs, &in_line](std::string_view side, uint64_t line, std::string_view bytes,
-                                                bool last) -> Status {
+// "LINE<TAB>SIDE<TAB>" then its bytes then LF (a line holds no LF); LINE is
+// "CORPUS:LINE" with named corpora, as in rejected.tsv.
+void rd_sink_into(PairReader& rd, const Pipeline& p, const RunDir& dir, OutputFile& longs, bool& in_line) {
+  rd.set_oversize_sink([&p, &dir, &longs, &in_line](size_t corpus, std::string_view side, uint64_t line,
+                                                    std::string_view bytes, bool last) -> Status {
     if (longs.path().empty()) {
       SHEAF_TRY(dir.will_create("rejected-long.tsv"));
       SHEAF_TRY(longs.open(dir.file("rejected-long.tsv")));
     }
     if (!in_line) {
-      longs.write(std::to_string(line));
+      longs.write(p.origin(static_cast<uint32_t>(corpus), line));
       longs.write("\t");
       longs.write(side);
       longs.write("\t");
@@ -302,6 +372,10 @@ void rd_sink_into(PairReader& rd, const RunDir& dir, OutputFile& longs, bool& in
 
 Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o) {
   Pipeline p = pipeline_in;
+  if (!o.inputs.empty() && p.named_corpora)
+    return Error(ErrorKind::kUsage,
+                 "--input replaces the files of a single [corpus]; this pipeline names its corpora, so set their "
+                 "files with --set NAME.files='[\"...\"]'");
   if (!o.inputs.empty()) {
     size_t want = p.corpus.layout == Layout::kAligned ? 2 : 1;
     if (o.inputs.size() != want)
@@ -309,6 +383,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                                                             : "--input names one file") +
                                           " for layout \"" + p.corpus_params.text("layout") + "\"");
     p.corpus.files = o.inputs;
+    p.corpora = {p.corpus};
   }
   int last = static_cast<int>(p.stages.size()) - 1;
   if (!o.until.empty()) {
@@ -328,7 +403,13 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   RunRecord rec;
   std::string resolved = render_pipeline(p);
   rec.pipeline_hash = XXH3_64bits(resolved.data(), resolved.size());
-  rec.layout = p.corpus.layout == Layout::kAligned ? "aligned" : p.corpus.layout == Layout::kJsonl ? "jsonl" : "tsv";
+  auto layout_name = [](Layout l) {
+    return l == Layout::kAligned ? "aligned" : l == Layout::kJsonl ? "jsonl" : "tsv";
+  };
+  rec.layout = p.named_corpora ? "corpora" : layout_name(p.corpus.layout);
+  for (size_t c = 0; p.named_corpora && c < p.corpora.size(); ++c)
+    rec.corpora.push_back({p.corpora[c].name, layout_name(p.corpora[c].layout), p.corpora[c].weight,
+                           p.corpora[c].held_out, {}, 0, 0, 0, {}, {}, {}});
   if (last + 1 < static_cast<int>(p.stages.size())) rec.stopped_after = p.stages[static_cast<size_t>(last)].name;
 
   // Build the streaming stages, each knowing only the rewrites before it.
@@ -348,24 +429,29 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
       return true;
     };
     auto st = make_stage(ctx);
+    if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
     if (!st.ok()) return st.error();
     stages.push_back(std::move(st.value()));
     if (spec.kind->role == StageRole::kSplit) split = static_cast<SplitStage*>(stages.back().get());
     streaming_end = i + 1;
   }
 
-  std::vector<std::string> paths;
-  for (const auto& f : p.corpus.files) paths.push_back(o.inputs.empty() ? p.resolve(f) : f);
-  auto reader = PairReader::open(p.corpus, paths);
+  std::vector<std::vector<std::string>> paths;
+  for (const auto& c : p.corpora) {
+    paths.emplace_back();
+    for (const auto& f : c.files) paths.back().push_back(o.inputs.empty() ? p.resolve(f) : f);
+  }
+  auto reader = PairReader::open(p.corpora, paths);
   if (!reader.ok()) {
     // Say where a relative path was looked for.
     const Error& e = reader.error();
-    for (size_t i = 0; i < paths.size() && o.inputs.empty(); ++i)
-      if (e.where().file == paths[i] && paths[i] != p.corpus.files[i])
-        return Error(e.kind(),
-                     e.message() + " (\"" + p.corpus.files[i] + "\" is read relative to the pipeline file's folder, " +
-                         p.base_dir + ")",
-                     e.where());
+    for (size_t c = 0; c < paths.size() && o.inputs.empty(); ++c)
+      for (size_t i = 0; i < paths[c].size(); ++i)
+        if (e.where().file == paths[c][i] && paths[c][i] != p.corpora[c].files[i])
+          return Error(e.kind(),
+                       e.message() + " (\"" + p.corpora[c].files[i] +
+                           "\" is read relative to the pipeline file's folder, " + p.base_dir + ")",
+                       e.where());
     return e;
   }
 
@@ -383,10 +469,10 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   // into rejected-long.tsv (created at the first one) as it skips them.
   OutputFile longs;
   bool in_long_line = false;
-  rd_sink_into(*reader.value(), *dir, longs, in_long_line);
+  rd_sink_into(*reader.value(), p, *dir, longs, in_long_line);
 
   std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
-  Pass1Writer writer(*dir, rec, split_names, split, p.corpus.layout == Layout::kAligned);
+  Pass1Writer writer(*dir, rec, split_names, split, p);
   if (auto st = writer.open(); !st.ok()) {
     writer.discard();
     return st.error();
@@ -493,6 +579,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     return failed.error();
   }
   rec.inputs = rd.inputs();
+  for (size_t c = 0; c < rec.corpora.size(); ++c) rec.corpora[c].inputs = rd.inputs(c);
   if (!rec.splits.empty() && rec.splits.front().second == 0)
     return Error(ErrorKind::kData,
                  "no pair is left in the train split after filtering (read " + std::to_string(rec.read) + ", kept " +

@@ -20,6 +20,20 @@ const FieldList& corpus_fields() {
   return f;
 }
 
+const FieldList& named_corpus_fields() {
+  static const FieldList f = [] {
+    FieldList l = {{"name", FieldType::kString, std::string(""),
+                    "the corpus's name (letters, digits, '-', '_'), used in reasons, rejected.tsv and the record"}};
+    for (const auto& c : corpus_fields()) l.push_back(c);
+    l.push_back({"held_out", FieldType::kBool, true, "dev, test and further splits may take pairs from this corpus"});
+    l.push_back({"weight", FieldType::kNumber, 1.0, "sampling weight, recorded for the training loader", 0, 1e6});
+    l.push_back({"skip", FieldType::kStringList, std::vector<std::string>{},
+                 "filter stages (by name) this corpus's pairs pass untouched"});
+    return l;
+  }();
+  return f;
+}
+
 const FieldList& output_fields() {
   static const FieldList f = {
       {"dir", FieldType::kString, std::string("sheaf-run"),

@@ -185,6 +185,24 @@ std::string render_report(const std::string& summary_json) {
   }
   o << "</table>\n";
 
+  if (j.contains("corpora")) {
+    o << "<h2>Corpora</h2><p>In priority order: a pair found in two corpora is kept from the first.</p><table><tr><th>corpus</th>"
+         "<th>read</th><th>kept</th><th>rejected</th><th>weight</th><th>held out</th>";
+    for (auto& [name, s] : j["splits"].items()) o << "<th>" << esc(name) << "</th>";
+    o << "</tr>";
+    for (const auto& c : j["corpora"]) {
+      o << "<tr><td>" << esc(c["name"]) << "</td><td>" << num(c["counts"]["read"]) << "</td><td>" << num(c["counts"]["kept"])
+        << "</td><td>" << num(c["counts"]["rejected"]) << "</td><td>" << fmt(c["weight"].get<double>(), 2) << "</td><td>"
+        << (c["held_out"].get<bool>() ? "yes" : "no") << "</td>";
+      for (auto& [name, s] : j["splits"].items()) o << "<td>" << num(c["splits"].value(name, uint64_t{0})) << "</td>";
+      o << "</tr>";
+    }
+    o << "<tr><td><b>total</b></td><td>" << num(c["read"]) << "</td><td>" << num(c["kept"]) << "</td><td>" << num(c["rejected"])
+      << "</td><td></td><td></td>";
+    for (auto& [name, s] : j["splits"].items()) o << "<td>" << num(s["pairs"]) << "</td>";
+    o << "</tr></table>\n";
+  }
+
   o << "<h2>Splits</h2><table><tr><th>split</th><th>pairs</th><th>side</th><th>chars mean / p99</th><th>words mean / p99</th>"
        "<th>tokens mean / p95 / p99 / max</th><th>byte tokens</th></tr>";
   for (auto& [name, s] : j["splits"].items()) {

@@ -11,6 +11,30 @@
 
 namespace sheaf {
 
+nlohmann::ordered_json corpora_json(const RunRecord& r) {
+  using nlohmann::ordered_json;
+  ordered_json all = ordered_json::array();
+  for (const auto& c : r.corpora) {
+    ordered_json inputs = ordered_json::array();
+    for (const auto& in : c.inputs) inputs.push_back(in.path);
+    ordered_json stages = ordered_json::object();
+    for (size_t i = 0; i < c.stage_out.size() && i < r.stages.size(); ++i) stages[r.stages[i].name] = c.stage_out[i];
+    ordered_json reasons = ordered_json::object(), splits = ordered_json::object();
+    for (const auto& [k, v] : c.reasons) reasons[k] = v;
+    for (const auto& [k, v] : c.splits) splits[k] = v;
+    all.push_back({{"name", c.name},
+                   {"layout", c.layout},
+                   {"weight", c.weight},
+                   {"held_out", c.held_out},
+                   {"inputs", inputs},
+                   {"counts", {{"read", c.read}, {"kept", c.kept}, {"rejected", c.rejected}}},
+                   {"stages_out", stages},
+                   {"rejected", reasons},
+                   {"splits", splits}});
+  }
+  return all;
+}
+
 std::string run_record_json(const RunRecord& r) {
   using nlohmann::ordered_json;
   ordered_json j;
@@ -28,6 +52,7 @@ std::string run_record_json(const RunRecord& r) {
   j["layout"] = r.layout;
   j["inputs"] = inputs;
   j["counts"] = {{"read", r.read}, {"kept", r.kept}, {"rejected", r.rejected}};
+  if (!r.corpora.empty()) j["corpora"] = corpora_json(r);
   ordered_json stages = ordered_json::array();
   for (const auto& s : r.stages) {
     ordered_json o = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};

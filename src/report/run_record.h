@@ -9,6 +9,8 @@
 #include <utility>
 #include <vector>
 
+#include <nlohmann/json.hpp>
+
 #include "io/pair_reader.h"
 #include "core/stats.h"
 
@@ -44,6 +46,19 @@ struct Overlap {
   uint64_t keys = 0;  // keys of b also found in a
 };
 
+// One named corpus's share of the run (named corpora only; its rows add up
+// to the run's totals).
+struct CorpusCount {
+  std::string name, layout;
+  double weight = 1.0;
+  bool held_out = true;
+  std::vector<InputInfo> inputs;
+  uint64_t read = 0, kept = 0, rejected = 0;
+  std::vector<uint64_t> stage_out;  // pairs out of each entry of RunRecord::stages
+  std::map<std::string, uint64_t> reasons;  // "stage/code" -> pairs
+  std::map<std::string, uint64_t> splits;   // split name -> pairs
+};
+
 // Lengths of the kept pairs of one split, gathered while they are written
 // (for summary.json; not part of manifest.json).
 struct SplitLengths {
@@ -58,6 +73,7 @@ struct RunRecord {
   std::string layout;
   std::vector<InputInfo> inputs;
   uint64_t read = 0, kept = 0, rejected = 0;
+  std::vector<CorpusCount> corpora;  // named corpora only, in priority order
   std::vector<StageCount> stages;  // "read" first, "output" last
   std::vector<std::pair<std::string, uint64_t>> splits;
   std::vector<Overlap> overlaps;
@@ -70,10 +86,12 @@ struct RunRecord {
 };
 
 std::string run_record_json(const RunRecord& r);
+// The "corpora" list of the record (also copied into summary.json).
+nlohmann::ordered_json corpora_json(const RunRecord& r);
 // Reads the "outputs" list of a manifest, for --force, `sheaf inspect` and
 // `sheaf stats`: a checked reader, which returns an error (never throws) for
-// a file that is not a sheaf run record (no "format": "sheaf-run-record") or
-// has a field of the wrong type.
+// a file that is not a sheaf run record (no "format": "sheaf-run-record"), has
+// a field of the wrong type, or lists a path outside its directory.
 Result<std::vector<OutputEntry>> read_manifest_outputs(const std::string& path);
 
 }  // namespace sheaf

@@ -129,6 +129,7 @@ Status write_summary(const StepInput& in, int threads) {
   j["format"] = "sheaf-summary";
   j["format_version"] = kSummaryFormat;
   j["counts"] = {{"read", rec.read}, {"kept", rec.kept}, {"rejected", rec.rejected}};
+  if (!rec.corpora.empty()) j["corpora"] = corpora_json(rec);
   ordered_json funnel = ordered_json::array();
   for (const auto& s : rec.stages) {
     ordered_json f = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};
@@ -248,6 +249,20 @@ static Result<std::string> summary_text_unchecked(const std::string& summary_jso
     std::snprintf(buf, sizeof buf, "  %-14s %12s %12s  ", s["name"].get<std::string>().c_str(), num(s["in"]).c_str(),
                   num(s["in"].get<uint64_t>() - s["out"].get<uint64_t>()).c_str());
     o << buf << reasons << "\n";
+  }
+  if (j.contains("corpora")) {
+    std::snprintf(buf, sizeof buf, "  %-14s %12s %12s %12s  %-6s %s\n", "corpus", "read", "kept", "rejected", "weight",
+                  "pairs per split");
+    o << buf;
+    for (const auto& c : j["corpora"]) {
+      std::string per;
+      for (auto& [k, v] : c["splits"].items()) per += (per.empty() ? "" : ", ") + k + " " + num(v);
+      std::snprintf(buf, sizeof buf, "  %-14s %12s %12s %12s  %-6g %s%s\n", c["name"].get<std::string>().c_str(),
+                    num(c["counts"]["read"]).c_str(), num(c["counts"]["kept"]).c_str(),
+                    num(c["counts"]["rejected"]).c_str(), c["weight"].get<double>(), per.c_str(),
+                    c["held_out"].get<bool>() ? "" : " (not held out)");
+      o << buf;
+    }
   }
   o << "  split          pairs   source chars/words/tokens (mean, p99)   target chars/words/tokens (mean, p99)\n";
   for (auto& [name, s] : j["splits"].items()) {

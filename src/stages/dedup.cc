@@ -42,7 +42,7 @@ template <int kWords>
 class DedupStage : public Stage {
  public:
   DedupStage(const StageContext& ctx, DedupScope scope, bool loose)
-      : index_(ctx.index), scope_(scope), loose_(loose) {}
+      : index_(ctx.index), pipeline_(ctx.pipeline), scope_(scope), loose_(loose) {}
 
   void map(PairBatch& batch) override {
     std::string a, b;
@@ -74,7 +74,9 @@ class DedupStage : public Stage {
   void reduce(PairBatch& batch) override {
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
-      if (uint64_t first = table_.insert(p.key.data(), p.line)) batch.drop(p, index_, "duplicate:" + std::to_string(first));
+      // The table keeps the corpus in the line's top 16 bits.
+      if (uint64_t first = table_.insert(p.key.data(), (uint64_t{p.corpus} << 48) | (p.line & kLineMask)))
+        batch.drop(p, index_, "duplicate:" + pipeline_->origin(static_cast<uint32_t>(first >> 48), first & kLineMask));
     }
   }
 
@@ -83,7 +85,9 @@ class DedupStage : public Stage {
   }
 
  private:
+  static constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;
   int index_;
+  const Pipeline* pipeline_;
   DedupScope scope_;
   bool loose_;
   DedupTable<kWords> table_;

@@ -5,7 +5,9 @@
 // lowercases and removes punctuation, symbols, digits and spaces, so pairs
 // that differ only in those are duplicates. Hashes are XXH3 64-bit (default)
 // or 128-bit; see docs/pipeline.md for the collision bound.
-// Reason code: duplicate:N, N = the input line of the kept occurrence.
+// Reason code: duplicate:N, N = the input line of the kept occurrence
+// (CORPUS:N with named corpora; corpora are read in priority order, so the
+// kept occurrence is the one from the highest-priority corpus).
 // map() hashes in parallel; reduce() looks the hashes up in input order.
 #pragma once
 

@@ -6,6 +6,7 @@
 #include "stages/exclude.h"
 #include "stages/language.h"
 #include "stages/length.h"
+#include "stages/near_dup.h"
 #include "stages/normalize.h"
 #include "stages/pattern.h"
 #include "stages/script.h"
@@ -28,7 +29,7 @@ const std::vector<Entry>& entries() {
   static const std::vector<Entry> e = {
       {normalize_kind(), make_normalize}, {pattern_kind(), make_pattern}, {length_kind(), make_length},
       {copy_kind(), make_copy},           {script_kind(), make_script},   {dedup_kind(), make_dedup},
-      {exclude_kind(), make_exclude},     {language_kind(), make_language},   {split_kind(), make_split},
+      {near_dup_kind(), make_near_dup},   {exclude_kind(), make_exclude},     {language_kind(), make_language},   {split_kind(), make_split},
       {vocabulary_kind(), nullptr},  // runs between passes (pipeline/steps.cc)
       {shards_kind(), nullptr},      // runs last (pipeline/steps.cc)
   };

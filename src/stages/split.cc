@@ -7,10 +7,15 @@
 
 namespace sheaf {
 
-SplitStage::SplitStage(const StageContext&, std::vector<std::string> names, std::vector<double> fractions,
+SplitStage::SplitStage(const StageContext& ctx, std::vector<std::string> names, std::vector<double> fractions,
                        std::vector<int64_t> counts, SplitKey key, uint64_t seed)
     : names_(std::move(names)), fractions_(std::move(fractions)), counts_(std::move(counts)), key_(key), seed_(seed) {
   for (int64_t c : counts_) need_ += c;
+  if (ctx.pipeline != nullptr)
+    for (const auto& c : ctx.pipeline->corpora) {
+      held_out_.push_back(c.held_out);
+      restricted_ |= !c.held_out;
+    }
 }
 
 std::string SplitStage::key_text(const Pair& p) const {
@@ -31,11 +36,18 @@ uint64_t SplitStage::group_hash(std::string_view key_text) const {
   return XXH3_64bits_withSeed(key_text.data(), key_text.size(), seed_);
 }
 
-int SplitStage::assign(uint64_t h) const {
-  if (deferred()) {
+int SplitStage::assign(uint64_t h, uint32_t corpus) const {
+  if (!counts_.empty()) {
     auto it = chosen_.find(h);
-    return it == chosen_.end() ? 0 : it->second;
+    int split = it == chosen_.end() ? 0 : it->second;
+    return split == 0 || held_out(corpus) ? split : -1;
   }
+  int split = by_fraction(h);
+  if (split == 0 || held_out(corpus)) return split;
+  return held_groups_.count(h) ? -1 : 0;
+}
+
+int SplitStage::by_fraction(uint64_t h) const {
   // u = h / 2^64, compared without floating-point rounding of h itself:
   // a fraction f covers hashes below f * 2^64.
   double u = static_cast<double>(h >> 11) * 0x1.0p-53;
@@ -55,15 +67,20 @@ void SplitStage::map(PairBatch& batch) {
     if (!deferred()) p.split = assign(p.key[0]);
   }
 }
-
 void SplitStage::reduce(PairBatch& batch) {
-  // Count mode: keep the groups with the smallest hashes until they hold
+  // Only held-out corpora's pairs choose the splits outside train.
+  // Fraction mode (with a corpus not held out): remember the held-out groups
+  // that left train. Count mode: keep the groups with the smallest hashes until they hold
   // `need_` pairs, plus what filling the splits one after another can
   // overshoot (a group is never cut); a larger hash is dropped from the map
   // as soon as the smaller ones suffice without it.
   for (Pair& p : batch.pairs) {
-    if (!p.kept()) continue;
+    if (!p.kept() || !held_out(p.corpus)) continue;
     uint64_t h = p.key[0];
+    if (counts_.empty()) {
+      if (by_fraction(h) != 0) held_groups_.insert(h);
+      continue;
+    }
     if (!smallest_.empty() && held_ >= need_ + slack() && h > smallest_.rbegin()->first) continue;
     int64_t n = ++smallest_[h];
     max_group_ = std::max(max_group_, n);

@@ -14,11 +14,20 @@
 // wait in a spool file until the end of the pass (the runner routes them).
 // The runner asks the stage which split a pair belongs to; the stage keeps
 // no other state.
+// Named corpora with held_out = false: their pairs go only to train. Dev,
+// test and further splits are chosen among the held-out corpora's pairs
+// (count mode counts only those), and a pair of another corpus whose key
+// landed in one of them cannot go to train without leaking, so it is
+// dropped with reason held-out-key:SPLIT. Which keys landed there is known
+// only at the end of the pass, so such runs wait in the spool like count
+// mode (in fraction mode the stage remembers the held-out groups outside
+// train: about (dev + test) x pairs hashes).
 #pragma once
 
 #include <map>
 #include <string>
 #include <unordered_map>
+#include <unordered_set>
 #include <vector>
 
 #include "stages/stage.h"
@@ -34,9 +43,12 @@ class SplitStage : public Stage {
 
   // Split names; index 0 is train.
   const std::vector<std::string>& names() const { return names_; }
-  // Count mode: pair.split is known only after finish(); call assign().
-  bool deferred() const { return !counts_.empty(); }
-  int assign(uint64_t group_hash) const;
+  // Count mode, or some corpus not held out: pair.split is known only after
+  // finish(); call assign().
+  bool deferred() const { return !counts_.empty() || restricted_; }
+  // The split of a pair of `corpus` with this group hash; -1 when it must be
+  // dropped (held-out-key) because its corpus cannot join that split.
+  int assign(uint64_t group_hash, uint32_t corpus = 0) const;
   // The text the split key is computed from.
   std::string key_text(const Pair& p) const;
   uint64_t group_hash(std::string_view key_text) const;
@@ -58,6 +70,11 @@ class SplitStage : public Stage {
   int64_t held_ = 0;
   std::map<uint64_t, int64_t> smallest_;  // count mode: group hash -> pairs
   std::unordered_map<uint64_t, int> chosen_;
+  int by_fraction(uint64_t h) const;
+  bool held_out(uint32_t corpus) const { return corpus >= held_out_.size() || held_out_[corpus]; }
+  std::vector<bool> held_out_;  // per corpus
+  bool restricted_ = false;     // some corpus is not held out
+  std::unordered_set<uint64_t> held_groups_;  // fraction mode, restricted: held-out groups outside train
 };
 
 const StageKind& split_kind();

@@ -52,6 +52,7 @@ OPTS="--quiet --force --input $CORPUS --set corpus.target_lang=\"$TGT\""
   measure "wc -w" wc -w "$CORPUS"
   measure "sort -u" env LC_ALL=C sort -u "$CORPUS"
   measure "sheaf clean, 2 threads" $B/sheaf run tests/bench/clean.toml --until split --threads 2 $OPTS --out "$OUT/c2"
+  measure "sheaf clean + near-dup, 2 threads" $B/sheaf run tests/bench/clean-near-dup.toml --until split --threads 2 $OPTS --out "$OUT/n2"
   measure "sheaf clean, 1 thread" $B/sheaf run tests/bench/clean.toml --until split --threads 1 $OPTS --out "$OUT/c1"
   measure "sheaf clean + CLD2, 2 threads" $B/sheaf run tests/bench/clean-language.toml --threads 2 $OPTS --out "$OUT/l2"
   measure "CLD2 alone, 2 threads" $B/tests/bench/sheaf_cld2_only "$CORPUS" 2

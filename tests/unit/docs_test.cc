@@ -27,6 +27,7 @@ TEST(Docs, EveryKeyIsDocumentedWithItsDefault) {
   o.inputs = {"corpus.tsv"};
   o.source_lang = "en";
   o.target_lang = "es";
+  o.near_dup = true;
   std::string current = "[corpus]";
   for (const auto& line : test::lines_of(init_template(o))) {
     if (line.rfind("kind = \"", 0) == 0) current = line.substr(8, line.size() - 9);

@@ -151,6 +151,7 @@ TEST(PipelineLoader, InitTemplateLoadsAndRendersStably) {
   o.target_lang = "de";
   o.vocab_size = 16000;
   o.seed = 99;
+  o.near_dup = true;  // every stage kind
   std::string t = init_template(o);
   auto p = load_pipeline_text(t, "p.toml");
   ASSERT_TRUE(p.ok()) << p.error().describe();

@@ -1,0 +1,357 @@
+#include "stages/near_dup.h"
+
+#include <unicode/uchar.h>
+#include <unicode/utf8.h>
+#include <xxhash.h>
+
+#include <algorithm>
+#include <cstring>
+
+#include "core/huge_pages.h"
+
+namespace sheaf {
+
+namespace {
+
+// Eight 32-bit lanes: GCC's vector extension, so the signature loop is one
+// instruction per lane group on AVX2 and two on plain SSE2 (target_clones
+// below picks at load time).
+typedef uint32_t Lanes __attribute__((vector_size(32)));
+constexpr size_t kLanes = 8;
+
+uint64_t splitmix64(uint64_t& state) {
+  uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+  return z ^ (z >> 31);
+}
+
+size_t padded(size_t k) { return (k + kLanes - 1) / kLanes * kLanes; }
+
+// The hot loop: for every shingle hash, every signature value takes the
+// least image of the hash's low half under its permutation
+// x -> (x ^ add) * mul (odd mul: a bijection of 32-bit words), XORed with
+// the hash's high half, then mixed once more (xorshift, multiply). With one
+// multiplication only, the measured share found fell 2-3 standard
+// deviations below the banding curve at s = 0.55 and 0.7 (consistently
+// low): the values of a signature were not independent enough. The
+// measured curve (docs/near-duplicates.md) is the check.
+__attribute__((target_clones("avx2", "default"))) void min_images(const uint64_t* hashes, size_t n,
+                                                                  const uint32_t* mul, const uint32_t* add,
+                                                                  uint32_t* sig, size_t k) {
+  for (size_t g = 0; g < k; g += kLanes) {
+    Lanes m, a, s;
+    std::memcpy(&m, mul + g, sizeof m);
+    std::memcpy(&a, add + g, sizeof a);
+    std::memcpy(&s, sig + g, sizeof s);
+    for (size_t j = 0; j < n; ++j) {
+      uint32_t lo = static_cast<uint32_t>(hashes[j]), hi = static_cast<uint32_t>(hashes[j] >> 32);
+      Lanes v = ((lo ^ a) * m) ^ hi;
+      v ^= v >> 15;
+      v *= 0x2C1B3C6Du;
+      s = v < s ? v : s;
+    }
+    std::memcpy(sig + g, &s, sizeof s);
+  }
+}
+
+// Word starts and ends of a canonical text (words are separated by one space).
+void word_spans(std::string_view c, std::vector<uint32_t>& starts, std::vector<uint32_t>& ends) {
+  starts.clear();
+  ends.clear();
+  size_t i = 0;
+  while (i < c.size()) {
+    size_t sp = c.find(' ', i);
+    if (sp == std::string_view::npos) sp = c.size();
+    starts.push_back(static_cast<uint32_t>(i));
+    ends.push_back(static_cast<uint32_t>(sp));
+    i = sp + 1;
+  }
+}
+
+}  // namespace
+
+NearDupSketch::NearDupSketch(const NearDupOptions& o) : o_(o) {
+  size_t k = padded(static_cast<size_t>(o.bands) * static_cast<size_t>(o.rows));
+  uint64_t state = o.seed ^ 0x6E6561722D647570ULL;
+  mul_.resize(k);
+  add_.resize(k);
+  for (size_t i = 0; i < k; ++i) {
+    uint64_t r = splitmix64(state);
+    mul_[i] = static_cast<uint32_t>(r) | 1u;
+    add_[i] = static_cast<uint32_t>(r >> 32);
+  }
+}
+
+namespace {
+
+// ASCII bytes in the canonical form: the lowercase letter or digit, or 0
+// for a separator.
+struct AsciiFold {
+  char to[128];
+  constexpr AsciiFold() : to{} {
+    for (int c = 0; c < 128; ++c)
+      to[c] = c >= 'a' && c <= 'z' ? static_cast<char>(c)
+              : c >= 'A' && c <= 'Z' ? static_cast<char>(c + 32)
+              : c >= '0' && c <= '9' ? static_cast<char>(c)
+                                     : 0;
+  }
+};
+constexpr AsciiFold kFold;
+
+}  // namespace
+
+void NearDupSketch::canonical(std::string_view text, std::string& out) {
+  // Written through a pointer into a buffer large enough for the longest
+  // result (a lowercase form is at most 3/2 as long in UTF-8, as for
+  // U+023A -> U+2C65), then cut to size.
+  out.resize(text.size() * 3 / 2 + 4);
+  char* w = out.data();
+  char* begin = w;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  bool gap = false;
+  while (i < n) {
+    UChar32 c = p[i];
+    if (c < 0x80) {
+      ++i;
+      char f = kFold.to[c];
+      if (f == 0) {
+        gap = true;
+        continue;
+      }
+      if (gap && w != begin) *w++ = ' ';
+      gap = false;
+      *w++ = f;
+      continue;
+    }
+    U8_NEXT(p, i, n, c);
+    if (c < 0 || !(U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK | U_GC_N_MASK))) {
+      gap = true;
+      continue;
+    }
+    if (gap && w != begin) *w++ = ' ';
+    gap = false;
+    c = u_tolower(c);
+    int32_t len = 0;
+    U8_APPEND_UNSAFE(reinterpret_cast<uint8_t*>(w), len, c);
+    w += len;
+  }
+  out.resize(static_cast<size_t>(w - begin));
+}
+
+std::vector<uint32_t> NearDupSketch::empty() const {
+  return std::vector<uint32_t>(padded(static_cast<size_t>(o_.bands) * static_cast<size_t>(o_.rows)), UINT32_MAX);
+}
+
+void NearDupSketch::add_hashes(const uint64_t* hashes, size_t n, std::vector<uint32_t>& signature) const {
+  min_images(hashes, n, mul_.data(), add_.data(), signature.data(), signature.size());
+}
+
+size_t NearDupSketch::add(std::string_view c, uint64_t salt, std::vector<uint32_t>& signature) const {
+  if (c.empty()) return 0;
+  thread_local std::vector<uint32_t> starts, ends;
+  thread_local std::vector<uint64_t> hashes;
+  hashes.clear();
+  size_t n = static_cast<size_t>(o_.shingle_size);
+  if (o_.unit == ShingleUnit::kWords) {
+    word_spans(c, starts, ends);
+  } else {
+    // Code point boundaries: each code point is a "word" of the span logic.
+    starts.clear();
+    ends.clear();
+    for (size_t i = 0; i < c.size();) {
+      size_t len = 1;
+      unsigned char b = static_cast<unsigned char>(c[i]);
+      if (b >= 0xF0) len = 4;
+      else if (b >= 0xE0) len = 3;
+      else if (b >= 0xC0) len = 2;
+      starts.push_back(static_cast<uint32_t>(i));
+      i = std::min(c.size(), i + len);
+      ends.push_back(static_cast<uint32_t>(i));
+    }
+  }
+  size_t units = starts.size();
+  size_t shingles = units >= n ? units - n + 1 : 1;
+  hashes.resize(shingles);
+  for (size_t k = 0; k < shingles; ++k) {
+    size_t last = std::min(units, k + n) - 1;
+    hashes[k] = XXH3_64bits_withSeed(c.data() + starts[k], ends[last] - starts[k], salt);
+  }
+  add_hashes(hashes.data(), hashes.size(), signature);
+  return shingles;
+}
+
+void NearDupSketch::band_keys(const std::vector<uint32_t>& signature, uint64_t* out) const {
+  size_t r = static_cast<size_t>(o_.rows);
+  for (size_t b = 0; b < static_cast<size_t>(o_.bands); ++b)
+    out[b] = XXH3_64bits_withSeed(signature.data() + b * r, r * sizeof(uint32_t),
+                                  o_.seed * 0x9E3779B97F4A7C15ULL + b + 1);
+}
+
+namespace {
+
+// Band keys of kept pairs: open addressing, linear probing, doubling at 3/4
+// load. A slot holds the whole 64-bit key (0 marks an empty slot) and the
+// index of the kept pair: 12 bytes. With whole keys, a different pair
+// matches only on a 64-bit collision (docs/near-duplicates.md).
+class BandTable {
+ public:
+  BandTable() : slots_(size_t{1} << 16) {}
+
+  // The kept pair holding `key`, or -1.
+  int64_t find(uint64_t key) const {
+    key = key == 0 ? 1 : key;
+    size_t mask = slots_.size() - 1;
+    for (size_t i = key & mask;; i = (i + 1) & mask) {
+      const Slot& s = slots_[i];
+      uint64_t k = s.key();
+      if (k == 0) return -1;
+      if (k == key) return s.kept;
+    }
+  }
+  // Starts loading the key's home slot (the table is far larger than the
+  // caches; a pair's lookups are issued a few pairs ahead).
+  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[(key == 0 ? 1 : key) & (slots_.size() - 1)]); }
+  // Inserts a key that find() did not find.
+  void insert(uint64_t key, uint32_t kept) {
+    if ((size_ + 1) * 4 > slots_.size() * 3) grow();
+    key = key == 0 ? 1 : key;
+    place(slots_, Slot{static_cast<uint32_t>(key), static_cast<uint32_t>(key >> 32), kept});
+    ++size_;
+  }
+  size_t memory_bytes() const { return slots_.capacity() * sizeof(Slot); }
+
+ private:
+  struct Slot {
+    uint32_t lo = 0, hi = 0;  // the key, as two words: 12-byte slots
+    uint32_t kept = 0;
+    uint64_t key() const { return (uint64_t{hi} << 32) | lo; }
+  };
+  static void place(HugeVector<Slot>& t, const Slot& s) {
+    size_t mask = t.size() - 1;
+    size_t i = s.key() & mask;
+    while (t[i].key() != 0) i = (i + 1) & mask;
+    t[i] = s;
+  }
+  void grow() {
+    HugeVector<Slot> bigger(slots_.size() * 2);
+    for (const Slot& s : slots_)
+      if (s.key() != 0) place(bigger, s);
+    slots_.swap(bigger);
+  }
+  HugeVector<Slot> slots_;
+  size_t size_ = 0;
+};
+
+class NearDupStage : public Stage {
+ public:
+  NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
+      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope) {}
+
+  void map(PairBatch& batch) override {
+    size_t bands = static_cast<size_t>(sketch_.options().bands);
+    batch.scratch.resize(batch.pairs.size() * bands);
+    std::string canon;
+    std::vector<uint32_t> sig;
+    uint64_t salt = sketch_.options().seed * 0xC2B2AE3D27D4EB4FULL;
+    for (size_t i = 0; i < batch.pairs.size(); ++i) {
+      Pair& p = batch.pairs[i];
+      p.key[0] = 0;
+      if (!p.kept()) continue;
+      if (sig.empty()) sig = sketch_.empty();
+      else std::fill(sig.begin(), sig.end(), UINT32_MAX);
+      size_t shingles = 0;
+      for (int side = 0; side < 2; ++side) {
+        if (scope_ != 2 && scope_ != side) continue;
+        NearDupSketch::canonical(p.text[static_cast<size_t>(side)], canon);
+        shingles += sketch_.add(canon, salt + static_cast<uint64_t>(side), sig);
+      }
+      if (shingles == 0) continue;
+      p.key[0] = 1;
+      sketch_.band_keys(sig, batch.scratch.data() + i * bands);
+    }
+  }
+
+  bool has_reduce() const override { return true; }
+  void reduce(PairBatch& batch) override {
+    size_t bands = static_cast<size_t>(sketch_.options().bands);
+    constexpr size_t kAhead = 4;
+    auto prefetch = [&](size_t i) {
+      if (i >= batch.pairs.size() || !batch.pairs[i].kept() || batch.pairs[i].key[0] == 0) return;
+      for (size_t b = 0; b < bands; ++b) table_.prefetch(batch.scratch[i * bands + b]);
+    };
+    for (size_t i = 0; i < kAhead; ++i) prefetch(i);
+    for (size_t i = 0; i < batch.pairs.size(); ++i) {
+      prefetch(i + kAhead);
+      Pair& p = batch.pairs[i];
+      if (!p.kept() || p.key[0] == 0) continue;
+      const uint64_t* keys = batch.scratch.data() + i * bands;
+      // The earliest kept pair sharing any band.
+      int64_t match = -1;
+      for (size_t b = 0; b < bands; ++b) {
+        int64_t k = table_.find(keys[b]);
+        if (k >= 0 && (match < 0 || k < match)) match = k;
+      }
+      if (match >= 0) {
+        uint64_t o = kept_[static_cast<size_t>(match)];
+        batch.drop(p, index_, "near-duplicate:" + pipeline_->origin(static_cast<uint32_t>(o >> 48), o & kLineMask));
+        continue;
+      }
+      uint32_t id = static_cast<uint32_t>(kept_.size());
+      kept_.push_back((uint64_t{p.corpus} << 48) | (p.line & kLineMask));
+      // No band was found, and a pair's band keys differ (each holds its
+      // band's index).
+      for (size_t b = 0; b < bands; ++b) table_.insert(keys[b], id);
+    }
+  }
+
+  std::vector<std::pair<std::string, uint64_t>> counters() const override {
+    return {{"kept_sketches", kept_.size()},
+            {"table_bytes", table_.memory_bytes() + kept_.capacity() * sizeof(uint64_t)}};
+  }
+
+ private:
+  static constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;
+  int index_;
+  const Pipeline* pipeline_;
+  NearDupSketch sketch_;
+  int scope_;  // 0 source, 1 target, 2 pair
+  BandTable table_;
+  std::vector<uint64_t> kept_;  // per kept pair: corpus << 48 | line
+};
+
+}  // namespace
+
+const StageKind& near_dup_kind() {
+  static const StageKind k{
+      "near-dup",
+      "drops near-duplicates (MinHash with banding), keeping the first in input order",
+      StageRole::kFilter,
+      {
+          {"scope", FieldType::kChoice, std::string("pair"), "which text is compared: the pair, the source or the target",
+           0, 0, {"pair", "source", "target"}},
+          {"shingle", FieldType::kChoice, std::string("words"), "shingles are runs of words or of characters", 0, 0,
+           {"words", "chars"}},
+          {"shingle_size", FieldType::kInt, int64_t{2}, "words (or characters) per shingle", 1, 32},
+          {"bands", FieldType::kInt, int64_t{15}, "bands of the signature: more bands find less similar pairs", 1, 64},
+          {"rows", FieldType::kInt, int64_t{11}, "signature values per band: more rows demand more similarity", 1, 32},
+          {"seed", FieldType::kInt, int64_t{1}, "seed of the permutations and hashes", 0, 9.2e18},
+      }};
+  return k;
+}
+
+Result<std::unique_ptr<Stage>> make_near_dup(const StageContext& ctx) {
+  const Params& p = ctx.spec->params;
+  NearDupOptions o;
+  o.unit = p.text("shingle") == "chars" ? ShingleUnit::kChars : ShingleUnit::kWords;
+  o.shingle_size = static_cast<int>(p.integer("shingle_size"));
+  o.bands = static_cast<int>(p.integer("bands"));
+  o.rows = static_cast<int>(p.integer("rows"));
+  o.seed = static_cast<uint64_t>(p.integer("seed"));
+  const std::string& s = p.text("scope");
+  int scope = s == "source" ? 0 : s == "target" ? 1 : 2;
+  return std::unique_ptr<Stage>(std::make_unique<NearDupStage>(ctx, o, scope));
+}
+
+}  // namespace sheaf
