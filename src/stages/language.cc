@@ -274,7 +274,19 @@ class LanguageStage : public Stage {
   // confidently finds, or empty to keep the pair.
   std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
     LanguageGuess g = identify_language(own);
-    if (!g.reliable || g.percent[0] < min_share_) return {};
+    if (!g.reliable || g.code[0] == "un") {
+      // CLD2 cannot place the text. Told which language to expect, it
+      // favours that one; a confident answer for another language even so
+      // is a verdict (and needs no second hinted question).
+      ++rechecked;
+      LanguageGuess h = identify_language(own, lang_[side]);
+      std::string found = language_key(h.code[0]);
+      if (!h.reliable || found == "un" || accepted(side, found) || h.percent[0] < min_share_) return {};
+      LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
+      if (e.for_own > 0 && e.for_found == 0) return {};
+      return h.code[0];
+    }
+    if (g.percent[0] < min_share_) return {};
     std::string top = language_key(g.code[0]);
     if (top == "un" || accepted(side, top)) return {};
     int accepted_share = 0;
