@@ -26,9 +26,9 @@
 // CLD2 reads at most 160 bytes of the own text; a verdict is remembered per
 // thread (4,096 recent texts per side), so text that comes again is not
 // asked about twice.
-// Counters: judged:SIDE (sides that needed a verdict), settled-by-script:SIDE,
-// too-few-letters:SIDE, rechecked:SIDE (asked a second time, with the hint),
-// cached:SIDE (verdicts taken from the table).
+// Counters (the same at any thread count): judged:SIDE (sides that needed a
+// verdict), settled-by-script:SIDE, too-few-letters:SIDE, rechecked:SIDE
+// (verdicts that needed a second question, with the hint).
 // CLD2's detection functions are thread-safe (compact_lang_det.h), so map()
 // runs in parallel. This is the slowest filter: put cheaper ones first.
 #pragma once
