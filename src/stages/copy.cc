@@ -132,13 +132,18 @@ double trigram_overlap(std::string_view a, std::string_view b) {
 
 namespace {
 
-// Trigram overlap (Dice) at or below which a pair is not examined further.
+// Trigram overlap (Dice) at or below which a pair is not examined further
+// (lower when max_overlap is lower).
 constexpr double kNotCopy = 0.3;
 
 class CopyStage : public Stage {
  public:
   CopyStage(const StageContext& ctx, double max_overlap, double max_shared, int64_t min_words)
-      : index_(ctx.index), max_overlap_(max_overlap), max_shared_(max_shared), min_words_(static_cast<size_t>(min_words)) {}
+      : index_(ctx.index),
+        max_overlap_(max_overlap),
+        max_shared_(max_shared),
+        min_words_(static_cast<size_t>(min_words)),
+        gate_(std::min(kNotCopy, max_overlap)) {}
   void map(PairBatch& batch) override {
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
@@ -146,16 +151,16 @@ class CopyStage : public Stage {
         batch.drop(p, index_, "copy:identical");
         continue;
       }
+      // Counting shared words costs a scan of both sides. A pair whose
+      // character trigrams overlap by at most gate_ (the cheap upper bound
+      // says so) is no copy by the Dice test, and in practice not by the
+      // words test either: a target with most of its words copied shares
+      // many more trigrams (of the pairs the stage drops on the quality
+      // sets, the lowest bound is 0.32; docs/quality.md).
+      if (trigram_overlap_bound(p.text[0], p.text[1], gate_, known_chars(p, 0), known_chars(p, 1)) <= gate_) continue;
+      WordShare w = shared_words(p.text[1], p.text[0]);
       // Too few words to tell a copy from a translation that looks alike
       // (names, cognates, a month's abbreviation): not judged.
-      // Counting shared words costs a scan of both sides. A pair whose
-      // character trigrams overlap by at most kNotCopy (the cheap upper
-      // bound says so) is no copy by either test: its Dice is below
-      // max_overlap, and a target with most of its words copied shares far
-      // more (the quality sets' partial copies: docs/quality.md).
-      if (trigram_overlap_bound(p.text[0], p.text[1], kNotCopy, known_chars(p, 0), known_chars(p, 1)) <= kNotCopy)
-        continue;
-      WordShare w = shared_words(p.text[1], p.text[0]);
       if (w.words < min_words_) continue;
       if (max_shared_ < 1.0 && static_cast<double>(w.shared) >= max_shared_ * static_cast<double>(w.words)) {
         batch.drop(p, index_, "copy:words");
@@ -185,6 +190,7 @@ class CopyStage : public Stage {
   int index_;
   double max_overlap_, max_shared_;
   size_t min_words_;
+  double gate_;  // pairs whose trigram bound is at most this are not examined
 };
 
 }  // namespace

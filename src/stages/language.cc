@@ -199,7 +199,7 @@ class LanguageStage : public Stage {
   void map(PairBatch& batch) override {
     std::string owns[2];
     size_t letters[2];
-    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, cached[2] = {0, 0};
+    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0};
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       own_texts(p.text[0], p.text[1], owns, letters);
@@ -228,12 +228,15 @@ class LanguageStage : public Stage {
         // (a source with several translations) is not asked about twice.
         uint64_t h = XXH3_64bits_withSeed(own.data(), own.size(), id_ * 2 + static_cast<uint64_t>(side)) | 1;
         CachedVerdict& slot = cache()[h & (kCacheSlots - 1)];
-        if (slot.key == h) {
-          ++cached[side];
-        } else {
+        if (slot.key != h) {
+          uint64_t asked_again = 0;
           slot.key = h;
-          slot.code = verdict(side, own, rechecked[side]);
+          slot.code = verdict(side, own, asked_again);
+          slot.rechecked = asked_again != 0;
         }
+        // Counted whether or not the table answered, so that the counters
+        // do not depend on how batches fall to threads.
+        rechecked[side] += slot.rechecked;
         if (slot.code.empty()) continue;
         batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + slot.code);
       }
@@ -243,7 +246,6 @@ class LanguageStage : public Stage {
       settled_[s].fetch_add(settled[s], std::memory_order_relaxed);
       few_[s].fetch_add(few[s], std::memory_order_relaxed);
       rechecked_[s].fetch_add(rechecked[s], std::memory_order_relaxed);
-      cached_[s].fetch_add(cached[s], std::memory_order_relaxed);
     }
   }
 
@@ -254,7 +256,6 @@ class LanguageStage : public Stage {
       c.emplace_back(std::string("settled-by-script:") + side_name(s), settled_[s].load());
       c.emplace_back(std::string("too-few-letters:") + side_name(s), few_[s].load());
       c.emplace_back(std::string("rechecked:") + side_name(s), rechecked_[s].load());
-      c.emplace_back(std::string("cached:") + side_name(s), cached_[s].load());
     }
     return c;
   }
@@ -262,7 +263,8 @@ class LanguageStage : public Stage {
  private:
   struct CachedVerdict {
     uint64_t key = 0;
-    std::string code;  // the language found, empty: keep
+    std::string code;        // the language found, empty: keep
+    bool rechecked = false;  // the verdict needed a second question
   };
   static constexpr size_t kCacheSlots = 4096;
   static std::vector<CachedVerdict>& cache() {
@@ -274,7 +276,19 @@ class LanguageStage : public Stage {
   // confidently finds, or empty to keep the pair.
   std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
     LanguageGuess g = identify_language(own);
-    if (!g.reliable || g.percent[0] < min_share_) return {};
+    if (!g.reliable || g.code[0] == "un") {
+      // CLD2 cannot place the text. Told which language to expect, it
+      // favours that one; a confident answer for another language even so
+      // is a verdict (and needs no second hinted question).
+      ++rechecked;
+      LanguageGuess h = identify_language(own, lang_[side]);
+      std::string found = language_key(h.code[0]);
+      if (!h.reliable || found == "un" || accepted(side, found) || h.percent[0] < min_share_) return {};
+      LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
+      if (e.for_own > 0 && e.for_found == 0) return {};
+      return h.code[0];
+    }
+    if (g.percent[0] < min_share_) return {};
     std::string top = language_key(g.code[0]);
     if (top == "un" || accepted(side, top)) return {};
     int accepted_share = 0;
@@ -305,7 +319,7 @@ class LanguageStage : public Stage {
   int min_share_;
   std::vector<std::string> accept_[2];  // language keys accepted per side
   std::string lang_[2], key_[2];
-  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{}, cached_[2]{};
+  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{};
   // Tells this stage's cached verdicts from another's (each stage object
   // has its own, so two stages or two runs in one process never share).
   uint64_t id_ = next_id();

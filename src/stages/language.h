@@ -7,12 +7,17 @@
 // whose own letters are all in a script that, among the languages CLD2
 // knows, only the side's language is written in (Thai, Greek, Hangul, kana,
 // Georgian, ...): the script already settles it, and CLD2 is not asked.
-// Otherwise CLD2's full answer is read (ExtDetectLanguageSummary, with the
-// side's language as the hint): its top three languages with the share of
-// the text each holds, and its reliability flag. The pair is dropped only
+// Otherwise CLD2's full answer is read (ExtDetectLanguageSummary, no hint):
+// its top three languages with the share of the text each holds, and its
+// reliability flag. The pair is dropped only
 // when the top language is not an accepted one, CLD2 marks the answer
 // reliable, that language holds at least min_share percent of the text, and
-// no accepted language holds more than 100 - min_share percent. Accepted:
+// no accepted language holds more than 100 - min_share percent; the letters
+// then confirm or overturn the verdict (CLDR exemplar characters: letters
+// only one of the two languages writes), and when they say nothing CLD2 is
+// asked again with the side's language as hint and must hold to it. Text
+// CLD2 cannot place is asked again with the hint, and a confident answer
+// for another language despite it is a verdict. Accepted:
 // the side's language, the languages listed in SIDE_accept, and with
 // accept_related (off by default) close relatives (table in
 // docs/pipeline.md). Codes compare as CLD2 reads them, by primary subtag
@@ -21,9 +26,9 @@
 // CLD2 reads at most 160 bytes of the own text; a verdict is remembered per
 // thread (4,096 recent texts per side), so text that comes again is not
 // asked about twice.
-// Counters: judged:SIDE (sides that needed a verdict), settled-by-script:SIDE,
-// too-few-letters:SIDE, rechecked:SIDE (asked a second time, with the hint),
-// cached:SIDE (verdicts taken from the table).
+// Counters (the same at any thread count): judged:SIDE (sides that needed a
+// verdict), settled-by-script:SIDE, too-few-letters:SIDE, rechecked:SIDE
+// (verdicts that needed a second question, with the hint).
 // CLD2's detection functions are thread-safe (compact_lang_det.h), so map()
 // runs in parallel. This is the slowest filter: put cheaper ones first.
 #pragma once
