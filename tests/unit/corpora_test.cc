@@ -281,11 +281,16 @@ TEST(Corpora, LoaderChecksNamedCorpora) {
                               "p.toml");
   };
   auto ok = load("[[corpus]]\nname = \"a\"\nfiles = [\"a.tsv\"]\nsource_lang = \"en\"\ntarget_lang = \"es\"\n"
-                 "[[corpus]]\nname = \"b\"\nfiles = [\"b.tsv\"]\n");
+                 "skip = [\"length\"]\n[[corpus]]\nname = \"b\"\nfiles = [\"b.tsv\"]\n[corpus.stages.length]\n"
+                 "source_max = 9\n");
   ASSERT_TRUE(ok.ok()) << ok.error().describe();
   EXPECT_EQ(ok->corpora.size(), 2u);
   EXPECT_EQ(ok->corpora[1].target_lang, "es");  // from the first corpus
   EXPECT_EQ(ok->origin(1, 7), "b:7");
+  EXPECT_EQ(ok->corpora[0].skip, std::vector<std::string>{"length"});
+  ASSERT_EQ(ok->corpora[1].stage_params.size(), 1u);
+  EXPECT_EQ(ok->corpora[1].stage_params[0].second.integer("source_max"), 9);
+  EXPECT_EQ(ok->corpora[1].stage_params[0].second.integer("target_max"), 200);  // the stage's own
   // Rendering is a fixed point.
   std::string r = render_pipeline(*ok);
   auto again = load_pipeline_text(r, "p.toml");
@@ -316,6 +321,13 @@ TEST(Corpora, LoaderChecksNamedCorpora) {
   EXPECT_EQ(set->corpora[1].source_lang, "fr");
   EXPECT_EQ(set->corpora[1].weight, 2.5);
   EXPECT_EQ(set->corpora[0].weight, 1.0);
+}
+
+TEST(Corpora, InputOnTheCommandLineNeedsASingleCorpus) {
+  Corpora c;
+  auto r = test::run_sheaf("run " + (c.dir / "p.toml") + " --quiet --input " + (c.dir / "curated.tsv"));
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find("--set NAME.files"), std::string::npos) << r.err;
 }
 
 TEST(Corpora, InitWritesSeveralCorporaThatLoad) {
