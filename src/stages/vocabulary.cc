@@ -10,6 +10,7 @@
 #include "io/output_file.h"
 #include "report/stats.h"
 #include "stages/script.h"
+#include "stages/text_rules.h"
 #include "subword/codec.h"
 
 namespace sheaf {
@@ -165,6 +166,9 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                  "the train split is empty after filtering, so no vocabulary can be learned; see rejected.tsv and the "
                  "stage counts for what removed the pairs",
                  Location{in.dir->file("train.tsv"), 0, 0, {}});
+  // The pipeline as resolved, so that the run directory alone gives the text
+  // rules its vocabulary was learned after (stages/text_rules.h).
+  SHEAF_TRY(write_output(*in.dir, rec, {kRunPipelineFile, "pipeline", "", "", 0}, render_pipeline(*in.pipeline)));
   std::string train = in.dir->file("train.tsv");
   std::string dev_path = in.dir->file(have_dev ? "dev.tsv" : "train.tsv");
 

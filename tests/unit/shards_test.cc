@@ -126,28 +126,6 @@ TEST_F(DemoRun, DecodeRefusesTheWrongVocabulary) {
   EXPECT_NE(r.err.find("no vocabulary matches"), std::string::npos) << r.err;
 }
 
-TEST_F(DemoRun, PythonReaderMatchesTheDecoder) {
-  std::string script = test::source_dir() + "/tests/unit/read_shard.py";
-  std::string vocab = run("vocab.shared.txt");
-  for (const auto& s : shards_of("train")) {
-    auto py = test::run_shell("/usr/bin/python3 " + script + " " + run(s) + " " + vocab);
-    ASSERT_EQ(py.status, 0) << py.err;
-    auto cpp = test::run_sheaf("decode " + run(s));
-    EXPECT_EQ(py.out, cpp.out) << s;
-  }
-  std::string good = test::read_file(run(shards_of("dev")[0]));
-  test::TempDir t;
-  for (size_t at : {size_t{20}, good.size() / 2}) {
-    std::string bad = good;
-    bad[at] ^= 0x01;
-    test::write_file(t / "bad.shard", bad);
-    auto py = test::run_shell("/usr/bin/python3 " + script + " " + (t / "bad.shard") + " " + vocab);
-    EXPECT_EQ(py.status, 3) << "byte " << at << ": " << py.err;
-  }
-  test::write_file(t / "short.shard", good.substr(0, good.size() - 100));
-  EXPECT_EQ(test::run_shell("/usr/bin/python3 " + script + " " + (t / "short.shard") + " " + vocab).status, 3);
-}
-
 // Source of truth for the statistics: wc -l, wc -w and the file size.
 TEST_F(DemoRun, SummaryAgreesWithWcAndFileSizes) {
   json s = json::parse(test::read_file(run("summary.json")));

@@ -6,7 +6,7 @@ of the body (zlib, in the standard library), every position and count against
 the file size, and the offsets. The format is specified in
 docs/shard-format.md.
 
-    from sheaf_shards import Shard
+    from sheaf import Shard
     shard = Shard("runs/demo/shards/train.00000.shard")
     for source_ids, target_ids in shard:
         ...  # numpy arrays of dtype uint16 or uint32
