@@ -7,7 +7,8 @@ and batch them for a training loop. See docs/python.md.
     text = tok.decode(ids)
 """
 
+from .data import SplitDataset, TokenBatchSampler, batches, collate, pad
 from .shards import Shard, ShardError
 from .tokenizer import Tokenizer
 
-__all__ = ["Shard", "ShardError", "Tokenizer"]
+__all__ = ["Shard", "ShardError", "SplitDataset", "TokenBatchSampler", "Tokenizer", "batches", "collate", "pad"]
