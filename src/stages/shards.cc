@@ -101,6 +101,10 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   set.source_vocab = vs.checksum();
   set.target_vocab = vt.checksum();
   set.order = p.text("order") == "length" ? kLengthOrder : kInputOrder;
+  for (int k = 0; k < 4; ++k) {
+    set.source_specials[k] = vs.special(static_cast<Special>(k));
+    set.target_specials[k] = vt.special(static_cast<Special>(k));
+  }
   bool bos = p.flag("bos"), eos = p.flag("eos");
   set.flags = (bos ? uint32_t{kHasBos} : 0u) | (eos ? uint32_t{kHasEos} : 0u);
   uint64_t max_pairs = static_cast<uint64_t>(p.integer("max_pairs"));

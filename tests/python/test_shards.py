@@ -86,3 +86,20 @@ def test_a_truncated_shard_is_refused(demo_run, tmp_path):
         (tmp_path / "short.shard").write_bytes(good[:n])
         with pytest.raises(sheaf.ShardError):
             sheaf.Shard(str(tmp_path / "short.shard"))
+
+
+def test_header_holds_the_special_ids(demo_run):
+    tok = sheaf.Tokenizer(demo_run)
+    want = {"pad": tok.pad_id, "unk": tok.unk_id, "bos": tok.bos_id, "eos": tok.eos_id}
+    for path in shard_paths(demo_run, "train"):
+        header = sheaf.Shard(path).header
+        assert header["version"] == 2
+        assert header["specials"] == {"source": want, "target": want}
+
+
+def test_format_one_is_still_read():
+    # Written before the header held the special ids (the fuzz seed corpus).
+    from conftest import SOURCE_DIR
+    shard = sheaf.Shard(SOURCE_DIR + "/tests/fuzz/corpus/shard_reader/dev.shard")
+    assert shard.header["version"] == 1 and shard.header["specials"] is None
+    assert len(shard) == 63 and int(shard[62][1][-1]) == 3
