@@ -18,6 +18,8 @@
 #include <string>
 #include <vector>
 
+#include <xxhash.h>
+
 #include "stages/tokenizer.h"
 
 namespace py = pybind11;
@@ -83,23 +85,32 @@ class PyTokenizer {
 
   std::string rewrite(const std::string& text) const { return t_->rewrite(text); }
 
-  py::array_t<uint32_t> encode(const std::string& text, bool bos, bool eos) const {
+  py::array_t<uint32_t> encode(const std::string& text, bool bos, bool eos, double dropout, uint64_t seed) const {
+    check_dropout(dropout);
     std::vector<uint32_t> ids;
     {
       py::gil_scoped_release nogil;
-      t_->encode(text, bos, eos, ids);
+      t_->encode(text, bos, eos, ids, dropout, seed);
     }
     return to_array(ids);
   }
 
   // The texts are copied out of Python objects under the GIL, encoded on
   // `threads` threads without it, and turned into arrays under it again.
-  py::list encode_batch(const std::vector<std::string>& texts, bool bos, bool eos, int threads) const {
+  // With dropout, text i draws from the seed XXH3-64(i, seed): the same for
+  // any number of threads.
+  py::list encode_batch(const std::vector<std::string>& texts, bool bos, bool eos, int threads, double dropout,
+                        uint64_t seed) const {
+    check_dropout(dropout);
     std::vector<std::vector<uint32_t>> ids(texts.size());
     {
       py::gil_scoped_release nogil;
       auto work = [&](const tbb::blocked_range<size_t>& r) {
-        for (size_t i = r.begin(); i < r.end(); ++i) t_->encode(texts[i], bos, eos, ids[i]);
+        for (size_t i = r.begin(); i < r.end(); ++i) {
+          uint64_t index = i;
+          uint64_t text_seed = dropout > 0 ? XXH3_64bits_withSeed(&index, sizeof index, seed) : 0;
+          t_->encode(texts[i], bos, eos, ids[i], dropout, text_seed);
+        }
       };
       if (threads == 1 || texts.size() < 2) {
         work(tbb::blocked_range<size_t>(0, texts.size()));
@@ -134,6 +145,10 @@ class PyTokenizer {
 
   const Tokenizer& native() const { return *t_; }
 
+  static void check_dropout(double p) {
+    if (!(p >= 0 && p <= 1)) throw py::value_error("dropout must be a probability, from 0 to 1");
+  }
+
  private:
   explicit PyTokenizer(std::unique_ptr<Tokenizer> t) : t_(std::move(t)) {}
   std::shared_ptr<Tokenizer> t_;
@@ -149,9 +164,10 @@ PYBIND11_MODULE(_sheaf, m) {
       .def_static("from_run", &PyTokenizer::from_run, py::arg("run_dir"), py::arg("side"))
       .def_static("from_files", &PyTokenizer::from_files, py::arg("vocab"), py::arg("pipeline"), py::arg("side"))
       .def("rewrite", &PyTokenizer::rewrite, py::arg("text"))
-      .def("encode", &PyTokenizer::encode, py::arg("text"), py::arg("bos"), py::arg("eos"))
+      .def("encode", &PyTokenizer::encode, py::arg("text"), py::arg("bos"), py::arg("eos"), py::arg("dropout"),
+           py::arg("seed"))
       .def("encode_batch", &PyTokenizer::encode_batch, py::arg("texts"), py::arg("bos"), py::arg("eos"),
-           py::arg("threads"))
+           py::arg("threads"), py::arg("dropout"), py::arg("seed"))
       .def("decode", &PyTokenizer::decode, py::arg("ids"), py::arg("stop_at_eos"), py::arg("skip_special"))
       .def("tokens", &PyTokenizer::tokens, py::arg("text"))
       .def("token", &PyTokenizer::token, py::arg("id"))

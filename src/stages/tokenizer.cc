@@ -53,11 +53,15 @@ std::string Tokenizer::rewrite(std::string_view text) const {
   return s;
 }
 
-void Tokenizer::encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out) const {
+void Tokenizer::encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out, double dropout,
+                       uint64_t seed) const {
   std::string s(text);
   rules_.apply(s, side_);
   if (bos) out.push_back(vocab_.special(kBos));
-  encoder_->encode(s, out);
+  if (dropout > 0)
+    encoder_->encode_dropout(s, dropout, seed, out);
+  else
+    encoder_->encode(s, out);
   if (eos) out.push_back(vocab_.special(kEos));
 }
 

@@ -36,8 +36,10 @@ class Tokenizer {
 
   // The text the pipeline would have written for `text` (see TextRules).
   std::string rewrite(std::string_view text) const;
-  // Appends the ids of the rewritten text, wrapped as asked.
-  void encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out) const;
+  // Appends the ids of the rewritten text, wrapped as asked; with
+  // `dropout` > 0, BPE-dropout with that probability and `seed` (codec.h).
+  void encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out, double dropout = 0,
+              uint64_t seed = 0) const;
   // Text of `ids`: stops at the first end-of-sequence id when `stop_at_eos`,
   // leaves special tokens out when `skip_special` (else writes their
   // spelling).

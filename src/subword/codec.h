@@ -10,6 +10,12 @@
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
 // k merges is the first k merges of a larger one, which is how one learning
 // run serves a whole size sweep.
+// BPE-dropout (Provilkov, Emelianenko & Voita 2020, "BPE-Dropout: Simple and
+// Effective Subword Regularization"): encode_dropout() leaves out each
+// applicable merge occurrence with probability p at every merge step and
+// stops a unit when none is left; p = 0 is encode(), p = 1 applies no merge.
+// The draws come from std::mt19937_64 seeded with `seed`, so the same text,
+// p and seed give the same ids on any thread; it bypasses the cache.
 // Thread-safe: encode() may run on many threads at once.
 #pragma once
 
@@ -47,6 +53,7 @@ class Encoder {
     encode(text, out);
     return out;
   }
+  void encode_dropout(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const;
   // Keeps `ids` as the encoding of `unit` (which they must be, e.g. from the
   // learner: trainer.h's LearnedUnits), so encode() finds it. Thread-safe.
   void remember(std::string_view unit, std::span<const uint32_t> ids) const;

@@ -142,3 +142,22 @@ def test_command_line_encode_applies_the_run_text_rules(demo_run, tok, train):
     ids = " ".join(str(i) for i in list(tok.encode("The garden")) + list(tok.encode("closed")))
     r = run_sheaf("decode", "--vocab", str(demo_run / "vocab.shared.txt"), stdin=ids.encode() + b"\n")
     assert r.stdout.decode() == "The garden\n"
+
+
+def test_bpe_dropout_is_seeded_and_keeps_the_text(tok, train):
+    texts = [s for s, _ in train[:200]]
+    plain = tok.encode_batch(texts, threads=1)
+    zero = tok.encode_batch(texts, threads=2, dropout=0.0, seed=3)
+    one = tok.encode_batch(texts, threads=1, dropout=0.4, seed=3)
+    two = tok.encode_batch(texts, threads=2, dropout=0.4, seed=3)
+    other = tok.encode_batch(texts, threads=2, dropout=0.4, seed=4)
+    changed = 0
+    for text, p, z, a, b, c in zip(texts, plain, zero, one, two, other):
+        np.testing.assert_array_equal(p, z)
+        np.testing.assert_array_equal(a, b)  # the same at any thread count
+        assert tok.decode(a) == text
+        changed += not np.array_equal(a, c)
+    assert changed > 150
+    np.testing.assert_array_equal(tok.encode(texts[0], dropout=0.4, seed=9), tok.encode(texts[0], dropout=0.4, seed=9))
+    with pytest.raises(ValueError, match="probability"):
+        tok.encode("x", dropout=1.5)

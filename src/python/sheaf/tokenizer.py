@@ -65,18 +65,23 @@ class Tokenizer:
         """The text as the pipeline would have written it into train.tsv."""
         return self._t.rewrite(text)
 
-    def encode(self, text, bos=None, eos=None):
-        """Ids of one text: a NumPy uint32 array."""
-        b, e = self._wrap(bos, eos)
-        return self._t.encode(text, b, e)
+    def encode(self, text, bos=None, eos=None, dropout=0.0, seed=0):
+        """Ids of one text: a NumPy uint32 array.
 
-    def encode_batch(self, texts, bos=None, eos=None, threads=0):
+        dropout > 0: BPE-dropout (Provilkov et al. 2020), each applicable
+        merge left out with that probability at every step, drawn from
+        `seed` (the same text, dropout and seed give the same ids)."""
+        b, e = self._wrap(bos, eos)
+        return self._t.encode(text, b, e, float(dropout), int(seed))
+
+    def encode_batch(self, texts, bos=None, eos=None, threads=0, dropout=0.0, seed=0):
         """Ids of many texts (a list of uint32 arrays), encoded on `threads`
-        threads (0: all cores) with the GIL released."""
+        threads (0: all cores) with the GIL released. With dropout, text i
+        draws from a seed made of (seed, i), whatever the thread count."""
         b, e = self._wrap(bos, eos)
         if not isinstance(texts, list):
             texts = list(texts)
-        return self._t.encode_batch(texts, b, e, int(threads))
+        return self._t.encode_batch(texts, b, e, int(threads), float(dropout), int(seed))
 
     def decode(self, ids, stop_at_eos=True, skip_special=True):
         """Text of ids: up to the first end-of-sequence id, special tokens
