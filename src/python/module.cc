@@ -97,31 +97,59 @@ class PyTokenizer {
 
   // The texts are copied out of Python objects under the GIL, encoded on
   // `threads` threads without it, and turned into arrays under it again.
-  // With dropout, text i draws from the seed XXH3-64(i, seed): the same for
-  // any number of threads.
-  py::list encode_batch(const std::vector<std::string>& texts, bool bos, bool eos, int threads, double dropout,
-                        uint64_t seed) const {
+  // The texts' UTF-8 is looked up under the GIL (kept by the list, not
+  // copied), encoded on `threads` threads without it; the ids come back as
+  // one array per text, or with `ragged` as one flat array and the offsets
+  // of each text's ids in it (n + 1 of them), which costs one object instead
+  // of n. With dropout, text i draws from the seed XXH3-64(i, seed): the
+  // same for any number of threads.
+  py::object encode_batch(const py::list& texts, bool bos, bool eos, int threads, double dropout, uint64_t seed,
+                          bool ragged) const {
     check_dropout(dropout);
-    std::vector<std::vector<uint32_t>> ids(texts.size());
+    size_t n = texts.size();
+    std::vector<std::string_view> views(n);
+    for (size_t i = 0; i < n; ++i) {
+      PyObject* o = PyList_GET_ITEM(texts.ptr(), static_cast<Py_ssize_t>(i));
+      if (!PyUnicode_Check(o)) throw py::type_error("encode_batch takes a list of str");
+      Py_ssize_t len = 0;
+      const char* utf8 = PyUnicode_AsUTF8AndSize(o, &len);
+      if (!utf8) throw py::error_already_set();
+      views[i] = std::string_view(utf8, static_cast<size_t>(len));
+    }
+    std::vector<std::vector<uint32_t>> ids(n);
     {
       py::gil_scoped_release nogil;
       auto work = [&](const tbb::blocked_range<size_t>& r) {
         for (size_t i = r.begin(); i < r.end(); ++i) {
           uint64_t index = i;
           uint64_t text_seed = dropout > 0 ? XXH3_64bits_withSeed(&index, sizeof index, seed) : 0;
-          t_->encode(texts[i], bos, eos, ids[i], dropout, text_seed);
+          t_->encode(views[i], bos, eos, ids[i], dropout, text_seed);
         }
       };
-      if (threads == 1 || texts.size() < 2) {
-        work(tbb::blocked_range<size_t>(0, texts.size()));
+      if (threads == 1 || n < 2) {
+        work(tbb::blocked_range<size_t>(0, n));
       } else {
         tbb::task_arena arena(threads > 0 ? threads : tbb::task_arena::automatic);
-        arena.execute([&] { tbb::parallel_for(tbb::blocked_range<size_t>(0, texts.size(), 64), work); });
+        arena.execute([&] { tbb::parallel_for(tbb::blocked_range<size_t>(0, n, 64), work); });
       }
     }
-    py::list out(texts.size());
-    for (size_t i = 0; i < ids.size(); ++i) out[i] = to_array(ids[i]);
-    return out;
+    if (!ragged) {
+      py::list out(n);
+      for (size_t i = 0; i < n; ++i) out[i] = to_array(ids[i]);
+      return out;
+    }
+    py::array_t<int64_t> offsets(static_cast<py::ssize_t>(n + 1));
+    int64_t* off = offsets.mutable_data();
+    off[0] = 0;
+    for (size_t i = 0; i < n; ++i) off[i + 1] = off[i] + static_cast<int64_t>(ids[i].size());
+    py::array_t<uint32_t> flat(static_cast<py::ssize_t>(off[n]));
+    uint32_t* dst = flat.mutable_data();
+    {
+      py::gil_scoped_release nogil;
+      for (size_t i = 0; i < n; ++i)
+        if (!ids[i].empty()) std::memcpy(dst + off[i], ids[i].data(), ids[i].size() * sizeof(uint32_t));
+    }
+    return py::make_tuple(flat, offsets);
   }
 
   py::str decode(const py::handle& ids, bool stop_at_eos, bool skip_special) const {
@@ -167,7 +195,7 @@ PYBIND11_MODULE(_sheaf, m) {
       .def("encode", &PyTokenizer::encode, py::arg("text"), py::arg("bos"), py::arg("eos"), py::arg("dropout"),
            py::arg("seed"))
       .def("encode_batch", &PyTokenizer::encode_batch, py::arg("texts"), py::arg("bos"), py::arg("eos"),
-           py::arg("threads"), py::arg("dropout"), py::arg("seed"))
+           py::arg("threads"), py::arg("dropout"), py::arg("seed"), py::arg("ragged"))
       .def("decode", &PyTokenizer::decode, py::arg("ids"), py::arg("stop_at_eos"), py::arg("skip_special"))
       .def("tokens", &PyTokenizer::tokens, py::arg("text"))
       .def("token", &PyTokenizer::token, py::arg("id"))

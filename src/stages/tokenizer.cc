@@ -55,7 +55,8 @@ std::string Tokenizer::rewrite(std::string_view text) const {
 
 void Tokenizer::encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out, double dropout,
                        uint64_t seed) const {
-  std::string s(text);
+  thread_local std::string s;  // keeps its capacity from text to text
+  s.assign(text);
   rules_.apply(s, side_);
   if (bos) out.push_back(vocab_.special(kBos));
   if (dropout > 0)

@@ -74,14 +74,17 @@ class Tokenizer:
         b, e = self._wrap(bos, eos)
         return self._t.encode(text, b, e, float(dropout), int(seed))
 
-    def encode_batch(self, texts, bos=None, eos=None, threads=0, dropout=0.0, seed=0):
-        """Ids of many texts (a list of uint32 arrays), encoded on `threads`
-        threads (0: all cores) with the GIL released. With dropout, text i
-        draws from a seed made of (seed, i), whatever the thread count."""
+    def encode_batch(self, texts, bos=None, eos=None, threads=0, dropout=0.0, seed=0, ragged=False):
+        """Ids of many texts, encoded on `threads` threads (0: all cores) with
+        the GIL released: a list of uint32 arrays, or with ragged=True a pair
+        (ids, offsets): all ids in one uint32 array, text i's being
+        ids[offsets[i]:offsets[i + 1]] (faster: two objects instead of one
+        per text). With dropout, text i draws from a seed made of (seed, i),
+        whatever the thread count."""
         b, e = self._wrap(bos, eos)
         if not isinstance(texts, list):
             texts = list(texts)
-        return self._t.encode_batch(texts, b, e, int(threads), float(dropout), int(seed))
+        return self._t.encode_batch(texts, b, e, int(threads), float(dropout), int(seed), bool(ragged))
 
     def decode(self, ids, stop_at_eos=True, skip_special=True):
         """Text of ids: up to the first end-of-sequence id, special tokens
