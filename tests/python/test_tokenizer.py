@@ -36,8 +36,11 @@ def test_every_train_line_encodes_to_the_shard_ids(demo_run, tok, train):
         np.testing.assert_array_equal(tok.encode(src_text), src_ids)
         np.testing.assert_array_equal(target.encode(tgt_text), tgt_ids)
     batch = tok.encode_batch([s for s, _ in train], threads=2)
-    for ids, (src_ids, _) in zip(batch, shards):
+    flat, offsets = tok.encode_batch([s for s, _ in train], threads=2, ragged=True)
+    assert len(offsets) == len(train) + 1 and offsets[-1] == len(flat)
+    for i, (ids, (src_ids, _)) in enumerate(zip(batch, shards)):
         np.testing.assert_array_equal(ids, src_ids)
+        np.testing.assert_array_equal(flat[offsets[i]:offsets[i + 1]], src_ids)
 
 
 # Text as scraped pages hold it. The demo pipeline normalizes to NFKC and
