@@ -46,6 +46,8 @@ const StageKind& vocabulary_kind() {
            "sizes measured on dev to help choose a size (learning runs up to the largest)", 261, 4e9},
           {"sweep_max_length", FieldType::kInt, int64_t{128},
            "the sweep reports the share of sentences longer than this", 1, 1e9},
+          {"reuse", FieldType::kStringList, std::vector<std::string>{},
+           "vocabulary files to use instead of learning: one shared, or a source and a target one"},
       }};
   return k;
 }
@@ -62,6 +64,12 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
   } else {
     plan.shared = shared == "shared";
   }
+  for (const auto& f : q.list("reuse")) plan.reuse.push_back(p.resolve(f));
+  if (plan.reuse.size() > 2)
+    return Error(ErrorKind::kPipeline,
+                 "stage \"" + spec.name + "\": reuse takes one shared vocabulary file, or a source and a target one",
+                 q.where("reuse").empty() ? spec.where : q.where("reuse"));
+  if (!plan.reuse.empty()) plan.shared = plan.reuse.size() == 1;
   plan.size = static_cast<size_t>(q.integer("size"));
   plan.sweep = q.integers("sweep");
   plan.sweep_max_length = q.integer("sweep_max_length");
@@ -143,10 +151,66 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
         {"max_tokens", d.max},
         {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
         {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
-        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
+        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0},
+        {"unknown_rate", st.tokens ? static_cast<double>(st.unknown) / static_cast<double>(st.tokens) : 0.0}};
     rows.push_back(r);
   }
   return rows;
+}
+
+struct Job {
+  std::string side;  // shared, source or target
+  std::vector<int> columns;
+};
+
+// Reuse: each job's vocabulary comes from a file (checksum and every field
+// checked by Vocabulary::load; its side must be the job's), is written into
+// the run unchanged, and is measured on dev at its own size and the sweep
+// sizes below it, so the summary says how well it covers the new text.
+Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const VocabularyPlan& plan,
+                          const std::vector<Job>& jobs, const std::string& dev_path, ordered_json& section,
+                          ordered_json& vocabs, LearnedVocabularies& out) {
+  Location where = spec.params.where("reuse").empty() ? spec.where : spec.params.where("reuse");
+  ordered_json reused = ordered_json::array();
+  for (size_t i = 0; i < jobs.size(); ++i) {
+    const Job& job = jobs[i];
+    const std::string& path = plan.reuse[i];
+    auto v = Vocabulary::load(path);
+    if (!v.ok()) return v.error();
+    if (v->info().side != job.side)
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + spec.name + "\": " + path + " is a " + v->info().side +
+                       " vocabulary, but reuse needs " +
+                       (jobs.size() == 1 ? std::string("a shared one (one file)")
+                                         : "a source then a target one (two files), and this is the " + job.side +
+                                               " file"),
+                   where);
+    std::string rel = "vocab." + job.side + ".txt";
+    SHEAF_TRY(write_output(*in.dir, *in.record, {rel, "vocabulary", "", job.side, v->size()}, v->serialize()));
+    out.files.push_back(rel);
+    out.units.emplace_back();
+    reused.push_back({{"side", job.side}, {"file", path}, {"xxh3_64", hex64(v->checksum())}});
+    std::vector<int64_t> sizes;
+    for (int64_t s : plan.sweep)
+      if (static_cast<size_t>(s) < v->size()) sizes.push_back(s);
+    sizes.push_back(static_cast<int64_t>(v->size()));
+    ordered_json sweep = ordered_json::object();
+    for (int col : job.columns)
+      sweep[col == 0 ? "source" : "target"] = sweep_side(*v, column(dev_path, col), sizes, plan.sweep_max_length);
+    vocabs.push_back({{"side", job.side},
+                      {"file", rel},
+                      {"size", v->size()},
+                      {"alphabet", v->alphabet_size()},
+                      {"alphabet_coverage", v->info().alphabet_coverage},
+                      {"merges", v->merges()},
+                      {"learned_merges", 0},
+                      {"stopped_early", false},
+                      {"reused_from", path},
+                      {"sweep", sweep}});
+  }
+  section["size"] = vocabs.empty() ? ordered_json(0) : vocabs[0]["size"];
+  section["reused"] = reused;
+  return {};
 }
 
 }  // namespace
@@ -172,10 +236,6 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
   std::string train = in.dir->file("train.tsv");
   std::string dev_path = in.dir->file(have_dev ? "dev.tsv" : "train.tsv");
 
-  struct Job {
-    std::string side;
-    std::vector<int> columns;
-  };
   std::vector<Job> jobs;
   if (plan->shared) {
     jobs.push_back(Job{"shared", {0, 1}});
@@ -190,6 +250,13 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                           {"sweep_split", have_dev ? "dev" : "train"}};
   ordered_json vocabs = ordered_json::array();
   LearnedVocabularies out;
+  if (!plan->reuse.empty()) {
+    section["learned_up_to"] = 0;
+    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, jobs, dev_path, section, vocabs, out));
+    section["vocabularies"] = vocabs;
+    rec.sections.emplace_back("vocabulary", section.dump());
+    return out;
+  }
   for (const auto& job : jobs) {
     TrainOptions t = plan->train;
     t.side = job.side;

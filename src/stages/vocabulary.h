@@ -29,6 +29,7 @@ struct VocabularyPlan {
   size_t size = 0;     // the size written
   std::vector<int64_t> sweep;
   int64_t sweep_max_length = 128;
+  std::vector<std::string> reuse;  // resolved paths; then nothing is learned
 };
 Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec);
 
