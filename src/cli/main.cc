@@ -179,7 +179,7 @@ int main(int argc, char** argv) {
     while (std::getline(std::cin, line)) {
       ids.clear();
       if (tok) {
-        tok->encode(line, ebos, eeos, ids);
+        tok->encode(line, ebos, eeos, -1, ids);
       } else {
         if (ebos) ids.push_back(v.special(kBos));
         plain_enc->encode(line, ids);

@@ -85,12 +85,13 @@ class PyTokenizer {
 
   std::string rewrite(const std::string& text) const { return t_->rewrite(text); }
 
-  py::array_t<uint32_t> encode(const std::string& text, bool bos, bool eos, double dropout, uint64_t seed) const {
+  py::array_t<uint32_t> encode(const std::string& text, bool bos, bool eos, int64_t tag, double dropout,
+                               uint64_t seed) const {
     check_dropout(dropout);
     std::vector<uint32_t> ids;
     {
       py::gil_scoped_release nogil;
-      t_->encode(text, bos, eos, ids, dropout, seed);
+      t_->encode(text, bos, eos, tag, ids, dropout, seed);
     }
     return to_array(ids);
   }
@@ -103,8 +104,8 @@ class PyTokenizer {
   // of each text's ids in it (n + 1 of them), which costs one object instead
   // of n. With dropout, text i draws from the seed XXH3-64(i, seed): the
   // same for any number of threads.
-  py::object encode_batch(const py::list& texts, bool bos, bool eos, int threads, double dropout, uint64_t seed,
-                          bool ragged) const {
+  py::object encode_batch(const py::list& texts, bool bos, bool eos, int64_t tag, int threads, double dropout,
+                          uint64_t seed, bool ragged) const {
     check_dropout(dropout);
     size_t n = texts.size();
     std::vector<std::string_view> views(n);
@@ -123,7 +124,7 @@ class PyTokenizer {
         for (size_t i = r.begin(); i < r.end(); ++i) {
           uint64_t index = i;
           uint64_t text_seed = dropout > 0 ? XXH3_64bits_withSeed(&index, sizeof index, seed) : 0;
-          t_->encode(views[i], bos, eos, ids[i], dropout, text_seed);
+          t_->encode(views[i], bos, eos, tag, ids[i], dropout, text_seed);
         }
       };
       if (threads == 1 || n < 2) {
@@ -159,7 +160,7 @@ class PyTokenizer {
 
   std::vector<std::string> tokens(const std::string& text) const {
     std::vector<uint32_t> ids;
-    t_->encode(text, false, false, ids);
+    t_->encode(text, false, false, -1, ids);
     std::vector<std::string> out;
     for (uint32_t id : ids) out.push_back(escape_token(t_->vocabulary().token(id).bytes));
     return out;
@@ -192,9 +193,9 @@ PYBIND11_MODULE(_sheaf, m) {
       .def_static("from_run", &PyTokenizer::from_run, py::arg("run_dir"), py::arg("side"))
       .def_static("from_files", &PyTokenizer::from_files, py::arg("vocab"), py::arg("pipeline"), py::arg("side"))
       .def("rewrite", &PyTokenizer::rewrite, py::arg("text"))
-      .def("encode", &PyTokenizer::encode, py::arg("text"), py::arg("bos"), py::arg("eos"), py::arg("dropout"),
-           py::arg("seed"))
-      .def("encode_batch", &PyTokenizer::encode_batch, py::arg("texts"), py::arg("bos"), py::arg("eos"),
+      .def("encode", &PyTokenizer::encode, py::arg("text"), py::arg("bos"), py::arg("eos"), py::arg("tag"),
+           py::arg("dropout"), py::arg("seed"))
+      .def("encode_batch", &PyTokenizer::encode_batch, py::arg("texts"), py::arg("bos"), py::arg("eos"), py::arg("tag"),
            py::arg("threads"), py::arg("dropout"), py::arg("seed"), py::arg("ragged"))
       .def("decode", &PyTokenizer::decode, py::arg("ids"), py::arg("stop_at_eos"), py::arg("skip_special"))
       .def("tokens", &PyTokenizer::tokens, py::arg("text"))
@@ -206,6 +207,13 @@ PYBIND11_MODULE(_sheaf, m) {
       .def_property_readonly("eos_id", [](const PyTokenizer& t) { return t.native().vocabulary().special(sheaf::kEos); })
       .def_property_readonly("shard_bos", [](const PyTokenizer& t) { return t.native().shard_bos(); })
       .def_property_readonly("shard_eos", [](const PyTokenizer& t) { return t.native().shard_eos(); })
+      .def_property_readonly("shard_tag", [](const PyTokenizer& t) { return t.native().shard_tag(); })
+      .def("user_id", [](const PyTokenizer& t, const std::string& text) { return t.native().vocabulary().user_id(text); })
+      .def_property_readonly("user_tokens", [](const PyTokenizer& t) {
+        std::vector<std::string> out;
+        for (const auto& u : t.native().vocabulary().user_tokens()) out.push_back(u.first);
+        return out;
+      })
       .def_property_readonly("vocabulary_path", [](const PyTokenizer& t) { return t.native().vocabulary_path(); })
       .def_property_readonly("vocabulary_checksum",
                              [](const PyTokenizer& t) { return t.native().vocabulary().checksum(); });

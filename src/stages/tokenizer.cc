@@ -42,6 +42,7 @@ Result<std::unique_ptr<Tokenizer>> Tokenizer::make(const std::string& vocab_file
     if (s.kind->role != StageRole::kShards) continue;
     t->bos_ = s.params.flag("bos");
     t->eos_ = s.params.flag("eos");
+    t->tag_ = t->vocab_.user_id(s.params.text(side == 0 ? "source_tag" : "target_tag"));
   }
   t->encoder_ = std::make_unique<Encoder>(t->vocab_, SIZE_MAX, text_bytes > 0 ? text_bytes : uint64_t{1} << 22);
   return t;
@@ -53,12 +54,13 @@ std::string Tokenizer::rewrite(std::string_view text) const {
   return s;
 }
 
-void Tokenizer::encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out, double dropout,
-                       uint64_t seed) const {
+void Tokenizer::encode(std::string_view text, bool bos, bool eos, int64_t tag, std::vector<uint32_t>& out,
+                       double dropout, uint64_t seed) const {
   thread_local std::string s;  // keeps its capacity from text to text
   s.assign(text);
   rules_.apply(s, side_);
   if (bos) out.push_back(vocab_.special(kBos));
+  if (tag >= 0) out.push_back(static_cast<uint32_t>(tag));
   if (dropout > 0)
     encoder_->encode_dropout(s, dropout, seed, out);
   else

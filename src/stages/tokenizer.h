@@ -36,9 +36,10 @@ class Tokenizer {
 
   // The text the pipeline would have written for `text` (see TextRules).
   std::string rewrite(std::string_view text) const;
-  // Appends the ids of the rewritten text, wrapped as asked; with
+  // Appends the ids of the rewritten text, wrapped as asked (`tag`: the id
+  // of a user-defined token put first, after bos; -1 none); with
   // `dropout` > 0, BPE-dropout with that probability and `seed` (codec.h).
-  void encode(std::string_view text, bool bos, bool eos, std::vector<uint32_t>& out, double dropout = 0,
+  void encode(std::string_view text, bool bos, bool eos, int64_t tag, std::vector<uint32_t>& out, double dropout = 0,
               uint64_t seed = 0) const;
   // Text of `ids`: stops at the first end-of-sequence id when `stop_at_eos`,
   // leaves special tokens out when `skip_special` (else writes their
@@ -51,6 +52,8 @@ class Tokenizer {
   // Whether the run's shards put bos / eos around each side.
   bool shard_bos() const { return bos_; }
   bool shard_eos() const { return eos_; }
+  // The user-defined token the shards put first on this side, or -1.
+  int64_t shard_tag() const { return tag_; }
   const std::string& vocabulary_path() const { return vocab_path_; }
 
  private:
@@ -64,6 +67,7 @@ class Tokenizer {
   std::string vocab_path_;
   int side_ = 0;
   bool bos_ = false, eos_ = false;
+  int64_t tag_ = -1;
 };
 
 }  // namespace sheaf

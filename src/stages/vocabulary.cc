@@ -46,6 +46,8 @@ const StageKind& vocabulary_kind() {
            "sizes measured on dev to help choose a size (learning runs up to the largest)", 261, 4e9},
           {"sweep_max_length", FieldType::kInt, int64_t{128},
            "the sweep reports the share of sentences longer than this", 1, 1e9},
+          {"user_tokens", FieldType::kStringList, std::vector<std::string>{},
+           "user-defined tokens (language or domain tags): the last ids, never split; part of size"},
           {"reuse", FieldType::kStringList, std::vector<std::string>{},
            "vocabulary files to use instead of learning: one shared, or a source and a target one"},
       }};
@@ -65,6 +67,15 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
     plan.shared = shared == "shared";
   }
   for (const auto& f : q.list("reuse")) plan.reuse.push_back(p.resolve(f));
+  plan.user_tokens = q.list("user_tokens");
+  for (size_t i = 0; i < plan.user_tokens.size(); ++i) {
+    const std::string& u = plan.user_tokens[i];
+    if (u.empty() || std::find(plan.user_tokens.begin(), plan.user_tokens.begin() + static_cast<long>(i), u) !=
+                         plan.user_tokens.begin() + static_cast<long>(i))
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + spec.name + "\": user_tokens must be non-empty and each given once (\"" + u + "\")",
+                   q.where("user_tokens").empty() ? spec.where : q.where("user_tokens"));
+  }
   if (plan.reuse.size() > 2)
     return Error(ErrorKind::kPipeline,
                  "stage \"" + spec.name + "\": reuse takes one shared vocabulary file, or a source and a target one",
@@ -268,7 +279,8 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
     if (!learned.ok()) return learned.error();
     const Vocabulary& full = *learned;
     // The vocabulary written: the first (size - fixed) merges.
-    size_t keep = plan->size > full.first_merge() ? std::min(full.merges(), plan->size - full.first_merge()) : 0;
+    size_t fixed = full.first_merge() + plan->user_tokens.size();
+    size_t keep = plan->size > fixed ? std::min(full.merges(), plan->size - fixed) : 0;
     std::vector<std::string> alphabet;
     for (size_t i = 0; i < full.alphabet_size(); ++i)
       alphabet.push_back(full.token(full.first_char() + static_cast<uint32_t>(i)).bytes);
@@ -277,6 +289,7 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
       const Token& tk = full.token(full.first_merge() + static_cast<uint32_t>(m));
       v.add_merge(tk.left, tk.right);
     }
+    for (const auto& u : plan->user_tokens) v.add_user(u);
     std::string rel = "vocab." + job.side + ".txt";
     SHEAF_TRY(write_output(*in.dir, rec, {rel, "vocabulary", "", job.side, v.size()}, v.serialize()));
     out.files.push_back(rel);

@@ -1,6 +1,7 @@
 // Encoder and decoder for a Vocabulary.
 //
-// encode() cuts text into word units (units.h), turns each character into its
+// encode() first cuts text at the vocabulary's user-defined tokens (each
+// becomes its id, never split), then cuts the rest into word units (units.h), turns each character into its
 // alphabet token or, if it is not in the alphabet, into its UTF-8 byte tokens
 // (or the unknown token when byte fallback is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
@@ -111,6 +112,9 @@ class Encoder {
     uint32_t unflushed = 0;  // this thread's cache adds not yet counted
   };
   void encode_unit(std::string_view unit, Scratch& s) const;
+  // Text without user-defined tokens.
+  void encode_plain(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const;
+  void encode_dropout_plain(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const;
   const Vocabulary& v_;
   size_t merges_;
   MergeRanks rank_;

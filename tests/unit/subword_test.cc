@@ -629,3 +629,34 @@ TEST(Dropout, EachMergeIsSkippedWithProbabilityP) {
 
 }  // namespace
 }  // namespace sheaf
+
+namespace sheaf {
+namespace {
+
+// User-defined tokens: written as format 2 with their kind, read back the
+// same; a vocabulary without them is still written as format 1.
+TEST(VocabularyFile, UserTokensRoundTripAndFormatOneStays) {
+  Vocabulary v =
+      Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
+  uint32_t a = static_cast<uint32_t>(v.char_id("a"));
+  v.add_merge(a, a + 1);
+  EXPECT_EQ(v.serialize().rfind("sheaf-vocabulary\t1\n", 0), 0u);
+  uint32_t tag = v.add_user("<2de>");
+  v.add_user("a\tb");
+  EXPECT_EQ(tag, v.size() - 2);
+  EXPECT_EQ(v.merges(), 1u);
+  std::string text = v.serialize();
+  EXPECT_EQ(text.rfind("sheaf-vocabulary\t2\n", 0), 0u);
+  EXPECT_NE(text.find("user-tokens\t2\n"), std::string::npos);
+  EXPECT_NE(text.find("\tuser\ta\\tb\n"), std::string::npos);
+  auto back = Vocabulary::parse(text, "v");
+  ASSERT_TRUE(back.ok()) << back.error().describe();
+  EXPECT_EQ(back->serialize(), text);
+  EXPECT_EQ(back->user_id("<2de>"), static_cast<int64_t>(tag));
+  Encoder enc(*back);
+  EXPECT_EQ(enc.encode("ab<2de>ab"), (std::vector<uint32_t>{back->first_merge(), tag, back->first_merge()}));
+  EXPECT_EQ(decode(*back, enc.encode("c<2de>a\tb")), "c<2de>a\tb");
+}
+
+}  // namespace
+}  // namespace sheaf

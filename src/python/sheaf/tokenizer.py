@@ -57,34 +57,49 @@ class Tokenizer:
         """XXH3-64 of the vocabulary file, as the shards' headers record it."""
         return self._t.vocabulary_checksum
 
-    def _wrap(self, bos, eos):
+    @property
+    def user_tokens(self):
+        """The vocabulary's user-defined tokens (tags), in id order."""
+        return self._t.user_tokens
+
+    def _wrap(self, bos, eos, tag):
+        if tag is None:
+            tag_id = self._t.shard_tag
+        elif tag is False or tag == "":
+            tag_id = -1
+        else:
+            tag_id = self._t.user_id(tag)
+            if tag_id < 0:
+                raise ValueError("%r is not a user-defined token of this vocabulary" % (tag,))
         return (self._t.shard_bos if bos is None else bool(bos),
-                self._t.shard_eos if eos is None else bool(eos))
+                self._t.shard_eos if eos is None else bool(eos), tag_id)
 
     def normalize(self, text):
         """The text as the pipeline would have written it into train.tsv."""
         return self._t.rewrite(text)
 
-    def encode(self, text, bos=None, eos=None, dropout=0.0, seed=0):
-        """Ids of one text: a NumPy uint32 array.
+    def encode(self, text, bos=None, eos=None, dropout=0.0, seed=0, tag=None):
+        """Ids of one text: a NumPy uint32 array. bos, eos and tag (a
+        user-defined token put first, after bos) default to what the run's
+        shards stage did for this side; tag="" puts none.
 
         dropout > 0: BPE-dropout (Provilkov et al. 2020), each applicable
         merge left out with that probability at every step, drawn from
         `seed` (the same text, dropout and seed give the same ids)."""
-        b, e = self._wrap(bos, eos)
-        return self._t.encode(text, b, e, float(dropout), int(seed))
+        b, e, t = self._wrap(bos, eos, tag)
+        return self._t.encode(text, b, e, t, float(dropout), int(seed))
 
-    def encode_batch(self, texts, bos=None, eos=None, threads=0, dropout=0.0, seed=0, ragged=False):
+    def encode_batch(self, texts, bos=None, eos=None, threads=0, dropout=0.0, seed=0, ragged=False, tag=None):
         """Ids of many texts, encoded on `threads` threads (0: all cores) with
         the GIL released: a list of uint32 arrays, or with ragged=True a pair
         (ids, offsets): all ids in one uint32 array, text i's being
         ids[offsets[i]:offsets[i + 1]] (faster: two objects instead of one
         per text). With dropout, text i draws from a seed made of (seed, i),
         whatever the thread count."""
-        b, e = self._wrap(bos, eos)
+        b, e, t = self._wrap(bos, eos, tag)
         if not isinstance(texts, list):
             texts = list(texts)
-        return self._t.encode_batch(texts, b, e, int(threads), float(dropout), int(seed), bool(ragged))
+        return self._t.encode_batch(texts, b, e, t, int(threads), float(dropout), int(seed), bool(ragged))
 
     def decode(self, ids, stop_at_eos=True, skip_special=True):
         """Text of ids: up to the first end-of-sequence id, special tokens
