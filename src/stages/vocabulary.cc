@@ -3,7 +3,9 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <filesystem>
 #include <fstream>
+#include <sstream>
 #include <nlohmann/json.hpp>
 
 #include "core/text.h"
@@ -174,6 +176,35 @@ struct Job {
   std::vector<int> columns;
 };
 
+// When a reused vocabulary file sits in the run directory that learned it,
+// that run's figures for it at its own size (from its summary.json's sweep):
+// tokens per word, byte-token and unknown rates on its dev split, to set
+// beside the new run's. Null when there is no such run.
+ordered_json old_run_figures(const std::string& vocab_path, const Vocabulary& v) {
+  std::filesystem::path file(vocab_path);
+  std::ifstream in(file.parent_path() / "summary.json");
+  if (!in) return nullptr;
+  std::stringstream text;
+  text << in.rdbuf();
+  auto j = ordered_json::parse(text.str(), nullptr, false);
+  if (j.is_discarded() || !j.contains("vocabulary") || !j["vocabulary"].contains("vocabularies")) return nullptr;
+  for (const auto& entry : j["vocabulary"]["vocabularies"]) {
+    if (entry.value("file", "") != file.filename().string() || !entry.contains("sweep")) continue;
+    ordered_json out = {{"summary", (file.parent_path() / "summary.json").string()}};
+    for (const auto& [side, rows] : entry["sweep"].items()) {
+      for (const auto& r : rows) {
+        if (r.value("size", uint64_t{0}) != v.size()) continue;
+        ordered_json figures = ordered_json::object();
+        for (const char* key : {"tokens_per_word", "byte_token_rate", "unknown_rate"})
+          if (r.contains(key)) figures[key] = r[key];
+        out[side] = figures;
+      }
+    }
+    return out;
+  }
+  return nullptr;
+}
+
 // Reuse: each job's vocabulary comes from a file (checksum and every field
 // checked by Vocabulary::load; its side must be the job's), is written into
 // the run unchanged, and is measured on dev at its own size and the sweep
@@ -208,6 +239,7 @@ Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const Voca
     ordered_json sweep = ordered_json::object();
     for (int col : job.columns)
       sweep[col == 0 ? "source" : "target"] = sweep_side(*v, column(dev_path, col), sizes, plan.sweep_max_length);
+    reused.back()["old_run"] = old_run_figures(path, *v);
     vocabs.push_back({{"side", job.side},
                       {"file", rel},
                       {"size", v->size()},

@@ -54,11 +54,19 @@ def test_a_reused_vocabulary_gives_the_old_runs_ids(demo_run, tmp_path):
     assert (out / "vocab.shared.txt").read_bytes() == (demo_run / "vocab.shared.txt").read_bytes()
     old = sheaf.Tokenizer(demo_run)
     manifest = json.loads((out / "manifest.json").read_text())
-    assert manifest["vocabulary"]["reused"] == [
+    reused = manifest["vocabulary"]["reused"]
+    assert [{k: r[k] for k in ("side", "file", "xxh3_64")} for r in reused] == [
         {"side": "shared", "file": vocab, "xxh3_64": "%016x" % old.vocabulary_checksum}]
     summary = json.loads((out / "summary.json").read_text())
     rows = summary["vocabulary"]["vocabularies"][0]["sweep"]["source"]
     assert rows[-1]["size"] == old.vocab_size and "unknown_rate" in rows[-1] and rows[-1]["tokens_per_word"] > 1
+    # The old run's figures for the same vocabulary, beside the new ones.
+    old_summary = json.loads((demo_run / "summary.json").read_text())
+    old_rows = old_summary["vocabulary"]["vocabularies"][0]["sweep"]["source"]
+    old_row = [r for r in old_rows if r["size"] == old.vocab_size][0]
+    reused = summary["vocabulary"]["reused"][0]["old_run"]
+    assert reused["summary"] == str(demo_run / "summary.json")
+    assert reused["source"]["tokens_per_word"] == old_row["tokens_per_word"]
     # Ids of the new shards are the old tokenizer's encoding of the new text.
     pairs = [p for path in shard_paths(out, "train") for p in sheaf.Shard(path)]
     train = split_lines(out, "train")
