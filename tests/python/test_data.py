@@ -113,3 +113,11 @@ def test_torch_data_loader_with_worker_processes(data):
                 assert (batch["target"][row, m:] == data.target_pad_id).all()
             seen += indices
     assert sorted(seen) == list(range(len(data)))
+
+
+def test_dataset_survives_pickling_for_spawned_workers(data):
+    import pickle
+    copy = pickle.loads(pickle.dumps(data))
+    assert len(copy) == len(data) and copy.pad_id == data.pad_id
+    for i in (0, len(data) // 2, len(data) - 1):
+        np.testing.assert_array_equal(copy[i][1], data[i][1])
