@@ -12,6 +12,8 @@ set(layers core io subword shards stages pipeline report cli python)
 set(known_debt
   io/pair_reader.h:pipeline
   stages/stage.h:pipeline
+  stages/text_rules.h:pipeline
+  stages/tokenizer.h:pipeline
   stages/normalize.h:pipeline
   stages/registry.cc:pipeline
   stages/shards.h:pipeline

@@ -10,6 +10,7 @@
 #include <fstream>
 #include <iostream>
 #include <new>
+#include <optional>
 #include <sstream>
 
 #include "pipeline/pipeline.h"
@@ -18,6 +19,7 @@
 #include "report/summary.h"
 #include "shards/inspect.h"
 #include "stages/stage.h"
+#include "stages/tokenizer.h"
 #include "subword/codec.h"
 
 namespace {
@@ -170,15 +172,23 @@ int run_command(int argc, char** argv) {
 
   // encode
   auto* encode = app.add_subcommand("encode", "text lines on standard input to token ids on standard output");
-  std::string evocab;
+  std::string evocab, erun, epipeline, eside = "source";
   bool show_tokens = false, ebos = false, eeos = false;
-  encode->add_option("--vocab", evocab, "vocabulary file")->required();
+  auto* evocab_opt = encode->add_option("--vocab", evocab, "vocabulary file");
+  auto* erun_opt = encode->add_option(
+      "--run", erun, "a run directory: its vocabulary, and its pipeline's text rules applied before encoding");
+  encode->add_option("--pipeline", epipeline, "with --vocab: apply this pipeline file's text rules before encoding")
+      ->needs(evocab_opt);
+  encode->add_option("--side", eside, "which side's text rules (and, with --run, vocabulary) apply")
+      ->check(CLI::IsMember({"source", "target"}))
+      ->capture_default_str();
+  evocab_opt->excludes(erun_opt);
   encode->add_flag("--tokens", show_tokens, "print the escaped tokens instead of ids");
   encode->add_flag("--bos", ebos, "begin each line with the begin-of-sequence id");
   encode->add_flag("--eos", eeos, "end each line with the end-of-sequence id");
 
   // decode
-  auto* decode_cmd = app.add_subcommand("decode", "token ids (standard input) or a shard back to text");
+  auto* decode_cmd = app.add_subcommand("decode", "token ids (standard input; each line up to its end-of-sequence id) or a shard back to text");
   std::vector<std::string> dvocab;
   std::string dshard;
   decode_cmd->add_option("shard", dshard, "a shard file to print as TSV (omit to read ids from standard input)");
@@ -231,25 +241,46 @@ int run_command(int argc, char** argv) {
     return 0;
   }
   if (encode->parsed()) {
-    auto v = Vocabulary::load(evocab);
-    if (!v.ok()) return fail(v.error());
+    if (evocab.empty() && erun.empty()) return fail(Error(ErrorKind::kUsage, "encode needs --vocab FILE or --run DIR"));
     // The cache is sized for the input: a file's size, or 1 MiB for a pipe
     // (a large cache costs the time to clear it, even for one line).
     struct stat st {};
     uint64_t input_bytes =
         ::fstat(STDIN_FILENO, &st) == 0 && S_ISREG(st.st_mode) ? static_cast<uint64_t>(st.st_size) : 0;
-    Encoder enc(*v, SIZE_MAX, input_bytes > 0 ? input_bytes : uint64_t{1} << 20);
+    uint64_t cache_bytes = input_bytes > 0 ? input_bytes : uint64_t{1} << 20;
+    int side = eside == "target" ? 1 : 0;
+    // Without a pipeline the text is encoded as it comes; with one (--run,
+    // or --vocab with --pipeline) through its text rules first.
+    std::unique_ptr<Tokenizer> tok;
+    std::optional<Vocabulary> plain_vocab;
+    std::optional<Encoder> plain_enc;
+    if (!erun.empty() || !epipeline.empty()) {
+      auto t = erun.empty() ? Tokenizer::from_files(evocab, epipeline, side, cache_bytes)
+                            : Tokenizer::from_run(erun, side, cache_bytes);
+      if (!t.ok()) return fail(t.error());
+      tok = std::move(t.value());
+    } else {
+      auto v = Vocabulary::load(evocab);
+      if (!v.ok()) return fail(v.error());
+      plain_vocab.emplace(std::move(v.value()));
+      plain_enc.emplace(*plain_vocab, SIZE_MAX, cache_bytes);
+    }
+    const Vocabulary& v = tok ? tok->vocabulary() : *plain_vocab;
     std::string line, out;
     std::vector<uint32_t> ids;
     while (std::getline(std::cin, line)) {
       ids.clear();
-      if (ebos) ids.push_back(v->special(kBos));
-      enc.encode(line, ids);
-      if (eeos) ids.push_back(v->special(kEos));
+      if (tok) {
+        tok->encode(line, ebos, eeos, -1, ids);
+      } else {
+        if (ebos) ids.push_back(v.special(kBos));
+        plain_enc->encode(line, ids);
+        if (eeos) ids.push_back(v.special(kEos));
+      }
       out.clear();
       for (size_t i = 0; i < ids.size(); ++i) {
         if (i) out += ' ';
-        out += show_tokens ? escape_token(v->token(ids[i]).bytes) : std::to_string(ids[i]);
+        out += show_tokens ? escape_token(v.token(ids[i]).bytes) : std::to_string(ids[i]);
       }
       out += '\n';
       std::cout << out;
@@ -284,6 +315,10 @@ int run_command(int argc, char** argv) {
                     Location{"<stdin>", n, 0, {}}));
         ids.push_back(static_cast<uint32_t>(id));
       }
+      // A model's output ends at its first end-of-sequence id; what follows
+      // is not text.
+      auto eos = std::find(ids.begin(), ids.end(), v->special(kEos));
+      ids.erase(eos, ids.end());
       std::cout << decode(*v, ids) << '\n';
     }
     return 0;

@@ -35,6 +35,10 @@ Status ids_within_vocabularies(const ShardReader& r, const std::string& path, bo
   return {};
 }
 
+std::string specials(const uint32_t (&ids)[4]) {
+  return "pad " + std::to_string(ids[kPad]) + ", unk " + std::to_string(ids[kUnk]) + ", bos " +
+         std::to_string(ids[kBos]) + ", eos " + std::to_string(ids[kEos]);
+}
 }  // namespace
 
 Status inspect_shard(const std::string& path, std::ostream& out) {
@@ -56,6 +60,11 @@ Status inspect_shard(const std::string& path, std::ostream& out) {
       << "  bos / eos        " << ((h.flags & kHasBos) ? "yes" : "no") << " / " << ((h.flags & kHasEos) ? "yes" : "no") << "\n"
       << "  source ids       " << h.source_count << " (max id " << r->max_id(0) << "), vocabulary " << hex64(h.source_vocab) << "\n"
       << "  target ids       " << h.target_count << " (max id " << r->max_id(1) << "), vocabulary " << hex64(h.target_vocab) << "\n"
+      << "  special ids      "
+      << (h.source_specials[0] == kUnknownSpecial
+              ? std::string("not recorded (format 1)")
+              : specials(h.source_specials) + " (source); " + specials(h.target_specials) + " (target)")
+      << "\n"
       << "  file size        " << h.file_size << " bytes, checksums verified\n"
       << "  ids              " << (vocab_checked ? "all within their vocabularies" : "not checked (no vocabulary beside the shard)")
       << "\n";

@@ -37,7 +37,7 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   }
   ShardReader r;
   r.size_ = static_cast<size_t>(st.st_size);
-  if (r.size_ < kShardHeaderSize + 8) {
+  if (r.size_ < kShardHeaderSizeV1 + 8) {
     ::close(fd);
     return bad("the file has " + std::to_string(r.size_) + " bytes, less than a header and a checksum (truncated?)");
   }
@@ -45,13 +45,36 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   ::close(fd);
   if (m == MAP_FAILED) return Error(ErrorKind::kIo, std::string("cannot map shard: ") + std::strerror(errno), Location{path, 0, 0, {}});
   r.data_ = static_cast<const uint8_t*>(m);
-  std::memcpy(&r.h_, r.data_, sizeof r.h_);
   const ShardHeader& h = r.h_;
-  if (std::memcmp(h.magic, kShardMagic, 8) != 0) return bad("not a sheaf shard (wrong magic bytes)", 0);
-  if (XXH3_64bits(r.data_, 112) != h.header_checksum ||
-      shard_crc32(r.data_, 112) != h.header_crc32)
-    return bad("the header checksum does not match", 112);
-  if (h.version != kShardFormat) return bad("format version " + std::to_string(h.version) + " is not " + std::to_string(kShardFormat), 8);
+  if (std::memcmp(r.data_, kShardMagic, 8) != 0) return bad("not a sheaf shard (wrong magic bytes)", 0);
+  uint32_t version;
+  std::memcpy(&version, r.data_ + 8, 4);
+  // The header's checksums sit after the fields they cover: at byte 112 in
+  // format 1, after the special ids in format 2. An unknown version is
+  // reported only once the format-1 checksum says the version is intact.
+  if (version == kShardFormat && r.size_ < kShardHeaderSize + 8)
+    return bad("the file has " + std::to_string(r.size_) + " bytes, less than a header and a checksum (truncated?)");
+  uint64_t covered = version == kShardFormat ? offsetof(ShardHeader, header_checksum) : kShardHeaderFields;
+  uint64_t want_xxh;
+  uint32_t want_crc;
+  std::memcpy(&want_xxh, r.data_ + covered, 8);
+  std::memcpy(&want_crc, r.data_ + covered + 8, 4);
+  if (XXH3_64bits(r.data_, covered) != want_xxh ||
+      shard_crc32(r.data_, covered) != want_crc)
+    return bad("the header checksum does not match", covered);
+  if (version != 1 && version != kShardFormat)
+    return bad("format version " + std::to_string(version) + " is not 1 or " + std::to_string(kShardFormat) +
+                   " (a newer sheaf wrote it?)",
+               8);
+  uint64_t header_size = shard_header_size(version);
+  if (version == 1) {
+    std::memcpy(&r.h_, r.data_, kShardHeaderFields);
+    for (int k = 0; k < 4; ++k) r.h_.source_specials[k] = r.h_.target_specials[k] = kUnknownSpecial;
+    r.h_.header_checksum = want_xxh;
+    r.h_.header_crc32 = want_crc;
+  } else {
+    std::memcpy(&r.h_, r.data_, sizeof r.h_);
+  }
   if (h.id_width != 2 && h.id_width != 4) return bad("id width must be 2 or 4", 12);
   // Values this version does not define are refused, not ignored: a reader
   // that ignored them would misread a shard of a later format.
@@ -65,7 +88,7 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
   uint64_t body_end = r.size_ - 8;
   // Each array must sit inside the body, aligned, with room for its size.
   auto check = [&](uint64_t pos, uint64_t count, uint64_t width, const char* what) -> Status {
-    if (pos % kShardAlign != 0 || pos < kShardHeaderSize || pos > body_end) return bad(std::string(what) + " is misplaced");
+    if (pos % kShardAlign != 0 || pos < header_size || pos > body_end) return bad(std::string(what) + " is misplaced");
     if (width != 0 && count > (body_end - pos) / width) return bad(std::string(what) + " runs past the end of the file");
     return {};
   };
@@ -86,8 +109,8 @@ Result<ShardReader> ShardReader::open(const std::string& path) {
     if (spans[i].end > spans[i + 1].begin) return bad("two arrays overlap", spans[i + 1].begin);
   uint64_t sum;
   std::memcpy(&sum, r.data_ + body_end, 8);
-  if (XXH3_64bits(r.data_ + kShardHeaderSize, body_end - kShardHeaderSize) != sum ||
-      shard_crc32(r.data_ + kShardHeaderSize, body_end - kShardHeaderSize) != h.body_crc32)
+  if (XXH3_64bits(r.data_ + header_size, body_end - header_size) != sum ||
+      shard_crc32(r.data_ + header_size, body_end - header_size) != h.body_crc32)
     return bad("the body checksum does not match (a damaged byte?)", body_end);
   for (int side = 0; side < 2; ++side) {
     uint64_t pos = side ? h.target_offsets : h.source_offsets;

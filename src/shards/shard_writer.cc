@@ -4,6 +4,7 @@
 #include <zlib.h>
 
 #include <algorithm>
+#include <cstddef>
 #include <cstring>
 #include <numeric>
 
@@ -73,8 +74,11 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   h.order = s_.order;
   h.flags = s_.flags;
   h.shard_index = shard_index;
+  std::memcpy(h.source_specials, s_.source_specials, sizeof h.source_specials);
+  std::memcpy(h.target_specials, s_.target_specials, sizeof h.target_specials);
   std::string body(kShardHeaderSize, '\0');
-  body.reserve(kShardHeaderSize + 2 * 64 + (pairs() + 1) * 16 + id_bytes() + 8);
+  body.reserve(kShardHeaderSize + 3 * 64 + (pairs() + 1) * 16 + id_bytes() + 8);
+  pad(body);  // the first array starts on a 64-byte boundary too
   // One side: its offsets, then its ids, each starting on a 64-byte boundary.
   auto side = [&](const Side& ids, uint64_t& offsets_at, uint64_t& ids_at) {
     offsets_at = body.size();
@@ -90,8 +94,9 @@ Result<ShardWriter::Written> ShardWriter::write(const std::string& path, uint32_
   h.target_count = tgt_.ids.size();
   h.file_size = body.size() + 8;
   h.body_crc32 = shard_crc32(body.data() + kShardHeaderSize, body.size() - kShardHeaderSize);
-  h.header_checksum = XXH3_64bits(&h, 112);
-  h.header_crc32 = shard_crc32(&h, 112);
+  constexpr size_t kCovered = offsetof(ShardHeader, header_checksum);
+  h.header_checksum = XXH3_64bits(&h, kCovered);
+  h.header_crc32 = shard_crc32(&h, kCovered);
   std::memcpy(body.data(), &h, sizeof h);
   uint64_t sum = XXH3_64bits(body.data() + kShardHeaderSize, body.size() - kShardHeaderSize);
   body.append(reinterpret_cast<const char*>(&sum), 8);

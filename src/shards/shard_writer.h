@@ -17,6 +17,8 @@ struct ShardSettings {
   uint64_t source_vocab = 0, target_vocab = 0;
   ShardOrder order = kInputOrder;
   uint32_t flags = 0;
+  uint32_t source_specials[4] = {0, 1, 2, 3};  // pad, unknown, bos, eos
+  uint32_t target_specials[4] = {0, 1, 2, 3};
 };
 
 class ShardWriter {

@@ -59,7 +59,7 @@ Result<std::unique_ptr<Stage>> make_exclude(const StageContext& ctx) {
   const std::string& match = p.text("match");
   bool side[2] = {match != "target", match != "source"};
   std::unordered_set<uint64_t> set[2];
-  for (const auto& f : p.list("files")) {
+  for (const auto& f : ctx.text_rules_only ? std::vector<std::string>{} : p.list("files")) {
     std::string path = ctx.pipeline->resolve(f);
     auto src = open_byte_source(path);
     if (!src.ok()) return src.error();

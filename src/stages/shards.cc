@@ -38,6 +38,10 @@ const StageKind& shards_kind() {
            {"input", "length"}},
           {"bos", FieldType::kBool, false, "put the begin-of-sequence id before each side"},
           {"eos", FieldType::kBool, true, "put the end-of-sequence id after each side"},
+          {"source_tag", FieldType::kString, std::string(""),
+           "a user-defined token put at the start of every source side (after bos)"},
+          {"target_tag", FieldType::kString, std::string(""),
+           "a user-defined token put at the start of every target side (after bos)"},
       }};
   return k;
 }
@@ -101,7 +105,24 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   set.source_vocab = vs.checksum();
   set.target_vocab = vt.checksum();
   set.order = p.text("order") == "length" ? kLengthOrder : kInputOrder;
+  for (int k = 0; k < 4; ++k) {
+    set.source_specials[k] = vs.special(static_cast<Special>(k));
+    set.target_specials[k] = vt.special(static_cast<Special>(k));
+  }
   bool bos = p.flag("bos"), eos = p.flag("eos");
+  // Tags: user-defined tokens of the side's vocabulary.
+  int64_t tag[2] = {-1, -1};
+  for (int s = 0; s < 2; ++s) {
+    const char* key = s == 0 ? "source_tag" : "target_tag";
+    const std::string& t = p.text(key);
+    if (t.empty()) continue;
+    tag[s] = (s == 0 ? vs : vt).user_id(t);
+    if (tag[s] < 0)
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + spec.name + "\": " + key + " \"" + t +
+                       "\" is not a user-defined token of the vocabulary; list it in the vocabulary stage's user_tokens",
+                   p.where(key).empty() ? spec.where : p.where(key));
+  }
   set.flags = (bos ? uint32_t{kHasBos} : 0u) | (eos ? uint32_t{kHasEos} : 0u);
   uint64_t max_pairs = static_cast<uint64_t>(p.integer("max_pairs"));
   uint64_t max_bytes = static_cast<uint64_t>(p.integer("max_bytes"));
@@ -149,6 +170,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
                                const Vocabulary& v = s == 0 ? vs : vt;
                                auto& ids = e->ids[s];
                                if (bos) ids.push_back(v.special(kBos));
+                               if (tag[s] >= 0) ids.push_back(static_cast<uint32_t>(tag[s]));
                                (s == 0 ? enc_s : enc_t).encode(side[s], ids, &e->stats[s]);
                                if (eos) ids.push_back(v.special(kEos));
                                e->ends[s].push_back(ids.size());

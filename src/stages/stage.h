@@ -33,6 +33,9 @@ struct StageContext {
   // drop it. Used for text from outside the corpus (exclusion lists), so that
   // it is compared after exactly the same normalization.
   std::function<bool(std::string&, int side)> canonical;
+  // Built only for rewrite() (stages/text_rules.h): data that a stage needs
+  // only to drop pairs (an exclusion list) need not be loaded.
+  bool text_rules_only = false;
 };
 
 class Stage {

@@ -3,13 +3,16 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <filesystem>
 #include <fstream>
+#include <sstream>
 #include <nlohmann/json.hpp>
 
 #include "core/text.h"
 #include "io/output_file.h"
 #include "core/stats.h"
 #include "stages/script.h"
+#include "stages/text_rules.h"
 #include "subword/codec.h"
 
 namespace sheaf {
@@ -45,6 +48,10 @@ const StageKind& vocabulary_kind() {
            "sizes measured on dev to help choose a size (learning runs up to the largest)", 261, 4e9},
           {"sweep_max_length", FieldType::kInt, int64_t{128},
            "the sweep reports the share of sentences longer than this", 1, 1e9},
+          {"user_tokens", FieldType::kStringList, std::vector<std::string>{},
+           "user-defined tokens (language or domain tags): the last ids, never split; part of size"},
+          {"reuse", FieldType::kStringList, std::vector<std::string>{},
+           "vocabulary files to use instead of learning: one shared, or a source and a target one"},
       }};
   return k;
 }
@@ -61,6 +68,21 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
   } else {
     plan.shared = shared == "shared";
   }
+  for (const auto& f : q.list("reuse")) plan.reuse.push_back(p.resolve(f));
+  plan.user_tokens = q.list("user_tokens");
+  for (size_t i = 0; i < plan.user_tokens.size(); ++i) {
+    const std::string& u = plan.user_tokens[i];
+    if (u.empty() || std::find(plan.user_tokens.begin(), plan.user_tokens.begin() + static_cast<long>(i), u) !=
+                         plan.user_tokens.begin() + static_cast<long>(i))
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + spec.name + "\": user_tokens must be non-empty and each given once (\"" + u + "\")",
+                   q.where("user_tokens").empty() ? spec.where : q.where("user_tokens"));
+  }
+  if (plan.reuse.size() > 2)
+    return Error(ErrorKind::kPipeline,
+                 "stage \"" + spec.name + "\": reuse takes one shared vocabulary file, or a source and a target one",
+                 q.where("reuse").empty() ? spec.where : q.where("reuse"));
+  if (!plan.reuse.empty()) plan.shared = plan.reuse.size() == 1;
   plan.size = static_cast<size_t>(q.integer("size"));
   plan.sweep = q.integers("sweep");
   plan.sweep_max_length = q.integer("sweep_max_length");
@@ -142,10 +164,96 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
         {"max_tokens", d.max},
         {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
         {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
-        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0}};
+        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0},
+        {"unknown_rate", st.tokens ? static_cast<double>(st.unknown) / static_cast<double>(st.tokens) : 0.0}};
     rows.push_back(r);
   }
   return rows;
+}
+
+struct Job {
+  std::string side;  // shared, source or target
+  std::vector<int> columns;
+};
+
+// When a reused vocabulary file sits in the run directory that learned it,
+// that run's figures for it at its own size (from its summary.json's sweep):
+// tokens per word, byte-token and unknown rates on its dev split, to set
+// beside the new run's. Null when there is no such run.
+ordered_json old_run_figures(const std::string& vocab_path, const Vocabulary& v) {
+  std::filesystem::path file(vocab_path);
+  std::ifstream in(file.parent_path() / "summary.json");
+  if (!in) return nullptr;
+  std::stringstream text;
+  text << in.rdbuf();
+  auto j = ordered_json::parse(text.str(), nullptr, false);
+  if (j.is_discarded() || !j.contains("vocabulary") || !j["vocabulary"].contains("vocabularies")) return nullptr;
+  for (const auto& entry : j["vocabulary"]["vocabularies"]) {
+    if (entry.value("file", "") != file.filename().string() || !entry.contains("sweep")) continue;
+    ordered_json out = {{"summary", (file.parent_path() / "summary.json").string()}};
+    for (const auto& [side, rows] : entry["sweep"].items()) {
+      for (const auto& r : rows) {
+        if (r.value("size", uint64_t{0}) != v.size()) continue;
+        ordered_json figures = ordered_json::object();
+        for (const char* key : {"tokens_per_word", "byte_token_rate", "unknown_rate"})
+          if (r.contains(key)) figures[key] = r[key];
+        out[side] = figures;
+      }
+    }
+    return out;
+  }
+  return nullptr;
+}
+
+// Reuse: each job's vocabulary comes from a file (checksum and every field
+// checked by Vocabulary::load; its side must be the job's), is written into
+// the run unchanged, and is measured on dev at its own size and the sweep
+// sizes below it, so the summary says how well it covers the new text.
+Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const VocabularyPlan& plan,
+                          const std::vector<Job>& jobs, const std::string& dev_path, ordered_json& section,
+                          ordered_json& vocabs, LearnedVocabularies& out) {
+  Location where = spec.params.where("reuse").empty() ? spec.where : spec.params.where("reuse");
+  ordered_json reused = ordered_json::array();
+  for (size_t i = 0; i < jobs.size(); ++i) {
+    const Job& job = jobs[i];
+    const std::string& path = plan.reuse[i];
+    auto v = Vocabulary::load(path);
+    if (!v.ok()) return v.error();
+    if (v->info().side != job.side)
+      return Error(ErrorKind::kPipeline,
+                   "stage \"" + spec.name + "\": " + path + " is a " + v->info().side +
+                       " vocabulary, but reuse needs " +
+                       (jobs.size() == 1 ? std::string("a shared one (one file)")
+                                         : "a source then a target one (two files), and this is the " + job.side +
+                                               " file"),
+                   where);
+    std::string rel = "vocab." + job.side + ".txt";
+    SHEAF_TRY(write_output(*in.dir, *in.record, {rel, "vocabulary", "", job.side, v->size()}, v->serialize()));
+    out.files.push_back(rel);
+    out.units.emplace_back();
+    reused.push_back({{"side", job.side}, {"file", path}, {"xxh3_64", hex64(v->checksum())}});
+    std::vector<int64_t> sizes;
+    for (int64_t s : plan.sweep)
+      if (static_cast<size_t>(s) < v->size()) sizes.push_back(s);
+    sizes.push_back(static_cast<int64_t>(v->size()));
+    ordered_json sweep = ordered_json::object();
+    for (int col : job.columns)
+      sweep[col == 0 ? "source" : "target"] = sweep_side(*v, column(dev_path, col), sizes, plan.sweep_max_length);
+    reused.back()["old_run"] = old_run_figures(path, *v);
+    vocabs.push_back({{"side", job.side},
+                      {"file", rel},
+                      {"size", v->size()},
+                      {"alphabet", v->alphabet_size()},
+                      {"alphabet_coverage", v->info().alphabet_coverage},
+                      {"merges", v->merges()},
+                      {"learned_merges", 0},
+                      {"stopped_early", false},
+                      {"reused_from", path},
+                      {"sweep", sweep}});
+  }
+  section["size"] = vocabs.empty() ? ordered_json(0) : vocabs[0]["size"];
+  section["reused"] = reused;
+  return {};
 }
 
 }  // namespace
@@ -165,13 +273,12 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                  "the train split is empty after filtering, so no vocabulary can be learned; see rejected.tsv and the "
                  "stage counts for what removed the pairs",
                  Location{in.dir->file("train.tsv"), 0, 0, {}});
+  // The pipeline as resolved, so that the run directory alone gives the text
+  // rules its vocabulary was learned after (stages/text_rules.h).
+  SHEAF_TRY(write_output(*in.dir, rec, {kRunPipelineFile, "pipeline", "", "", 0}, render_pipeline(*in.pipeline)));
   std::string train = in.dir->file("train.tsv");
   std::string dev_path = in.dir->file(have_dev ? "dev.tsv" : "train.tsv");
 
-  struct Job {
-    std::string side;
-    std::vector<int> columns;
-  };
   std::vector<Job> jobs;
   if (plan->shared) {
     jobs.push_back(Job{"shared", {0, 1}});
@@ -186,6 +293,13 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                           {"sweep_split", have_dev ? "dev" : "train"}};
   ordered_json vocabs = ordered_json::array();
   LearnedVocabularies out;
+  if (!plan->reuse.empty()) {
+    section["learned_up_to"] = 0;
+    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, jobs, dev_path, section, vocabs, out));
+    section["vocabularies"] = vocabs;
+    rec.sections.emplace_back("vocabulary", section.dump());
+    return out;
+  }
   for (const auto& job : jobs) {
     TrainOptions t = plan->train;
     t.side = job.side;
@@ -208,7 +322,8 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
                        std::to_string(full.first_merge()) + " or lower alphabet_coverage",
                    spec.where);
     // The vocabulary written: the first (size - fixed) merges.
-    size_t keep = plan->size > full.first_merge() ? std::min(full.merges(), plan->size - full.first_merge()) : 0;
+    size_t fixed = full.first_merge() + plan->user_tokens.size();
+    size_t keep = plan->size > fixed ? std::min(full.merges(), plan->size - fixed) : 0;
     std::vector<std::string> alphabet;
     for (size_t i = 0; i < full.alphabet_size(); ++i)
       alphabet.push_back(full.token(full.first_char() + static_cast<uint32_t>(i)).bytes);
@@ -217,6 +332,7 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
       const Token& tk = full.token(full.first_merge() + static_cast<uint32_t>(m));
       v.add_merge(tk.left, tk.right);
     }
+    for (const auto& u : plan->user_tokens) v.add_user(u);
     std::string rel = "vocab." + job.side + ".txt";
     SHEAF_TRY(write_output(*in.dir, rec, {rel, "vocabulary", "", job.side, v.size()}, v.serialize()));
     out.files.push_back(rel);

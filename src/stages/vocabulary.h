@@ -9,8 +9,10 @@
 // to the largest of `size` and the `sweep` sizes once; every smaller
 // vocabulary is a prefix of it, and each sweep size is evaluated on the dev
 // split (tokens per sentence and per word, sentences over sweep_max_length
-// tokens, unknown-as-bytes rate). Writes vocab.shared.txt, or vocab.source.txt
-// and vocab.target.txt (docs/vocabulary-format.md).
+// tokens, unknown-as-bytes rate). `user_tokens` get the last ids (within
+// `size`); the encoder never splits them. `reuse` loads vocabulary files
+// instead of learning. Writes vocab.shared.txt, or vocab.source.txt
+// and vocab.target.txt (docs/vocabulary-format.md), and pipeline.toml.
 #pragma once
 
 #include <string>
@@ -29,6 +31,8 @@ struct VocabularyPlan {
   size_t size = 0;     // the size written
   std::vector<int64_t> sweep;
   int64_t sweep_max_length = 128;
+  std::vector<std::string> reuse;  // resolved paths; then nothing is learned
+  std::vector<std::string> user_tokens;
 };
 Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec);
 

@@ -3,7 +3,9 @@
 #include <xxhash.h>
 
 #include <algorithm>
+#include <cmath>
 #include <cstring>
+#include <random>
 
 #include "subword/units.h"
 
@@ -143,12 +145,110 @@ void Encoder::encode_unit(std::string_view unit, Scratch& sc) const {
   s.resize(n);
 }
 
+// Cuts `text` at the user-defined tokens: `plain(segment)` for the text
+// between them, `user(id)` for each. At a position the longest token that
+// starts there wins; the earliest position first.
+template <typename Plain, typename User>
+void split_user_tokens(const Vocabulary& v, std::string_view text, Plain plain, User user) {
+  const auto& users = v.user_tokens();
+  while (!text.empty()) {
+    size_t best = std::string_view::npos, len = 0;
+    uint32_t id = 0;
+    for (const auto& [t, tid] : users) {
+      size_t at = text.find(t);
+      if (at == std::string_view::npos) continue;
+      if (at < best || (at == best && t.size() > len)) {
+        best = at;
+        len = t.size();
+        id = tid;
+      }
+    }
+    if (best == std::string_view::npos) break;
+    if (best > 0) plain(text.substr(0, best));
+    user(id);
+    text.remove_prefix(best + len);
+  }
+  if (!text.empty()) plain(text);
+}
+
+void Encoder::encode_dropout(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const {
+  std::mt19937_64 rng(seed);
+  if (!v_.user_tokens().empty()) {
+    // One generator for the whole text: each segment draws from it in turn.
+    uint64_t next = rng();
+    split_user_tokens(
+        v_, text, [&](std::string_view seg) { encode_dropout_plain(seg, p, next++, out); },
+        [&](uint32_t id) { out.push_back(id); });
+    return;
+  }
+  encode_dropout_plain(text, p, seed, out);
+}
+
+void Encoder::encode_dropout_plain(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const {
+  std::mt19937_64 rng(seed);
+  // A draw below `cut` (p of the 2^64 values; p = 1 drops every one) drops.
+  uint64_t cut = p >= 1 ? UINT64_MAX : static_cast<uint64_t>(std::ldexp(p, 64));
+  auto dropped = [&] { return p > 0 && (p >= 1 || rng() < cut); };
+  Scratch& sc = scratch_.local();
+  sc.ends.clear();
+  unit_ends(text, v_.info().single_digits, sc.ends);
+  std::vector<uint32_t>& s = sc.symbols;
+  std::vector<uint32_t>& rank = sc.ranks;
+  uint32_t from = 0;
+  for (uint32_t end : sc.ends) {
+    std::string_view unit = text.substr(from, end - from);
+    from = end;
+    s.clear();
+    v_.initial_symbols(unit, s);
+    // Each step: every position holding a mergeable pair survives with
+    // probability 1 - p; the lowest rank among survivors is merged at each
+    // surviving position, left to right, as encode() does.
+    for (;;) {
+      size_t n = s.size();
+      rank.assign(n, UINT32_MAX);
+      uint32_t best = UINT32_MAX;
+      for (size_t k = 0; k + 1 < n; ++k) {
+        uint32_t r = rank_.find(s[k], s[k + 1]);
+        if (r == UINT32_MAX || dropped()) continue;
+        rank[k] = r;
+        best = std::min(best, r);
+      }
+      if (best == UINT32_MAX) break;
+      size_t w = 0;
+      for (size_t k = 0; k < n; ++w) {
+        if (rank[k] == best && k + 1 < n) {
+          s[w] = v_.first_merge() + best;
+          k += 2;
+        } else {
+          s[w] = s[k];
+          ++k;
+        }
+      }
+      s.resize(w);
+    }
+    out.insert(out.end(), s.begin(), s.end());
+  }
+}
+
 void Encoder::remember(std::string_view unit, std::span<const uint32_t> ids) const {
   cache_.add(unit, XXH3_64bits(unit.data(), unit.size()), ids.data(), static_cast<uint32_t>(ids.size()),
              scratch_.local().unflushed);
 }
 
 void Encoder::encode(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const {
+  if (!v_.user_tokens().empty()) {
+    split_user_tokens(
+        v_, text, [&](std::string_view seg) { encode_plain(seg, out, stats); },
+        [&](uint32_t id) {
+          out.push_back(id);
+          if (stats) ++stats->tokens;
+        });
+    return;
+  }
+  encode_plain(text, out, stats);
+}
+
+void Encoder::encode_plain(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const {
   size_t start = out.size();
   Scratch& sc = scratch_.local();
   sc.ends.clear();

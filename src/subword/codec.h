@@ -1,6 +1,7 @@
 // Encoder and decoder for a Vocabulary.
 //
-// encode() cuts text into word units (units.h), turns each character into its
+// encode() first cuts text at the vocabulary's user-defined tokens (each
+// becomes its id, never split), then cuts the rest into word units (units.h), turns each character into its
 // alphabet token or, if it is not in the alphabet, into its UTF-8 byte tokens
 // (or the unknown token when byte fallback is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
@@ -10,6 +11,12 @@
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
 // k merges is the first k merges of a larger one, which is how one learning
 // run serves a whole size sweep.
+// BPE-dropout (Provilkov, Emelianenko & Voita 2020, "BPE-Dropout: Simple and
+// Effective Subword Regularization"): encode_dropout() leaves out each
+// applicable merge occurrence with probability p at every merge step and
+// stops a unit when none is left; p = 0 is encode(), p = 1 applies no merge.
+// The draws come from std::mt19937_64 seeded with `seed`, so the same text,
+// p and seed give the same ids on any thread; it bypasses the cache.
 // Thread-safe: encode() may run on many threads at once.
 #pragma once
 
@@ -47,6 +54,7 @@ class Encoder {
     encode(text, out);
     return out;
   }
+  void encode_dropout(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const;
   // Keeps `ids` as the encoding of `unit` (which they must be, e.g. from the
   // learner: trainer.h's LearnedUnits), so encode() finds it. Thread-safe.
   void remember(std::string_view unit, std::span<const uint32_t> ids) const;
@@ -104,6 +112,9 @@ class Encoder {
     uint32_t unflushed = 0;  // this thread's cache adds not yet counted
   };
   void encode_unit(std::string_view unit, Scratch& s) const;
+  // Text without user-defined tokens.
+  void encode_plain(std::string_view text, std::vector<uint32_t>& out, EncodeStats* stats) const;
+  void encode_dropout_plain(std::string_view text, double p, uint64_t seed, std::vector<uint32_t>& out) const;
   const Vocabulary& v_;
   size_t merges_;
   MergeRanks rank_;

@@ -4,6 +4,7 @@
 #include <unicode/utf8.h>
 #include <xxhash.h>
 
+#include <algorithm>
 #include <charconv>
 #include <unordered_set>
 #include <fstream>
@@ -20,6 +21,7 @@ const char* token_kind_name(TokenKind k) {
     case TokenKind::kByte: return "byte";
     case TokenKind::kChar: return "char";
     case TokenKind::kMerged: return "merged";
+    case TokenKind::kUser: return "user";
   }
   return "?";
 }
@@ -133,6 +135,18 @@ uint32_t Vocabulary::add_merge(uint32_t left, uint32_t right) {
   return static_cast<uint32_t>(tokens_.size() - 1);
 }
 
+uint32_t Vocabulary::add_user(std::string text) {
+  tokens_.push_back(Token{TokenKind::kUser, text});
+  users_.emplace_back(std::move(text), static_cast<uint32_t>(tokens_.size() - 1));
+  return users_.back().second;
+}
+
+int64_t Vocabulary::user_id(std::string_view text) const {
+  for (const auto& [t, id] : users_)
+    if (t == text) return id;
+  return -1;
+}
+
 int64_t Vocabulary::char_id(std::string_view utf8) const {
   int32_t i = 0, n = static_cast<int32_t>(utf8.size());
   UChar32 c = -1;
@@ -158,11 +172,12 @@ namespace {
 std::string body_of(const Vocabulary& v) {
   std::ostringstream o;
   const auto& in = v.info();
-  o << "sheaf-vocabulary\t" << kVocabularyFormat << "\n";
+  o << "sheaf-vocabulary\t" << (v.user_tokens().empty() ? 1 : kVocabularyFormat) << "\n";
   o << "side\t" << in.side << "\n";
   o << "tokens\t" << v.size() << "\n";
   o << "alphabet\t" << v.alphabet_size() << "\n";
   o << "merges\t" << v.merges() << "\n";
+  if (!v.user_tokens().empty()) o << "user-tokens\t" << v.user_tokens().size() << "\n";
   char cov[32];
   std::snprintf(cov, sizeof cov, "%.6f", in.alphabet_coverage);
   o << "alphabet-coverage\t" << cov << "\n";
@@ -218,20 +233,22 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     if (tab == std::string_view::npos) return fail(i + 1, "a header line without a tab");
     head[std::string(lines[i].substr(0, tab))] = std::string(lines[i].substr(tab + 1));
   }
-  if (head["sheaf-vocabulary"] != std::to_string(kVocabularyFormat))
-    return fail(1, "format version " + head["sheaf-vocabulary"] + " is not " + std::to_string(kVocabularyFormat));
+  const std::string& version = head["sheaf-vocabulary"];
+  if (version != "1" && version != std::to_string(kVocabularyFormat))
+    return fail(1, "format version " + version + " is not 1 or " + std::to_string(kVocabularyFormat));
   auto num = [&](const std::string& k, uint64_t& out) {
     auto it = head.find(k);
     if (it == head.end()) return false;
     auto r = std::from_chars(it->second.data(), it->second.data() + it->second.size(), out);
     return r.ec == std::errc() && r.ptr == it->second.data() + it->second.size();
   };
-  uint64_t ntok = 0, nalpha = 0, nmerge = 0;
+  uint64_t ntok = 0, nalpha = 0, nmerge = 0, nuser = 0;
+  if (version != "1" && !num("user-tokens", nuser)) return fail(0, "format 2 needs a user-tokens count");
   std::array<uint64_t, 4> sp{};
   if (!num("tokens", ntok) || !num("alphabet", nalpha) || !num("merges", nmerge) || !num("special-pad", sp[0]) ||
       !num("special-unk", sp[1]) || !num("special-bos", sp[2]) || !num("special-eos", sp[3]))
     return fail(0, "a header field is missing or not a number");
-  if (ntok != 4 + 256 + nalpha + nmerge) return fail(0, "the token counts do not add up");
+  if (ntok != 4 + 256 + nalpha + nmerge + nuser) return fail(0, "the token counts do not add up");
   std::array<bool, 4> seen{};
   for (uint64_t s : sp) {
     if (s > 3 || seen[s]) return fail(0, "special ids must be 0, 1, 2 and 3, each once");
@@ -247,6 +264,7 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
   std::vector<std::string> alphabet;
   std::unordered_set<std::string> alphabet_seen;
   std::vector<std::pair<uint32_t, uint32_t>> merges;
+  std::vector<std::string> users;
   for (uint64_t id = 0; id < ntok; ++id) {
     size_t ln = i + 1 + id;
     std::string_view l = lines[ln];
@@ -261,7 +279,11 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     auto bytes = unescape_token(f[2]);
     if (!bytes.ok()) return fail(ln + 1, bytes.error().message());
     std::string_view kind = f[1];
-    TokenKind want = id < 4 ? TokenKind::kSpecial : id < 260 ? TokenKind::kByte : id < 260 + nalpha ? TokenKind::kChar : TokenKind::kMerged;
+    TokenKind want = id < 4                     ? TokenKind::kSpecial
+                     : id < 260                 ? TokenKind::kByte
+                     : id < 260 + nalpha        ? TokenKind::kChar
+                     : id < 260 + nalpha + nmerge ? TokenKind::kMerged
+                                                  : TokenKind::kUser;
     if (kind != token_kind_name(want)) return fail(ln + 1, "token " + std::to_string(id) + " should be of kind " + token_kind_name(want));
     if (want == TokenKind::kSpecial) {
       for (int s = 0; s < 4; ++s)
@@ -277,6 +299,10 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
       if (cp < 0 || at != n) return fail(ln + 1, "a character token must hold one well-formed UTF-8 character");
       if (!alphabet_seen.insert(*bytes).second) return fail(ln + 1, "the character token is repeated");
       alphabet.push_back(*bytes);
+    } else if (want == TokenKind::kUser) {
+      if (bytes->empty() || std::find(users.begin(), users.end(), *bytes) != users.end())
+        return fail(ln + 1, "a user-defined token must be non-empty and given once");
+      users.push_back(*bytes);
     } else {
       if (f.size() != 4) return fail(ln + 1, "a merged token needs LEFT+RIGHT");
       size_t plus = f[3].find('+');
@@ -300,6 +326,7 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     auto bytes = unescape_token(l.substr(t2 + 1, t3 - t2 - 1));
     if (!bytes.ok() || *bytes != v.token(id).bytes) return fail(i + 2 + id, "a merged token's text is not its parts' text");
   }
+  for (auto& u : users) v.add_user(std::move(u));
   return v;
 }
 

@@ -3,7 +3,9 @@
 // Ids, in order: the four special tokens (padding, unknown, begin and end of
 // sequence, in the order their ids give), the 256 byte tokens (id = first
 // byte id + byte value), the base alphabet (one token per character, most
-// frequent first), then one token per merge in rank order. The file format
+// frequent first), then one token per merge in rank order, then the
+// user-defined tokens (language or domain tags: text the encoder never
+// splits), in the order given. The file format
 // is specified in docs/vocabulary-format.md; load() checks its checksum and
 // every field, so a damaged or hand-edited file is reported, never used.
 #pragma once
@@ -21,9 +23,11 @@
 
 namespace sheaf {
 
-inline constexpr int kVocabularyFormat = 1;
+// Format 2 is format 1 plus user-defined tokens; a vocabulary without them
+// is written as format 1 (byte for byte as before).
+inline constexpr int kVocabularyFormat = 2;
 
-enum class TokenKind { kSpecial, kByte, kChar, kMerged };
+enum class TokenKind { kSpecial, kByte, kChar, kMerged, kUser };
 const char* token_kind_name(TokenKind k);
 
 struct Token {
@@ -49,8 +53,11 @@ class Vocabulary {
   // special_ids[i] the id of pad, unk, bos, eos (a permutation of 0..3).
   static Vocabulary build(const std::array<std::string, 4>& specials, const std::array<uint32_t, 4>& special_ids,
                           const std::vector<std::string>& alphabet, VocabularyInfo info);
-  // Appends a merge of two existing tokens; returns the new id.
+  // Appends a merge of two existing tokens; returns the new id. Not after
+  // add_user().
   uint32_t add_merge(uint32_t left, uint32_t right);
+  // Appends a user-defined token (non-empty, not already one); returns its id.
+  uint32_t add_user(std::string text);
 
   static Result<Vocabulary> load(const std::string& path);
   static Result<Vocabulary> parse(std::string_view text, const std::string& name);
@@ -64,7 +71,11 @@ class Vocabulary {
   uint32_t first_char() const { return kFirstByte + 256; }
   uint32_t first_merge() const { return first_char() + static_cast<uint32_t>(alphabet_size_); }
   size_t alphabet_size() const { return alphabet_size_; }
-  size_t merges() const { return tokens_.size() - first_merge(); }
+  size_t merges() const { return tokens_.size() - first_merge() - users_.size(); }
+  // User-defined tokens: their text and id, in id order.
+  const std::vector<std::pair<std::string, uint32_t>>& user_tokens() const { return users_; }
+  // Id of the user-defined token spelled `text`, or -1.
+  int64_t user_id(std::string_view text) const;
   // Token id of a character of the alphabet (its UTF-8), or -1.
   int64_t char_id(std::string_view utf8) const;
   // Appends the symbols a text starts from before merges: each character's
@@ -82,6 +93,7 @@ class Vocabulary {
   std::vector<Token> tokens_;
   std::array<uint32_t, 4> special_ids_{0, 1, 2, 3};
   size_t alphabet_size_ = 0;
+  std::vector<std::pair<std::string, uint32_t>> users_;
   // Token ids of the alphabet's characters: a flat table for the BMP (the
   // encoder looks up every character), a map above it.
   static constexpr uint32_t kNoChar = UINT32_MAX;

@@ -341,13 +341,15 @@ void rewrite_shard(const std::string& path, const std::function<void(ShardHeader
   ShardHeader h;
   std::memcpy(&h, bytes.data(), sizeof h);
   change(h, bytes);
+  // Format 2 (docs/shard-format.md): the body starts at byte 160; the
+  // header's checksums cover bytes 0..143.
   size_t body_end = bytes.size() - 8;
-  uint64_t sum = XXH3_64bits(bytes.data() + 128, body_end - 128);
+  uint64_t sum = XXH3_64bits(bytes.data() + kShardHeaderSize, body_end - kShardHeaderSize);
   std::memcpy(bytes.data() + body_end, &sum, 8);
-  h.body_crc32 = static_cast<uint32_t>(crc32(0, reinterpret_cast<const Bytef*>(bytes.data() + 128),
-                                             static_cast<uInt>(body_end - 128)));
-  h.header_checksum = XXH3_64bits(&h, 112);
-  h.header_crc32 = static_cast<uint32_t>(crc32(0, reinterpret_cast<const Bytef*>(&h), 112));
+  h.body_crc32 = shard_crc32(bytes.data() + kShardHeaderSize, body_end - kShardHeaderSize);
+  constexpr size_t kCovered = offsetof(ShardHeader, header_checksum);
+  h.header_checksum = XXH3_64bits(&h, kCovered);
+  h.header_crc32 = shard_crc32(&h, kCovered);
   std::memcpy(bytes.data(), &h, sizeof h);
   test::write_file(path, bytes);
 }

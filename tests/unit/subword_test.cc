@@ -5,6 +5,7 @@
 #include <oneapi/tbb/task_arena.h>
 #include <unicode/utf8.h>
 
+#include <cmath>
 #include <cstdio>
 #include <map>
 #include <random>
@@ -555,6 +556,106 @@ TEST(VocabularyFile, EscapesInvisibleBytes) {
   }
   EXPECT_FALSE(unescape_token("\\q").ok());
   EXPECT_FALSE(unescape_token("\\x4").ok());
+}
+
+}  // namespace
+}  // namespace sheaf
+
+namespace sheaf {
+namespace {
+
+// BPE-dropout (Provilkov, Emelianenko & Voita 2020, Algorithm 1): with p = 0
+// it is the deterministic encoding; with p = 1 no merge applies.
+TEST(Dropout, ZeroIsDeterministicAndOneMergesNothing) {
+  test::TempDir t;
+  Vocabulary v = small_vocabulary(t, 600);
+  Encoder enc(v);
+  const char* texts[] = {"The garden opens at nine.", "El jardín cierra al atardecer.", "gardengardengarden aaaa",
+                         "Seeds are lent to gardeners on Sunday."};
+  for (const char* s : texts) {
+    std::vector<uint32_t> d, none, initial;
+    enc.encode_dropout(s, 0.0, 42, d);
+    EXPECT_EQ(d, enc.encode(s)) << s;
+    enc.encode_dropout(s, 1.0, 42, none);
+    v.initial_symbols(s, initial);
+    EXPECT_EQ(none, initial) << s;
+    for (uint32_t id : none) EXPECT_LT(id, v.first_merge());
+    std::vector<uint32_t> a, b;
+    enc.encode_dropout(s, 0.3, 7, a);
+    enc.encode_dropout(s, 0.3, 7, b);
+    EXPECT_EQ(a, b) << s;  // reproducible
+    EXPECT_EQ(decode(v, a), s);
+  }
+}
+
+// Each applicable merge is left out with probability p: for the unit "abc"
+// with merges (a, b) then (ab, c), the outcomes [a b c], [ab c], [abc] have
+// probabilities p, (1 - p) p and (1 - p)^2. Counts over n seeds must lie
+// within 5 standard deviations of the binomial mean (a false alarm has
+// probability below 1e-6 per check; the seeds are fixed, so the test is
+// deterministic).
+TEST(Dropout, EachMergeIsSkippedWithProbabilityP) {
+  Vocabulary v =
+      Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
+  uint32_t a = static_cast<uint32_t>(v.char_id("a")), b = a + 1, c = a + 2;
+  uint32_t ab = v.add_merge(a, b);
+  uint32_t abc = v.add_merge(ab, c);
+  Encoder enc(v);
+  ASSERT_EQ(enc.encode("abc"), std::vector<uint32_t>{abc});
+  const int n = 20000;
+  for (double p : {0.1, 0.25, 0.5, 0.9}) {
+    int none = 0, one = 0, both = 0;
+    for (int seed = 0; seed < n; ++seed) {
+      std::vector<uint32_t> ids;
+      enc.encode_dropout("abc", p, static_cast<uint64_t>(seed), ids);
+      if (ids == std::vector<uint32_t>{a, b, c})
+        ++none;
+      else if (ids == std::vector<uint32_t>{ab, c})
+        ++one;
+      else if (ids == std::vector<uint32_t>{abc})
+        ++both;
+      else
+        ADD_FAILURE() << "unexpected encoding";
+    }
+    auto within = [&](int count, double q) {
+      double mean = n * q, sd = std::sqrt(n * q * (1 - q));
+      return std::abs(count - mean) <= 5 * sd;
+    };
+    EXPECT_TRUE(within(none, p)) << p << ": " << none;
+    EXPECT_TRUE(within(one, (1 - p) * p)) << p << ": " << one;
+    EXPECT_TRUE(within(both, (1 - p) * (1 - p))) << p << ": " << both;
+  }
+}
+
+}  // namespace
+}  // namespace sheaf
+
+namespace sheaf {
+namespace {
+
+// User-defined tokens: written as format 2 with their kind, read back the
+// same; a vocabulary without them is still written as format 1.
+TEST(VocabularyFile, UserTokensRoundTripAndFormatOneStays) {
+  Vocabulary v =
+      Vocabulary::build({"p", "u", "b", "e"}, {0, 1, 2, 3}, {"a", "b", "c"}, VocabularyInfo{"shared", 1, false, true});
+  uint32_t a = static_cast<uint32_t>(v.char_id("a"));
+  v.add_merge(a, a + 1);
+  EXPECT_EQ(v.serialize().rfind("sheaf-vocabulary\t1\n", 0), 0u);
+  uint32_t tag = v.add_user("<2de>");
+  v.add_user("a\tb");
+  EXPECT_EQ(tag, v.size() - 2);
+  EXPECT_EQ(v.merges(), 1u);
+  std::string text = v.serialize();
+  EXPECT_EQ(text.rfind("sheaf-vocabulary\t2\n", 0), 0u);
+  EXPECT_NE(text.find("user-tokens\t2\n"), std::string::npos);
+  EXPECT_NE(text.find("\tuser\ta\\tb\n"), std::string::npos);
+  auto back = Vocabulary::parse(text, "v");
+  ASSERT_TRUE(back.ok()) << back.error().describe();
+  EXPECT_EQ(back->serialize(), text);
+  EXPECT_EQ(back->user_id("<2de>"), static_cast<int64_t>(tag));
+  Encoder enc(*back);
+  EXPECT_EQ(enc.encode("ab<2de>ab"), (std::vector<uint32_t>{back->first_merge(), tag, back->first_merge()}));
+  EXPECT_EQ(decode(*back, enc.encode("c<2de>a\tb")), "c<2de>a\tb");
 }
 
 }  // namespace
