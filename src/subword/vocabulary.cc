@@ -256,8 +256,17 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
   }
   VocabularyInfo info;
   info.side = head["side"];
-  info.single_digits = head["single-digits"] == "yes";
-  info.unknown_as_bytes = head["unknown-as-bytes"] != "no";
+  // The two switches change how text is cut and encoded: each must be
+  // written, as yes or no (a file with other keys, e.g. from before they
+  // were named so, is refused rather than read with a guess).
+  auto flag = [&](const std::string& k, bool& out) {
+    auto it = head.find(k);
+    if (it == head.end() || (it->second != "yes" && it->second != "no")) return false;
+    out = it->second == "yes";
+    return true;
+  };
+  if (!flag("single-digits", info.single_digits) || !flag("unknown-as-bytes", info.unknown_as_bytes))
+    return fail(0, "the header needs single-digits and unknown-as-bytes, each yes or no");
   info.alphabet_coverage = std::atof(head["alphabet-coverage"].c_str());
   if (lines.size() - i - 1 != ntok) return fail(0, "the file holds " + std::to_string(lines.size() - i - 1) + " tokens, not " + std::to_string(ntok));
   std::array<std::string, 4> specials;

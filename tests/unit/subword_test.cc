@@ -4,6 +4,7 @@
 #include <oneapi/tbb/parallel_for.h>
 #include <oneapi/tbb/task_arena.h>
 #include <unicode/utf8.h>
+#include <xxhash.h>
 
 #include <cmath>
 #include <cstdio>
@@ -13,6 +14,7 @@
 #include <tuple>
 
 #include "io/line_blocks.h"
+#include "io/output_file.h"
 #include "stages/normalize.h"
 #include "subword/codec.h"
 #include "subword/merge_learner.h"
@@ -541,6 +543,29 @@ TEST(VocabularyFile, RoundTripsAndDetectsDamage) {
   }
   for (size_t n : {size_t{0}, size_t{10}, text.size() / 2, text.size() - 2})
     EXPECT_FALSE(Vocabulary::parse(text.substr(0, n), "v.txt").ok()) << n;
+}
+
+// docs/vocabulary-format.md: single-digits and unknown-as-bytes are required,
+// each yes or no. A header with another spelling (with its checksum made
+// anew, so only the header is wrong) is refused, not read with a default.
+TEST(VocabularyFile, SwitchesMustBeWrittenAsYesOrNo) {
+  test::TempDir t;
+  std::string text = small_vocabulary(t).serialize();
+  auto reseal = [](std::string body) {
+    body = body.substr(0, body.rfind("checksum\t"));
+    return body + "checksum\t" + hex64(XXH3_64bits(body.data(), body.size())) + "\n";
+  };
+  ASSERT_TRUE(Vocabulary::parse(reseal(text), "v.txt").ok());
+  for (const auto& [from, to] : std::vector<std::pair<std::string, std::string>>{
+           {"single-digits\tno", "split-digits\tyes"},
+           {"unknown-as-bytes\tyes", "unknown-as-bytes\tmaybe"},
+           {"unknown-as-bytes\tyes\n", ""}}) {
+    std::string bad = text;
+    size_t at = bad.find(from);
+    ASSERT_NE(at, std::string::npos) << from;
+    bad.replace(at, from.size(), to);
+    EXPECT_FALSE(Vocabulary::parse(reseal(bad), "v.txt").ok()) << to;
+  }
 }
 
 TEST(VocabularyFile, EscapesInvisibleBytes) {
