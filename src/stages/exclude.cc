@@ -47,7 +47,7 @@ const StageKind& exclude_kind() {
       StageRole::kFilter,
       {
           {"files", FieldType::kStringList, std::vector<std::string>{},
-           "files of sentences to keep out (TSV pairs or one per line; plain, gzip or zstd)"},
+           "files of sentences to keep out (TSV pairs or one per line; plain, gzip, zstd, bzip2 or xz)"},
           {"match", FieldType::kChoice, std::string("either"), "which side of a pair is compared: source, target or either",
            0, 0, {"source", "target", "either"}},
       }};

@@ -1,6 +1,6 @@
 // exclude: keeps known evaluation data out of every split.
 //
-// Reads each listed file (plain, gzip or zstd; TSV pairs or one sentence per
+// Reads each listed file (plain, gzip, zstd, bzip2 or xz; TSV pairs or one sentence per
 // line: every tab-separated field of a line is a sentence), passes every
 // sentence through the rewrites of the stages before this one (so the list is
 // compared after exactly the same normalization as the corpus), and drops any

@@ -9,7 +9,7 @@
 // to the largest of `size` and the `sweep` sizes once; every smaller
 // vocabulary is a prefix of it, and each sweep size is evaluated on the dev
 // split (tokens per sentence and per word, sentences over sweep_max_length
-// tokens, unknown-as-bytes rate). `user_tokens` get the last ids (within
+// tokens, byte-token rate). `user_tokens` get the last ids (within
 // `size`); the encoder never splits them. `reuse` loads vocabulary files
 // instead of learning. Writes vocab.shared.txt, or vocab.source.txt
 // and vocab.target.txt (docs/vocabulary-format.md), and pipeline.toml.

@@ -3,7 +3,7 @@
 // encode() first cuts text at the vocabulary's user-defined tokens (each
 // becomes its id, never split), then cuts the rest into word units (units.h), turns each character into its
 // alphabet token or, if it is not in the alphabet, into its UTF-8 byte tokens
-// (or the unknown token when byte fallback is off), then applies merges in
+// (or the unknown token when unknown_as_bytes is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
 // cached in one table shared by the threads. decode() concatenates the bytes of the tokens, skipping special
 // tokens, so decode(encode(x)) == x for every valid UTF-8 x when byte

@@ -80,7 +80,7 @@ class Vocabulary {
   int64_t char_id(std::string_view utf8) const;
   // Appends the symbols a text starts from before merges: each character's
   // token, or for a character outside the alphabet its byte tokens (the
-  // unknown token without byte fallback).
+  // unknown token when unknown_as_bytes is off).
   void initial_symbols(std::string_view text, std::vector<uint32_t>& out) const;
   const VocabularyInfo& info() const { return info_; }
   // XXH3-64 of the serialized file without its checksum line: shards record
