@@ -6,8 +6,8 @@
 // (or the unknown token when unknown_as_bytes is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
 // cached in one table shared by the threads. decode() concatenates the bytes of the tokens, skipping special
-// tokens, so decode(encode(x)) == x for every valid UTF-8 x when byte
-// fallback is on.
+// tokens, so decode(encode(x)) == x for every valid UTF-8 x when
+// unknown_as_bytes is on.
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
 // k merges is the first k merges of a larger one, which is how one learning
 // run serves a whole size sweep.
