@@ -168,7 +168,7 @@ TEST(Hostile, ASignalStopsTheRunWhileTheReaderWaits) {
   double secs = 0;
   int rc = wait_at_most(endless.pid, 15, &secs);
   EXPECT_EQ(rc, 1) << test::read_file(t / "err");
-  EXPECT_LT(secs, 3.0);
+  EXPECT_LT(secs, 5.0);  // within a second when idle; room for a loaded CI (before: 33 s, never)
   EXPECT_NE(test::read_file(t / "err").find("interrupted"), std::string::npos);
   EXPECT_FALSE(has_partial_files(t / "out"));
 
@@ -183,7 +183,7 @@ TEST(Hostile, ASignalStopsTheRunWhileTheReaderWaits) {
   rc = wait_at_most(idle.pid, 15, &secs);
   ::close(keep);
   EXPECT_EQ(rc, 1) << test::read_file(t / "err2");
-  EXPECT_LT(secs, 3.0);
+  EXPECT_LT(secs, 5.0);  // within a second when idle; room for a loaded CI (before: 33 s, never)
   EXPECT_NE(test::read_file(t / "err2").find("interrupted"), std::string::npos);
 }
 
