@@ -18,6 +18,7 @@
 #include "report/run_record.h"
 #include "report/summary.h"
 #include "shards/inspect.h"
+#include "stages/language.h"
 #include "stages/stage.h"
 #include "stages/tokenizer.h"
 #include "subword/codec.h"
@@ -69,17 +70,20 @@ Status check_init(const InitOptions& io) {
                                           " to " + std::to_string(static_cast<int64_t>(f.max)) + " (4 special + 256 byte tokens + at least one more), not " +
                                           std::to_string(io.vocab_size));
   if (io.seed < 0) return Error(ErrorKind::kUsage, "--seed must not be negative");
+  // A language must be a code CLD2 knows (as the language stage checks).
+  for (const auto& [option, code] : {std::pair<const char*, const std::string&>{"--from", io.source_lang},
+                                     std::pair<const char*, const std::string&>{"--to", io.target_lang}})
+    if (!cld2_knows(code.substr(0, code.find_first_of("-_"))))
+      return Error(ErrorKind::kUsage, std::string(option) + " is \"" + code +
+                                          "\", which is not a language code; give an ISO 639-1 code such as \"en\"");
+  // Then the checks of validate and run, on the very file init would print.
   auto p = load_pipeline_text(init_template(io), "init");
-  if (!p.ok()) return Error(ErrorKind::kUsage, p.error().message());
+  if (!p.ok()) return Error(ErrorKind::kUsage, "the file init would write does not load: " + p.error().message());
   Status st = check_stages(*p);
-  if (!st.ok()) {
-    const std::string& m = st.error().message();
-    const char* option = m.find("source") != std::string::npos ? "--from" : m.find("target") != std::string::npos ? "--to" : nullptr;
-    if (option && (m.find("language") != std::string::npos))
-      return Error(ErrorKind::kUsage,
-                   std::string(option) + " must be an ISO 639-1 language code such as \"en\" (" + m + ")");
-    return Error(ErrorKind::kUsage, m);
-  }
+  if (!st.ok())
+    return Error(ErrorKind::kUsage,
+                 "the file init would write does not pass validate: " + st.error().message() +
+                     "; run init with a language sheaf knows and edit [corpus] and that stage by hand");
   return {};
 }
 

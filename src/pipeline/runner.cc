@@ -344,7 +344,7 @@ class Pass1Writer {
 // Streams the bytes of over-long lines into rejected-long.tsv: per line
 // "LINE<TAB>SIDE<TAB>" then its bytes then LF (a line holds no LF); LINE is
 // "CORPUS:LINE" with named corpora, as in rejected.tsv.
-void rd_sink_into(PairReader& rd, const Pipeline& p, const RunDir& dir, OutputFile& longs, bool& in_line) {
+void stream_long_lines(PairReader& rd, const Pipeline& p, const RunDir& dir, OutputFile& longs, bool& in_line) {
   rd.set_oversize_sink([&p, &dir, &longs, &in_line](size_t corpus, std::string_view side, uint64_t line,
                                                     std::string_view bytes, bool last) -> Status {
     if (longs.path().empty()) {
@@ -469,7 +469,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   // into rejected-long.tsv (created at the first one) as it skips them.
   OutputFile longs;
   bool in_long_line = false;
-  rd_sink_into(*reader.value(), p, *dir, longs, in_long_line);
+  stream_long_lines(*reader.value(), p, *dir, longs, in_long_line);
 
   std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
   Pass1Writer writer(*dir, rec, split_names, split, p);

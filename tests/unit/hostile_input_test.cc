@@ -168,7 +168,7 @@ TEST(Hostile, ASignalStopsTheRunWhileTheReaderWaits) {
   double secs = 0;
   int rc = wait_at_most(endless.pid, 15, &secs);
   EXPECT_EQ(rc, 1) << test::read_file(t / "err");
-  EXPECT_LT(secs, 3.0);
+  EXPECT_LT(secs, 5.0);  // within a second when idle; room for a loaded CI (before: 33 s, never)
   EXPECT_NE(test::read_file(t / "err").find("interrupted"), std::string::npos);
   EXPECT_FALSE(has_partial_files(t / "out"));
 
@@ -183,7 +183,7 @@ TEST(Hostile, ASignalStopsTheRunWhileTheReaderWaits) {
   rc = wait_at_most(idle.pid, 15, &secs);
   ::close(keep);
   EXPECT_EQ(rc, 1) << test::read_file(t / "err2");
-  EXPECT_LT(secs, 3.0);
+  EXPECT_LT(secs, 5.0);  // within a second when idle; room for a loaded CI (before: 33 s, never)
   EXPECT_NE(test::read_file(t / "err2").find("interrupted"), std::string::npos);
 }
 
@@ -601,6 +601,43 @@ TEST(Hostile, MessagesSayWhatIsWrongInPlainWords) {
   test::write_file(t / "w.tsv", wide);
   auto w = test::run_sheaf("run " + write_pipeline(t, t / "w.tsv", "", t / "out-w") + " --quiet");
   EXPECT_NE(w.err.find("iconv -f UTF-32"), std::string::npos) << w.err;
+}
+
+// Every file sheaf reads back goes through a checked reader: a damaged
+// summary.json or manifest.json is an error (exit 1), never an abort.
+TEST(Hostile, DamagedRecordsAreErrorsNotAborts) {
+  test::TempDir t;
+  test::write_file(t / "c.tsv", corpus_lines(20));
+  auto r = test::run_sheaf("run " + write_pipeline(t, t / "c.tsv", "", t / "out") + " --quiet");
+  ASSERT_EQ(r.status, 0) << r.err;
+  std::string summary = test::read_file(t / "out/summary.json");
+  std::string manifest = test::read_file(t / "out/manifest.json");
+  // summary.json: valid JSON, wrong types.
+  for (const std::string& damaged : {std::string("{\"format\": \"sheaf-summary\", \"counts\": 7}"),
+                                     std::string("{\"format\": \"sheaf-summary\", \"counts\": {\"read\": \"x\"}}")}) {
+    test::write_file(t / "out/summary.json", damaged);
+    auto s = test::run_sheaf("stats " + (t / "out"));
+    EXPECT_EQ(s.status, 1) << damaged << s.err;
+    EXPECT_NE(s.err.find("summary.json"), std::string::npos) << s.err;
+    EXPECT_EQ(s.err.find("terminate"), std::string::npos) << s.err;
+  }
+  test::write_file(t / "out/summary.json", summary);
+  // manifest.json: a checksum that is not hexadecimal, a count that is a string.
+  size_t at = manifest.find("\"xxh3_64\": \"", manifest.find("\"outputs\""));
+  ASSERT_NE(at, std::string::npos);
+  for (const std::string& damaged :
+       {manifest.substr(0, at) + "\"xxh3_64\": \"zz" + manifest.substr(at + 12),
+        manifest.substr(0, at) + "\"xxh3_64\": 12, \"x\": \"" + manifest.substr(at + 12)}) {
+    test::write_file(t / "out/manifest.json", damaged);
+    for (const char* cmd : {"inspect ", "stats "}) {
+      auto s = test::run_sheaf(cmd + (t / "out"));
+      EXPECT_EQ(s.status, 1) << cmd << s.err;
+      EXPECT_EQ(s.err.find("terminate"), std::string::npos) << cmd << s.err;
+    }
+    // A new run into the directory does not take it for a run of its own.
+    auto again = test::run_sheaf("run " + (t / "p.toml") + " --quiet");
+    EXPECT_EQ(again.status, 2) << again.err;
+  }
 }
 
 // 16. The mean length ratio is exact.
