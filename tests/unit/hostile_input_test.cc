@@ -32,18 +32,7 @@ struct Child {
   pid_t pid;
 };
 
-Child start(const std::string& args, const std::string& err_path) {
-  pid_t pid = ::fork();
-  if (pid == 0) {
-    FILE* e = std::freopen(err_path.c_str(), "w", stderr);
-    (void)e;
-    FILE* o = std::freopen("/dev/null", "w", stdout);
-    (void)o;
-    ::execl("/bin/sh", "sh", "-c", ("exec " + test::binary() + " " + args).c_str(), nullptr);
-    ::_exit(127);
-  }
-  return {pid};
-}
+Child start(const std::string& args, const std::string& err_path) { return {test::start_sheaf(args, err_path)}; }
 
 // Waits at most `limit` seconds, then kills the child (a test that fails
 // must not hang); returns the exit status (128 + signal when killed).

@@ -40,18 +40,7 @@ struct Child {
   std::string err_path;
 };
 
-Child start(const std::string& args, const std::string& err_path) {
-  pid_t pid = ::fork();
-  if (pid == 0) {
-    FILE* e = std::freopen(err_path.c_str(), "w", stderr);
-    (void)e;
-    FILE* o = std::freopen("/dev/null", "w", stdout);
-    (void)o;
-    ::execl("/bin/sh", "sh", "-c", ("exec " + test::binary() + " " + args).c_str(), nullptr);
-    ::_exit(127);
-  }
-  return {pid, err_path};
-}
+Child start(const std::string& args, const std::string& err_path) { return {test::start_sheaf(args, err_path), err_path}; }
 
 int wait_for(pid_t pid, double* seconds = nullptr, long* max_rss_kib = nullptr) {
   auto t0 = std::chrono::steady_clock::now();

@@ -11,6 +11,7 @@
 #include <sstream>
 #include <string>
 #include <sys/wait.h>
+#include <unistd.h>
 #include <vector>
 
 namespace sheaf::test {
@@ -87,6 +88,21 @@ inline Ran run_shell(const std::string& cmd) {
 }
 
 inline Ran run_sheaf(const std::string& args) { return run_shell(binary() + " " + args); }
+
+// Starts the sheaf binary with `args` in the background, standard error to
+// `err_path`, standard output discarded; returns the child's process id.
+inline pid_t start_sheaf(const std::string& args, const std::string& err_path) {
+  pid_t pid = ::fork();
+  if (pid == 0) {
+    FILE* e = std::freopen(err_path.c_str(), "w", stderr);
+    (void)e;
+    FILE* o = std::freopen("/dev/null", "w", stdout);
+    (void)o;
+    ::execl("/bin/sh", "sh", "-c", ("exec " + binary() + " " + args).c_str(), nullptr);
+    ::_exit(127);
+  }
+  return pid;
+}
 
 // A pipeline file with the given corpus section and stages.
 inline std::string pipeline_text(const std::string& corpus, const std::string& stages, const std::string& out = "out") {
