@@ -118,7 +118,7 @@ Result<std::shared_ptr<const int>> lock_dir(const fs::path& d, const std::string
 
 }  // namespace
 
-Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
+Result<RunDir::Lock> RunDir::lock(const std::string& dir) {
   std::error_code ec;
   fs::path d(dir);
   auto st = fs::symlink_status(d, ec);
@@ -127,16 +127,32 @@ Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
   if (fs::exists(st) && !fs::is_directory(fs::status(d, ec)))
     return Error(ErrorKind::kUsage, "the output path exists and is not a directory; choose another --out",
                  Location{dir, 0, 0, {}});
+  Lock held;
   if (!fs::exists(st)) {
     fs::create_directories(d, ec);
     if (ec) return fs_error(ErrorKind::kIo, "cannot create the output directory", ec, dir);
+    held.created_dir = true;
   }
   // A directory sheaf refuses keeps no lock file it did not have before.
-  bool had_lock = fs::exists(fs::symlink_status(d / kLock, ec));
-  auto lock = lock_dir(d, dir);
-  if (!lock.ok()) return lock.error();
+  held.had_file = fs::exists(fs::symlink_status(d / kLock, ec));
+  auto fd = lock_dir(d, dir);
+  if (!fd.ok()) return fd.error();
+  held.fd = std::move(fd.value());
+  return held;
+}
+
+void RunDir::abandon(const std::string& dir, Lock& lock) {
+  fs::path d(dir);
+  if (!lock.had_file) ::unlink((d / kLock).c_str());
+  lock.fd.reset();
+  if (lock.created_dir) ::rmdir(d.c_str());  // only if nothing else is in it
+}
+
+Result<RunDir> RunDir::prepare(const std::string& dir, bool force, Lock lock) {
+  std::error_code ec;
+  fs::path d(dir);
   auto refuse = [&](Error e) -> Error {
-    if (!had_lock) ::unlink((d / kLock).c_str());
+    if (!lock.had_file) ::unlink((d / kLock).c_str());
     return e;
   };
 
@@ -196,7 +212,7 @@ Result<RunDir> RunDir::prepare(const std::string& dir, bool force) {
   }
   RunDir r;
   r.dir_ = dir;
-  r.lock_ = std::move(lock.value());
+  r.lock_ = std::move(lock.fd);
   SHEAF_TRY(write_marker(d / kMarker, kMarkerHeader, false, dir));
   return r;
 }

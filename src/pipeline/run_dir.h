@@ -33,7 +33,22 @@ namespace sheaf {
 
 class RunDir {
  public:
-  static Result<RunDir> prepare(const std::string& dir, bool force);
+  // The directory's lock, taken before anything else of a run (before its
+  // input is opened, which can wait on a pipe), so that a run that waits
+  // can never clean a directory another run has finished in the meantime.
+  struct Lock {
+    std::shared_ptr<const int> fd;  // the locked file's descriptor
+    bool had_file = false;          // .sheaf-lock was there before
+    bool created_dir = false;       // the directory was made for this run
+  };
+  // Creates a missing directory and takes its lock, or says which process
+  // holds it.
+  static Result<Lock> lock(const std::string& dir);
+  // Lets go of a lock when the run stops before prepare() (its input could
+  // not be opened): the directory is left as it was found.
+  static void abandon(const std::string& dir, Lock& lock);
+  // Checks and cleans the directory (see above), under `lock`.
+  static Result<RunDir> prepare(const std::string& dir, bool force, Lock lock);
 
   const std::string& path() const { return dir_; }
   std::string file(const std::string& rel) const { return dir_ + "/" + rel; }

@@ -436,6 +436,13 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     streaming_end = i + 1;
   }
 
+  // The output directory's lock comes first: opening the input can wait
+  // (a pipe, standard input), and a run that waits must not clean up a
+  // directory that another run finished in the meantime.
+  std::string out_dir = !o.out_dir.empty() ? o.out_dir : p.resolve(p.output_dir);
+  auto lock = RunDir::lock(out_dir);
+  if (!lock.ok()) return lock.error();
+
   std::vector<std::vector<std::string>> paths;
   for (const auto& c : p.corpora) {
     paths.emplace_back();
@@ -443,6 +450,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   }
   auto reader = PairReader::open(p.corpora, paths);
   if (!reader.ok()) {
+    RunDir::abandon(out_dir, lock.value());
     // Say where a relative path was looked for.
     const Error& e = reader.error();
     for (size_t c = 0; c < paths.size() && o.inputs.empty(); ++c)
@@ -455,8 +463,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     return e;
   }
 
-  std::string out_dir = !o.out_dir.empty() ? o.out_dir : p.resolve(p.output_dir);
-  auto dir = RunDir::prepare(out_dir, o.force);
+  auto dir = RunDir::prepare(out_dir, o.force, std::move(lock.value()));
   if (!dir.ok()) return dir.error();
 
   rec.stages.push_back({"read", "read", 0, 0, {}, {}});

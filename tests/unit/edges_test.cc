@@ -1,12 +1,16 @@
 // Regression tests for edges of the core types: histograms of hostile values,
 // shard checksums of bodies of 4 GiB or more, and partial output files.
 #include <sys/mman.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
 #include <unistd.h>
 #include <zlib.h>
 
+#include <chrono>
 #include <filesystem>
 #include <fstream>
 #include <random>
+#include <thread>
 #include <vector>
 
 #include <gtest/gtest.h>
@@ -158,6 +162,33 @@ TEST(Edges, TheRecordReaderRefusesOutsidePathsAndEndlessFiles) {
   }
   std::filesystem::create_symlink("/dev/zero", t / "zero.json");
   EXPECT_FALSE(read_manifest_outputs(t / "zero.json").ok());
+}
+
+// A run waiting on its input (an idle pipe) already holds the output
+// directory's lock: a second run into it stops at once instead of finishing
+// there and then having its files cleaned away by the first.
+TEST(Edges, ARunWaitingOnItsInputAlreadyHoldsTheDirectory) {
+  test::TempDir t;
+  ASSERT_EQ(::mkfifo((t / "pipe.tsv").c_str(), 0600), 0);
+  test::write_file(t / "c.tsv", "Good morning.\tBuenos d\u00edas.\n");
+  auto pipeline = [&](const std::string& name, const std::string& input) {
+    test::write_file(t / name, test::pipeline_text("files = [\"" + input + "\"]\nsource_lang = \"en\"\ntarget_lang = \"es\"",
+                                                   "[[stage]]\nkind = \"length\"\n", "out"));
+    return t / name;
+  };
+  pid_t waiting = test::start_sheaf("run " + pipeline("a.toml", "pipe.tsv") + " --quiet", t / "err-a");
+  std::this_thread::sleep_for(std::chrono::milliseconds(500));
+  auto second = test::run_sheaf("run " + pipeline("b.toml", "c.tsv") + " --quiet");
+  EXPECT_EQ(second.status, 1) << second.err;
+  EXPECT_NE(second.err.find("another sheaf run"), std::string::npos) << second.err;
+  {
+    std::ofstream feed(t / "pipe.tsv");  // unblocks the first run
+    feed << "Good night.\tBuenas noches.\n";
+  }
+  int status = 0;
+  ::waitpid(waiting, &status, 0);
+  EXPECT_TRUE(WIFEXITED(status) && WEXITSTATUS(status) == 0) << test::read_file(t / "err-a");
+  EXPECT_EQ(test::read_file(t / "out/train.tsv"), "Good night.\tBuenas noches.\n");
 }
 
 }  // namespace
