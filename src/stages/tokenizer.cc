@@ -76,6 +76,10 @@ std::string Tokenizer::decode(const uint32_t* ids, size_t n, bool stop_at_eos, b
     if (stop_at_eos && id == eos) break;
     if (id >= vocab_.size()) continue;
     const Token& t = vocab_.token(id);
+    if (skip_special && id == vocab_.special(kUnk)) {
+      out += kUnknownText;  // text was there: shown as U+FFFD, not dropped
+      continue;
+    }
     if (t.kind == TokenKind::kSpecial && skip_special) continue;
     out += t.bytes;
   }

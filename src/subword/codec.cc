@@ -285,6 +285,10 @@ std::string decode(const Vocabulary& v, const std::vector<uint32_t>& ids) {
   std::string out;
   for (uint32_t id : ids) {
     if (id >= v.size()) continue;
+    if (id == v.special(kUnk)) {
+      out += kUnknownText;
+      continue;
+    }
     const Token& t = v.token(id);
     if (t.kind != TokenKind::kSpecial) out += t.bytes;
   }

@@ -6,7 +6,7 @@
 // (or the unknown token when unknown_as_bytes is off), then applies merges in
 // learned order, lowest rank first, within each unit. Encoded units are
 // cached in one table shared by the threads. decode() concatenates the bytes of the tokens, skipping special
-// tokens, so decode(encode(x)) == x for every valid UTF-8 x when
+// tokens but the unknown one (kUnknownText), so decode(encode(x)) == x for every valid UTF-8 x when
 // unknown_as_bytes is on.
 // An Encoder may use only the first `max_merges` merges: a BPE vocabulary of
 // k merges is the first k merges of a larger one, which is how one learning
@@ -122,6 +122,10 @@ class Encoder {
   mutable tbb::enumerable_thread_specific<Scratch> scratch_;
 };
 
+// The text the unknown token decodes to: U+FFFD REPLACEMENT CHARACTER, the
+// Unicode Standard's mark for a character that could not be represented
+// (text was there and is lost), rather than nothing.
+inline constexpr const char* kUnknownText = "\xEF\xBF\xBD";
 std::string decode(const Vocabulary& v, const std::vector<uint32_t>& ids);
 
 }  // namespace sheaf

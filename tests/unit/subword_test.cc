@@ -452,6 +452,9 @@ TEST(Codec, WithoutByteFallbackRareCharactersAreUnknown) {
   enc.encode("garden \u0416", ids, &st);
   EXPECT_EQ(ids.back(), v.special(kUnk));
   EXPECT_EQ(st.unknown, 1u);
+  // The unknown token decodes to U+FFFD (the Unicode Standard's replacement
+  // character), not to nothing: a reader sees that text was lost.
+  EXPECT_EQ(decode(v, ids), "garden \uFFFD");
 }
 
 TEST(Trainer, SizeIsExactAndImpossibleSizesAreErrors) {
