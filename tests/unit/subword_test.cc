@@ -560,7 +560,7 @@ TEST(VocabularyFile, SwitchesMustBeWrittenAsYesOrNo) {
   };
   ASSERT_TRUE(Vocabulary::parse(reseal(text), "v.txt").ok());
   for (const auto& [from, to] : std::vector<std::pair<std::string, std::string>>{
-           {"single-digits\tno", "split-digits\tyes"},
+           {"single-digits\tno", "digits-apart\tyes"},
            {"unknown-as-bytes\tyes", "unknown-as-bytes\tmaybe"},
            {"unknown-as-bytes\tyes\n", ""}}) {
     std::string bad = text;
