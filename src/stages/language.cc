@@ -14,6 +14,7 @@
 #include <algorithm>
 #include <atomic>
 #include <map>
+#include <memory>
 #include <mutex>
 #include <vector>
 
@@ -135,12 +136,18 @@ bool settled_by_script(std::string_view own, const std::string& key) {
 // ulocdata_getExemplarSet): the letters its everyday orthography uses.
 // Frozen sets are safe to query from many threads; each language's set is
 // built once, on first use (only drop candidates need one).
+struct USetCloser {
+  void operator()(USet* s) const { uset_close(s); }
+};
+
 const USet* exemplars(const std::string& code) {
   static std::mutex mu;
-  static std::map<std::string, USet*> sets;
+  // Owned here and closed when the process ends (a set is never freed
+  // while the process runs, since any thread may be reading it).
+  static std::map<std::string, std::unique_ptr<USet, USetCloser>> sets;
   std::lock_guard<std::mutex> lock(mu);
   auto it = sets.find(code);
-  if (it != sets.end()) return it->second;
+  if (it != sets.end()) return it->second.get();
   UErrorCode st = U_ZERO_ERROR;
   ULocaleData* d = ulocdata_open(code.c_str(), &st);
   USet* set = nullptr;
@@ -154,7 +161,7 @@ const USet* exemplars(const std::string& code) {
     }
   }
   if (d) ulocdata_close(d);
-  sets[code] = set;  // nullptr: no data, no evidence either way
+  sets[code].reset(set);  // nullptr: no data, no evidence either way
   return set;
 }
 
