@@ -15,12 +15,13 @@
 
 #include "pipeline/pipeline.h"
 #include "pipeline/runner.h"
-#include "report/run_record.h"
+#include "run/run_record.h"
 #include "report/summary.h"
 #include "shards/inspect.h"
 #include "stages/language.h"
+#include "stages/registry.h"
 #include "stages/stage.h"
-#include "stages/tokenizer.h"
+#include "pipeline/tokenizer.h"
 #include "subword/codec.h"
 
 namespace {
@@ -363,6 +364,7 @@ int run_command(int argc, char** argv) {
     // A file-size limit (ulimit -f) must surface as a write error, not kill us.
     std::signal(SIGXFSZ, SIG_IGN);
     ro.progress = !quiet && ::isatty(STDERR_FILENO);
+    ro.closing_steps.push_back(make_summary_step);
     auto rec = run_pipeline(*p, ro);
     if (!rec.ok()) return fail(rec.error());
     if (!quiet) print_summary(ro.out_dir.empty() ? p->resolve(p->output_dir) : ro.out_dir);

@@ -24,7 +24,7 @@
 #include "core/error.h"
 #include "core/pair_batch.h"
 #include "io/line_reader.h"
-#include "pipeline/pipeline.h"
+#include "config/pipeline.h"
 
 namespace sheaf {
 

@@ -9,6 +9,8 @@
 #include <sstream>
 
 #include "pipeline/pipeline.h"
+#include "run/step.h"
+#include "stages/registry.h"
 
 namespace sheaf {
 
@@ -363,7 +365,7 @@ Status resolve_corpus_stages(const toml::array& arr, const toml::array* stages, 
                             at);
     }
     const StageSpec& s = p.stages[static_cast<size_t>(i)];
-    if (s.kind->role != StageRole::kFilter || s.kind->kind == "dedup" || s.kind->kind == "near-dup")
+    if (s.kind->role != StageRole::kFilter || !s.kind->varies_per_corpus)
       return pipeline_error("corpus \"" + corpus + "\" " + how + " \"" + stage +
                                 "\": only filter stages other than dedup and near-dup can differ per corpus "
                                 "(deduplication compares every corpus with the same keys)",
@@ -414,6 +416,39 @@ Status resolve_corpus_stages(const toml::array& arr, const toml::array* stages, 
       if (c.name == s.name)
         return pipeline_error("corpus \"" + c.name + "\" has the name of a stage; --set could not tell them apart", c.where);
   p.corpus = p.corpora.front();
+  return {};
+}
+
+// Streaming stages come first (filters, then at most one split); a step
+// may come only after stages that provide every product it needs, and a
+// product is provided once. Decided from the kinds' declarations alone.
+Status check_order(const Pipeline& p) {
+  static const char* order = "filters (normalize, length, ...), then split, then the steps (vocabulary, shards)";
+  int phase = 0;  // 0 filters, 1 split, 2 steps
+  std::map<std::string, std::string> provided = {{std::string(kSplitsProduct), "pass 1"}};
+  for (const auto& s : p.stages) {
+    const StageKind& k = *s.kind;
+    int want = k.role == StageRole::kFilter ? 0 : k.role == StageRole::kSplit ? 1 : 2;
+    if (want < phase)
+      return pipeline_error("stage \"" + s.name + "\" (" + k.kind + ") is out of order: stages run as " + order, s.where);
+    if (want == 1 && phase == 1) return pipeline_error("only one " + k.kind + " stage is allowed", s.where);
+    phase = want;
+    for (const auto& need : k.needs) {
+      if (provided.count(need)) continue;
+      std::string by;
+      for (const StageKind* other : stage_kinds())
+        if (std::find(other->provides.begin(), other->provides.end(), need) != other->provides.end()) by = other->kind;
+      return pipeline_error("stage \"" + s.name + "\" (" + k.kind + ") needs the " + need +
+                                (by.empty() ? ", which no stage provides" : ", which a " + by + " stage before it provides"),
+                            s.where);
+    }
+    for (const auto& made : k.provides) {
+      auto [it, fresh] = provided.emplace(made, s.name);
+      if (!fresh)
+        return pipeline_error("only one " + k.kind + " stage is allowed: stage \"" + it->second + "\" already provides the " + made,
+                              s.where);
+    }
+  }
   return {};
 }
 
@@ -474,7 +509,7 @@ Result<Pipeline> build(toml::table& root, const std::string& name, const std::ve
     const toml::array* arr = sn->as_array();
     if (arr == nullptr) return pipeline_error("\"stage\" must be an array of tables: write each as [[stage]]", ctx.at(*sn));
     std::vector<std::string> kinds;
-    for (const auto& k : stage_kinds()) kinds.push_back(k.kind);
+    for (const StageKind* k : stage_kinds()) kinds.push_back(k->kind);
     std::string kinds_text;
     for (const auto& k : kinds) kinds_text += (kinds_text.empty() ? "" : ", ") + k;
     for (size_t i = 0; i < arr->size(); ++i) {
@@ -520,24 +555,9 @@ Result<Pipeline> build(toml::table& root, const std::string& name, const std::ve
 
   if (named != nullptr) SHEAF_TRY(resolve_corpus_stages(*named, sn ? sn->as_array() : nullptr, ctx, p));
 
-  // Order: filters, then at most one split, then at most one vocabulary,
-  // then at most one shards stage (which needs a vocabulary).
-  int last_role = 0;
-  int seen[4] = {0, 0, 0, 0};
-  for (const auto& s : p.stages) {
-    int role = static_cast<int>(s.kind->role);
-    if (role < last_role) {
-      static const char* order = "filters (normalize, length, ...), then split, then vocabulary, then shards";
-      return pipeline_error("stage \"" + s.name + "\" (" + s.kind->kind + ") is out of order: stages run as " + order,
-                            s.where);
-    }
-    if (role > 0 && seen[role]++)
-      return pipeline_error("only one " + s.kind->kind + " stage is allowed", s.where);
-    last_role = role;
-  }
-  if (seen[static_cast<int>(StageRole::kShards)] && !seen[static_cast<int>(StageRole::kVocabulary)]) {
-    return pipeline_error("the shards stage needs a vocabulary stage before it", p.stages.back().where);
-  }
+  // Order: filters, then at most one split, then steps, each after the
+  // stages that provide what it needs (pass 1 provides the split files).
+  SHEAF_TRY(check_order(p));
   return p;
 }
 
@@ -549,22 +569,6 @@ Result<Override> parse_override(const std::string& text) {
   if (eq == std::string::npos || dot == std::string::npos || dot > eq || dot == 0 || dot + 1 == eq)
     return Error(ErrorKind::kUsage, "--set takes NAME.KEY=VALUE (a stage name or corpus/output, a key, a TOML value), not \"" + text + "\"");
   return Override{text.substr(0, dot), text.substr(dot + 1, eq - dot - 1), text.substr(eq + 1)};
-}
-
-int Pipeline::stage_index(std::string_view name) const {
-  for (size_t i = 0; i < stages.size(); ++i)
-    if (stages[i].name == name) return static_cast<int>(i);
-  return -1;
-}
-
-std::string Pipeline::origin(uint32_t corpus, uint64_t line) const {
-  if (!named_corpora || corpus >= corpora.size()) return std::to_string(line);
-  return corpora[corpus].name + ":" + std::to_string(line);
-}
-
-std::string Pipeline::resolve(const std::string& path) const {
-  if (path == "-" || path.empty() || path.front() == '/') return path;
-  return (std::filesystem::path(base_dir) / path).lexically_normal().string();
 }
 
 Result<Pipeline> load_pipeline_text(const std::string& text, const std::string& name,

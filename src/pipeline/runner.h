@@ -6,17 +6,24 @@
 // filter, then a serial in-order writer. At most 4 x threads batches are in
 // flight, which bounds memory. The writer sees batches in input order, so
 // every output is byte-identical whatever the thread count.
-// After pass 1 come the learning and encoding steps (vocabulary, shards) and
-// the summary; manifest.json is written last, atomically.
+// After pass 1 come the steps of the pipeline file (run/step.h: the
+// vocabulary, the shards), in order, then the closing steps the caller
+// gives (the summary); manifest.json is written last, atomically. The runner
+// names no stage kind: it knows streaming stages, the split router and
+// steps only through their interfaces.
 #pragma once
 
 #include <atomic>
+#include <functional>
+#include <memory>
 #include <string>
+#include <vector>
 
 #include "core/error.h"
 #include "core/interrupt.h"
 #include "pipeline/pipeline.h"
-#include "report/run_record.h"
+#include "run/run_record.h"
+#include "run/step.h"
 
 namespace sheaf {
 
@@ -28,6 +35,8 @@ struct RunOptions {
   bool force = false;
   bool progress = false;    // progress line on standard error
   size_t batch_pairs = 4096;
+  // Steps run after the pipeline's own, also after --until (the summary).
+  std::vector<std::function<std::unique_ptr<Step>()>> closing_steps;
 };
 
 Result<RunRecord> run_pipeline(const Pipeline& p, const RunOptions& o);

@@ -20,7 +20,7 @@
 
 #include <xxhash.h>
 
-#include "stages/tokenizer.h"
+#include "pipeline/tokenizer.h"
 
 namespace py = pybind11;
 

@@ -15,6 +15,7 @@
 #include "io/output_file.h"
 #include "report/html_report.h"
 #include "core/stats.h"
+#include "stages/vocabulary.h"
 #include "subword/vocabulary.h"
 
 namespace sheaf {
@@ -104,25 +105,19 @@ ordered_json hist_json(const Histogram& h, uint64_t width, double scale = 1.0) {
 
 }  // namespace
 
-Status write_summary(const StepInput& in, int threads) {
+static Status write_summary(const StepContext& in, int threads) {
   RunRecord& rec = *in.record;
   ordered_json sections = ordered_json::object();
   for (const auto& [k, v] : rec.sections) sections[k] = ordered_json::parse(v);
 
-  // Vocabularies for alphabet coverage, if this run learned any.
-  std::vector<Vocabulary> vocabs;
-  std::vector<std::string> vsides;
-  for (const auto& o : rec.outputs) {
-    if (o.kind != "vocabulary") continue;
-    auto v = Vocabulary::load(in.dir->file(o.path));
-    if (!v.ok()) return v.error();
-    vocabs.push_back(std::move(v.value()));
-    vsides.push_back(o.side);
-  }
+  // Vocabularies for alphabet coverage, if this run learned any (in
+  // memory, from the vocabulary step).
   const Vocabulary* per_side[2] = {nullptr, nullptr};
-  for (size_t i = 0; i < vocabs.size(); ++i) {
-    if (vsides[i] == "shared" || vsides[i] == "source") per_side[0] = &vocabs[i];
-    if (vsides[i] == "shared" || vsides[i] == "target") per_side[1] = &vocabs[i];
+  const auto* learned = in.products->get<LearnedVocabularies>(kVocabularyProduct);
+  for (size_t i = 0; learned != nullptr && i < learned->vocabularies.size(); ++i) {
+    const std::string& side = learned->vocabularies[i]->info().side;
+    if (side == "shared" || side == "source") per_side[0] = learned->vocabularies[i].get();
+    if (side == "shared" || side == "target") per_side[1] = learned->vocabularies[i].get();
   }
 
   ordered_json j;
@@ -306,5 +301,16 @@ static Result<std::string> summary_text_unchecked(const std::string& summary_jso
   if (j.contains("stopped_after")) o << "  stopped after stage \"" << j["stopped_after"].get<std::string>() << "\" (--until)\n";
   return o.str();
 }
+
+namespace {
+
+class SummaryStep : public Step {
+ public:
+  Status run(StepContext& ctx) override { return write_summary(ctx, ctx.threads); }
+};
+
+}  // namespace
+
+std::unique_ptr<Step> make_summary_step() { return std::make_unique<SummaryStep>(); }
 
 }  // namespace sheaf

@@ -11,15 +11,18 @@
 
 #include <string>
 
-#include "pipeline/steps.h"
+#include <memory>
+
+#include "run/step.h"
 
 namespace sheaf {
 
 inline constexpr int kSummaryFormat = 1;
 
-// Computes the summary, writes summary.json and report.html, lists both in
-// the run record.
-Status write_summary(const StepInput& in, int threads);
+// The closing step of every run: computes the summary, writes summary.json
+// and report.html, lists both in the run record. Reads the vocabularies
+// from the product "vocabulary" when the run has one.
+std::unique_ptr<Step> make_summary_step();
 
 // The compact text summary `sheaf run` prints at its end and `sheaf stats`
 // prints again, from summary.json's content.

@@ -4,7 +4,7 @@
 #include <optional>
 
 #include "io/output_file.h"
-#include "report/run_record.h"
+#include "run/run_record.h"
 #include "shards/shard_reader.h"
 #include "subword/codec.h"
 

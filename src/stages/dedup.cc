@@ -107,7 +107,10 @@ const StageKind& dedup_kind() {
            "exact text, or loose: lowercase, no punctuation, symbols, digits or spaces", 0, 0, {"exact", "loose"}},
           {"hash_bits", FieldType::kInt, int64_t{64}, "XXH3 hash width: 64 or 128 (see the collision bound in the docs)",
            64, 128},
-      }};
+      },
+      {},
+      {},
+      /*varies_per_corpus=*/false};
   return k;
 }
 

@@ -337,7 +337,11 @@ const StageKind& near_dup_kind() {
           {"bands", FieldType::kInt, int64_t{15}, "bands of the signature: more bands find less similar pairs", 1, 64},
           {"rows", FieldType::kInt, int64_t{11}, "signature values per band: more rows demand more similarity", 1, 32},
           {"seed", FieldType::kInt, int64_t{1}, "seed of the permutations and hashes", 0, 9.2e18},
-      }};
+      },
+      {},
+      {},
+      /*varies_per_corpus=*/false,
+      /*opt_in=*/true};
   return k;
 }
 

@@ -26,7 +26,7 @@
 #include <string>
 #include <string_view>
 
-#include "pipeline/schema.h"
+#include "config/schema.h"
 #include "stages/stage.h"
 
 namespace sheaf {

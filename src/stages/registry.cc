@@ -1,6 +1,8 @@
-// The list of stage kinds, in the order `sheaf init` writes them: cheap
-// filters first, language identification (the slowest) last among filters.
-#include "pipeline/pipeline.h"
+// The registry of stage kinds (registry.h).
+#include "stages/registry.h"
+
+#include <deque>
+
 #include "stages/copy.h"
 #include "stages/dedup.h"
 #include "stages/exclude.h"
@@ -12,51 +14,92 @@
 #include "stages/script.h"
 #include "stages/shards.h"
 #include "stages/split.h"
-#include "stages/stage.h"
 #include "stages/vocabulary.h"
 
 namespace sheaf {
 
 namespace {
 
-using Factory = Result<std::unique_ptr<Stage>> (*)(const StageContext&);
 struct Entry {
-  const StageKind& kind;
-  Factory make;
+  StageKind kind;
+  StageFactory make_stage = nullptr;
+  StepFactory make_step = nullptr;
 };
 
-const std::vector<Entry>& entries() {
-  static const std::vector<Entry> e = {
-      {normalize_kind(), make_normalize}, {pattern_kind(), make_pattern}, {length_kind(), make_length},
-      {copy_kind(), make_copy},           {script_kind(), make_script},   {dedup_kind(), make_dedup},
-      {near_dup_kind(), make_near_dup},   {exclude_kind(), make_exclude},     {language_kind(), make_language},   {split_kind(), make_split},
-      {vocabulary_kind(), nullptr},  // runs between passes (pipeline/steps.cc)
-      {shards_kind(), nullptr},      // runs last (pipeline/steps.cc)
-  };
+// A deque: registering a kind never moves the others (StageSpec::kind
+// points into it).
+std::deque<Entry>& entries() {
+  static std::deque<Entry> e = [] {
+    std::deque<Entry> d;
+    d.push_back({normalize_kind(), make_normalize, nullptr});
+    d.push_back({pattern_kind(), make_pattern, nullptr});
+    d.push_back({length_kind(), make_length, nullptr});
+    d.push_back({copy_kind(), make_copy, nullptr});
+    d.push_back({script_kind(), make_script, nullptr});
+    d.push_back({dedup_kind(), make_dedup, nullptr});
+    d.push_back({near_dup_kind(), make_near_dup, nullptr});
+    d.push_back({exclude_kind(), make_exclude, nullptr});
+    d.push_back({language_kind(), make_language, nullptr});
+    d.push_back({split_kind(), make_split, nullptr});
+    d.push_back({vocabulary_kind(), nullptr, make_vocabulary_step});
+    d.push_back({shards_kind(), nullptr, make_shards_step});
+    return d;
+  }();
   return e;
+}
+
+const Entry* find_entry(std::string_view kind) {
+  for (const auto& e : entries())
+    if (e.kind.kind == kind) return &e;
+  return nullptr;
 }
 
 }  // namespace
 
-const std::vector<StageKind>& stage_kinds() {
-  static const std::vector<StageKind> kinds = [] {
-    std::vector<StageKind> k;
-    for (const auto& e : entries()) k.push_back(e.kind);
-    return k;
-  }();
-  return kinds;
+std::vector<const StageKind*> stage_kinds() {
+  std::vector<const StageKind*> k;
+  for (const auto& e : entries()) k.push_back(&e.kind);
+  return k;
+}
+
+const StageKind* find_stage_kind(std::string_view kind) {
+  const Entry* e = find_entry(kind);
+  return e != nullptr ? &e->kind : nullptr;
+}
+
+Status register_stage_kind(StageKind kind, StageFactory make_stage, StepFactory make_step) {
+  if (find_entry(kind.kind) != nullptr)
+    return Error(ErrorKind::kInternal, "stage kind \"" + kind.kind + "\" is registered twice");
+  bool step = kind.role == StageRole::kStep;
+  if (step ? (make_step == nullptr || make_stage != nullptr) : (make_stage == nullptr || make_step != nullptr))
+    return Error(ErrorKind::kInternal, "stage kind \"" + kind.kind + "\": a step needs a step factory, a streaming stage a stage factory");
+  entries().push_back({std::move(kind), make_stage, make_step});
+  return {};
+}
+
+Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx) {
+  const Entry* e = find_entry(ctx.spec->kind->kind);
+  if (e == nullptr || e->make_stage == nullptr)
+    return Error(ErrorKind::kInternal, "no stage factory for kind " + ctx.spec->kind->kind);
+  return e->make_stage(ctx);
+}
+
+Result<std::unique_ptr<Step>> make_step(const Pipeline& p, const StageSpec& spec) {
+  const Entry* e = find_entry(spec.kind->kind);
+  if (e == nullptr || e->make_step == nullptr)
+    return Error(ErrorKind::kInternal, "no step factory for kind " + spec.kind->kind);
+  return e->make_step(p, spec);
 }
 
 Status check_stages(const Pipeline& p) {
   std::vector<std::unique_ptr<Stage>> built;
   for (size_t i = 0; i < p.stages.size(); ++i) {
     const StageSpec& spec = p.stages[i];
-    if (spec.kind->role == StageRole::kVocabulary) {
-      auto plan = vocabulary_plan(p, spec);
-      if (!plan.ok()) return plan.error();
+    if (spec.kind->role == StageRole::kStep) {
+      auto step = make_step(p, spec);
+      if (!step.ok()) return step.error();
       continue;
     }
-    if (spec.kind->role != StageRole::kFilter && spec.kind->role != StageRole::kSplit) continue;
     StageContext ctx;
     ctx.pipeline = &p;
     ctx.spec = &spec;
@@ -71,12 +114,6 @@ Status check_stages(const Pipeline& p) {
     built.push_back(std::move(st.value()));
   }
   return {};
-}
-
-Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx) {
-  for (const auto& e : entries())
-    if (e.kind.kind == ctx.spec->kind->kind && e.make) return e.make(ctx);
-  return Error(ErrorKind::kInternal, "no factory for stage kind " + ctx.spec->kind->kind);
 }
 
 }  // namespace sheaf

@@ -17,6 +17,7 @@
 #include "io/line_blocks.h"
 #include "core/stats.h"
 #include "shards/shard_writer.h"
+#include "stages/vocabulary.h"
 #include "subword/codec.h"
 
 namespace sheaf {
@@ -25,7 +26,7 @@ const StageKind& shards_kind() {
   static const StageKind k{
       "shards",
       "token-id shards for training, one set per split, memory-mappable",
-      StageRole::kShards,
+      StageRole::kStep,
       {
           {"max_pairs", FieldType::kInt, int64_t{500000}, "pairs per shard at most", 1, 4e9},
           {"max_bytes", FieldType::kInt, int64_t{0}, "bytes of ids per shard at most (0 = no limit)", 0, 1e15},
@@ -42,7 +43,9 @@ const StageKind& shards_kind() {
            "a user-defined token put at the start of every source side (after bos)"},
           {"target_tag", FieldType::kString, std::string(""),
            "a user-defined token put at the start of every target side (after bos)"},
-      }};
+      },
+      {"splits", "vocabulary"},
+      {"shards"}};
   return k;
 }
 
@@ -65,18 +68,13 @@ struct Encoded {
 
 }  // namespace
 
-Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files,
-                  std::vector<LearnedUnits> units, int threads) {
+static Status run_shards(const StepContext& in, const StageSpec& spec,
+                  const std::vector<std::shared_ptr<const Vocabulary>>& vocabs, std::vector<LearnedUnits> units,
+                  int threads) {
   const Params& p = spec.params;
   RunRecord& rec = *in.record;
-  std::vector<Vocabulary> vocabs;
-  for (const auto& f : vocab_files) {
-    auto v = Vocabulary::load(in.dir->file(f));
-    if (!v.ok()) return v.error();
-    vocabs.push_back(std::move(v.value()));
-  }
-  const Vocabulary& vs = vocabs[0];
-  const Vocabulary& vt = vocabs.size() > 1 ? vocabs[1] : vocabs[0];
+  const Vocabulary& vs = *vocabs[0];
+  const Vocabulary& vt = vocabs.size() > 1 ? *vocabs[1] : *vocabs[0];
   // The encoders' caches are sized for the split files; one encoder (and one
   // cache) for both sides of a shared vocabulary.
   uint64_t text_bytes = 0;
@@ -240,7 +238,7 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
     for (uint32_t id = v.first_char(); id < v.size(); ++id) n += !u[id];
     return n;
   };
-  if (vocab_files.size() > 1) {
+  if (vocabs.size() > 1) {
     section["unused_in_train"] = {{"source", unused(vs, used[0])}, {"target", unused(vt, used[1])}};
   } else {
     std::vector<bool> both(vs.size());
@@ -249,6 +247,26 @@ Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<
   }
   rec.sections.emplace_back("shards", section.dump());
   return {};
+}
+
+namespace {
+
+class ShardsStep : public Step {
+ public:
+  Status run(StepContext& ctx) override {
+    auto* learned = ctx.products->get<LearnedVocabularies>(kVocabularyProduct);
+    if (learned == nullptr || learned->vocabularies.empty())
+      return Error(ErrorKind::kInternal, "the shards step ran without a vocabulary", ctx.spec->where);
+    std::vector<LearnedUnits> units = std::move(learned->units);
+    learned->units.clear();
+    return run_shards(ctx, *ctx.spec, learned->vocabularies, std::move(units), ctx.threads);
+  }
+};
+
+}  // namespace
+
+Result<std::unique_ptr<Step>> make_shards_step(const Pipeline& /*p*/, const StageSpec& /*spec*/) {
+  return std::unique_ptr<Step>(std::make_unique<ShardsStep>());
 }
 
 }  // namespace sheaf

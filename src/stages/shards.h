@@ -1,7 +1,7 @@
 // shards: encodes every split into token-id shards (docs/shard-format.md).
 //
-// Not a streaming stage: it runs last, after the vocabulary, on each split's
-// text file, in parallel over batches and written in order. A shard closes
+// A step (run/step.h) that needs "splits" and "vocabulary" and provides
+// "shards": it runs after the vocabulary step, on each split's text file, in parallel over batches and written in order. A shard closes
 // when it holds max_pairs pairs or max_bytes bytes of ids. Order "input"
 // keeps the split file's order (so decoding the shards in turn gives the
 // split file back, byte for byte); "length" sorts each shard's pairs by
@@ -13,17 +13,17 @@
 #include <string>
 #include <vector>
 
-#include "pipeline/steps.h"
-#include "subword/trainer.h"
+#include <memory>
+
+#include "config/pipeline.h"
+#include "run/step.h"
 
 namespace sheaf {
 
 const StageKind& shards_kind();
 
-// `units`: per vocabulary file, its training units with their ids (trainer.h)
-// or empty; the encoders start from them, so train is not encoded twice,
-// and free them before encoding.
-Status run_shards(const StepInput& in, const StageSpec& spec, const std::vector<std::string>& vocab_files,
-                  std::vector<LearnedUnits> units, int threads);
+// The step. The encoders start from the vocabulary step's training units
+// (trainer.h), so train is not encoded twice, and free them before encoding.
+Result<std::unique_ptr<Step>> make_shards_step(const Pipeline& p, const StageSpec& spec);
 
 }  // namespace sheaf

@@ -36,21 +36,22 @@ namespace sheaf {
 
 enum class SplitKey { kSource, kTarget, kPair };
 
-class SplitStage : public Stage {
+class SplitStage : public Stage, public SplitRouter {
  public:
   SplitStage(const StageContext& ctx, std::vector<std::string> names, std::vector<double> fractions,
              std::vector<int64_t> counts, SplitKey key, uint64_t seed);
 
+  const SplitRouter* router() const override { return this; }
   // Split names; index 0 is train.
-  const std::vector<std::string>& names() const { return names_; }
+  const std::vector<std::string>& names() const override { return names_; }
   // Count mode, or some corpus not held out: pair.split is known only after
   // finish(); call assign().
-  bool deferred() const { return !counts_.empty() || restricted_; }
+  bool deferred() const override { return !counts_.empty() || restricted_; }
   // The split of a pair of `corpus` with this group hash; -1 when it must be
   // dropped (held-out-key) because its corpus cannot join that split.
-  int assign(uint64_t group_hash, uint32_t corpus = 0) const;
+  int assign(uint64_t group_hash, uint32_t corpus = 0) const override;
   // The text the split key is computed from.
-  std::string key_text(const Pair& p) const;
+  std::string key_text(const Pair& p) const override;
   uint64_t group_hash(std::string_view key_text) const;
 
   void map(PairBatch& batch) override;

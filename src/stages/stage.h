@@ -19,7 +19,7 @@
 
 #include "core/error.h"
 #include "core/pair_batch.h"
-#include "pipeline/pipeline.h"
+#include "config/pipeline.h"
 
 namespace sheaf {
 
@@ -38,9 +38,29 @@ struct StageContext {
   bool text_rules_only = false;
 };
 
+// What the writer at the end of pass 1 asks of the stage that routes kept
+// pairs to splits (the one stage of role kSplit).
+class SplitRouter {
+ public:
+  virtual ~SplitRouter() = default;
+  // Split names; index 0 is train.
+  virtual const std::vector<std::string>& names() const = 0;
+  // True when a pair's split is known only after the last batch (then the
+  // writer spools kept pairs and calls assign() for each at the end).
+  virtual bool deferred() const = 0;
+  // The split of a pair of `corpus` with this group hash; -1 when it must be
+  // dropped (held-out-key) because its corpus cannot join that split.
+  virtual int assign(uint64_t group_hash, uint32_t corpus) const = 0;
+  // The text the split key is computed from.
+  virtual std::string key_text(const Pair& p) const = 0;
+};
+
 class Stage {
  public:
   virtual ~Stage() = default;
+
+  // The split stage returns itself; every other stage nullptr.
+  virtual const SplitRouter* router() const { return nullptr; }
 
   virtual void map(PairBatch& /*batch*/) {}
   virtual bool has_reduce() const { return false; }
@@ -65,8 +85,8 @@ Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx);
 
 // The checks that need more than the schema (split sizes, patterns, codes,
 // minimum against maximum, special tokens): builds every streaming stage and
-// plans the vocabulary, without reading the corpus. validate, init and run
-// all call this one function, so they accept exactly the same files.
+// every step, without reading the corpus. validate, init and run all call
+// this one function, so they accept exactly the same files.
 Status check_stages(const Pipeline& p);
 
 }  // namespace sheaf

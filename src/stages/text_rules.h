@@ -22,7 +22,7 @@
 #include <vector>
 
 #include "core/error.h"
-#include "pipeline/pipeline.h"
+#include "config/pipeline.h"
 #include "stages/stage.h"
 
 namespace sheaf {

@@ -21,7 +21,7 @@ const StageKind& vocabulary_kind() {
   static const StageKind k{
       "vocabulary",
       "learns a BPE vocabulary on the train split and measures a range of sizes on dev",
-      StageRole::kVocabulary,
+      StageRole::kStep,
       {
           {"size", FieldType::kInt, int64_t{8000}, "vocabulary size: 4 special + 256 byte + alphabet + merges", 261,
            4e9},
@@ -52,7 +52,9 @@ const StageKind& vocabulary_kind() {
            "user-defined tokens (language or domain tags): the last ids, never split; part of size"},
           {"reuse", FieldType::kStringList, std::vector<std::string>{},
            "vocabulary files to use instead of learning: one shared, or a source and a target one"},
-      }};
+      },
+      {"splits"},
+      {"vocabulary"}};
   return k;
 }
 
@@ -209,7 +211,7 @@ ordered_json old_run_figures(const std::string& vocab_path, const Vocabulary& v)
 // checked by Vocabulary::load; its side must be the job's), is written into
 // the run unchanged, and is measured on dev at its own size and the sweep
 // sizes below it, so the summary says how well it covers the new text.
-Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const VocabularyPlan& plan,
+Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const VocabularyPlan& plan,
                           const std::vector<Job>& jobs, const std::string& dev_path, ordered_json& section,
                           ordered_json& vocabs, LearnedVocabularies& out) {
   Location where = spec.params.where("reuse").empty() ? spec.where : spec.params.where("reuse");
@@ -230,22 +232,24 @@ Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const Voca
     std::string rel = "vocab." + job.side + ".txt";
     SHEAF_TRY(write_output(*in.dir, *in.record, {rel, "vocabulary", "", job.side, v->size()}, v->serialize()));
     out.files.push_back(rel);
+    out.vocabularies.push_back(std::make_shared<const Vocabulary>(std::move(v.value())));
     out.units.emplace_back();
-    reused.push_back({{"side", job.side}, {"file", path}, {"xxh3_64", hex64(v->checksum())}});
+    const Vocabulary* const vv = out.vocabularies.back().get();
+    reused.push_back({{"side", job.side}, {"file", path}, {"xxh3_64", hex64(vv->checksum())}});
     std::vector<int64_t> sizes;
     for (int64_t s : plan.sweep)
-      if (static_cast<size_t>(s) < v->size()) sizes.push_back(s);
-    sizes.push_back(static_cast<int64_t>(v->size()));
+      if (static_cast<size_t>(s) < vv->size()) sizes.push_back(s);
+    sizes.push_back(static_cast<int64_t>(vv->size()));
     ordered_json sweep = ordered_json::object();
     for (int col : job.columns)
-      sweep[col == 0 ? "source" : "target"] = sweep_side(*v, column(dev_path, col), sizes, plan.sweep_max_length);
-    reused.back()["old_run"] = old_run_figures(path, *v);
+      sweep[col == 0 ? "source" : "target"] = sweep_side(*vv, column(dev_path, col), sizes, plan.sweep_max_length);
+    reused.back()["old_run"] = old_run_figures(path, *vv);
     vocabs.push_back({{"side", job.side},
                       {"file", rel},
-                      {"size", v->size()},
-                      {"alphabet", v->alphabet_size()},
-                      {"alphabet_coverage", v->info().alphabet_coverage},
-                      {"merges", v->merges()},
+                      {"size", vv->size()},
+                      {"alphabet", vv->alphabet_size()},
+                      {"alphabet_coverage", vv->info().alphabet_coverage},
+                      {"merges", vv->merges()},
                       {"learned_merges", 0},
                       {"stopped_early", false},
                       {"reused_from", path},
@@ -258,7 +262,9 @@ Status reuse_vocabularies(const StepInput& in, const StageSpec& spec, const Voca
 
 }  // namespace
 
-Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads) {
+namespace {
+
+Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpec& spec, int threads) {
   auto plan = vocabulary_plan(*in.pipeline, spec);
   if (!plan.ok()) return plan.error();
   RunRecord& rec = *in.record;
@@ -338,6 +344,7 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
     out.files.push_back(rel);
     if (keep < full.merges()) units = LearnedUnits{};  // encodings with merges the file does not have
     out.units.push_back(std::move(units));
+    out.vocabularies.push_back(std::make_shared<const Vocabulary>(v));
 
     ordered_json sweep = ordered_json::object();
     for (int col : job.columns) {
@@ -366,6 +373,24 @@ Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec&
   section["vocabularies"] = vocabs;
   rec.sections.emplace_back("vocabulary", section.dump());
   return out;
+}
+
+class VocabularyStep : public Step {
+ public:
+  Status run(StepContext& ctx) override {
+    auto learned = run_vocabulary(ctx, *ctx.spec, ctx.threads);
+    if (!learned.ok()) return learned.error();
+    ctx.products->put(kVocabularyProduct, std::move(learned.value()));
+    return {};
+  }
+};
+
+}  // namespace
+
+Result<std::unique_ptr<Step>> make_vocabulary_step(const Pipeline& p, const StageSpec& spec) {
+  auto plan = vocabulary_plan(p, spec);
+  if (!plan.ok()) return plan.error();
+  return std::unique_ptr<Step>(std::make_unique<VocabularyStep>());
 }
 
 }  // namespace sheaf

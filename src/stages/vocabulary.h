@@ -1,7 +1,8 @@
 // vocabulary: learns a byte-pair-encoding vocabulary from the train split.
 //
-// Not a streaming stage: it runs after pass 1 on train.tsv, so dev and test
-// never influence it. One vocabulary for both sides (shared), or one per side
+// A step (run/step.h): it runs after pass 1 on train.tsv, so dev and test
+// never influence it; it needs "splits" and provides "vocabulary" (a
+// LearnedVocabularies, in memory, for the shard step and the summary). One vocabulary for both sides (shared), or one per side
 // (separate); "auto" shares when both languages are written in the same
 // scripts (the script table of the script stage). The vocabulary has exactly
 // `size` tokens: 4 special, 256 byte, the base alphabet, and merges (fewer if
@@ -18,8 +19,12 @@
 #include <string>
 #include <vector>
 
-#include "pipeline/steps.h"
+#include <memory>
+
+#include "config/pipeline.h"
+#include "run/step.h"
 #include "subword/trainer.h"
+#include "subword/vocabulary.h"
 
 namespace sheaf {
 
@@ -38,13 +43,15 @@ Result<VocabularyPlan> vocabulary_plan(const Pipeline& p, const StageSpec& spec)
 
 struct LearnedVocabularies {
   std::vector<std::string> files;  // relative to the run directory: one, or source then target
+  // The same vocabularies in memory, as written (so no step reads them back).
+  std::vector<std::shared_ptr<const Vocabulary>> vocabularies;
   // Per file, the training units with their ids, when the file holds every
   // learned merge (else empty): the shard step starts its encoders from them.
   std::vector<LearnedUnits> units;
 };
 
-// Learns, writes the vocabulary file(s), evaluates the sweep; adds outputs and
-// a "vocabulary" section to the run record.
-Result<LearnedVocabularies> run_vocabulary(const StepInput& in, const StageSpec& spec, int threads);
+// The step: learns (or reuses), writes the vocabulary file(s), evaluates the
+// sweep; adds outputs and a "vocabulary" section to the run record.
+Result<std::unique_ptr<Step>> make_vocabulary_step(const Pipeline& p, const StageSpec& spec);
 
 }  // namespace sheaf

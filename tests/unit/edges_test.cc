@@ -17,7 +17,7 @@
 
 #include "core/stats.h"
 #include "io/output_file.h"
-#include "report/run_record.h"
+#include "run/run_record.h"
 #include "shards/shard_format.h"
 #include "test_util.h"
 

@@ -1,4 +1,4 @@
-#include "report/run_record.h"
+#include "run/run_record.h"
 
 #include <nlohmann/json.hpp>
 

@@ -1,5 +1,5 @@
 // The [corpus] and [output] sections of a pipeline file.
-#include "pipeline/pipeline.h"
+#include "config/pipeline.h"
 
 namespace sheaf {
 

@@ -80,12 +80,13 @@ class Params {
   std::vector<Param> items_;
 };
 
-// Which part of a run a stage belongs to; the loader checks their order.
+// Which part of a run a stage belongs to: pass 1 streams pairs through the
+// filters and the split stage (stages/stage.h); after it, steps work on
+// whole files (run/step.h).
 enum class StageRole {
-  kFilter,      // streams pairs: rewrites or drops them (pass 1)
-  kSplit,       // routes kept pairs to splits (end of pass 1)
-  kVocabulary,  // learns from the train split (between passes)
-  kShards,      // encodes splits into shards (last)
+  kFilter,  // streams pairs: rewrites or drops them (pass 1)
+  kSplit,   // routes kept pairs to splits (end of pass 1)
+  kStep,    // whole-corpus work after pass 1 (learning, shards, ...)
 };
 
 struct StageKind {
@@ -93,6 +94,16 @@ struct StageKind {
   std::string help;
   StageRole role;
   FieldList fields;
+  // Steps only: the products (run/step.h) the step needs, which pass 1 or an
+  // earlier step must provide, and those it provides. The loader checks the
+  // order of steps from these names alone.
+  std::vector<std::string> needs, provides;
+  // Filters only: a [[corpus]] may skip the stage or change its keys (false
+  // for stages that compare corpora with each other, like deduplication).
+  bool varies_per_corpus = true;
+  // `sheaf init` writes the stage only when asked (near-dup, with
+  // --near-dup); kinds a program registers for itself set this too.
+  bool opt_in = false;
 };
 
 // Edit distance for "did you mean" suggestions.

@@ -1,6 +1,10 @@
-#include "stages/tokenizer.h"
+#include "pipeline/tokenizer.h"
+
+#include <algorithm>
 
 #include <filesystem>
+
+#include "run/step.h"
 
 namespace sheaf {
 
@@ -39,7 +43,8 @@ Result<std::unique_ptr<Tokenizer>> Tokenizer::make(const std::string& vocab_file
   if (!rules.ok()) return rules.error();
   t->rules_ = std::move(rules.value());
   for (const auto& s : t->pipeline_.stages) {
-    if (s.kind->role != StageRole::kShards) continue;
+    const auto& made = s.kind->provides;
+    if (std::find(made.begin(), made.end(), kShardsProduct) == made.end()) continue;
     t->bos_ = s.params.flag("bos");
     t->eos_ = s.params.flag("eos");
     t->tag_ = t->vocab_.user_id(s.params.text(side == 0 ? "source_tag" : "target_tag"));

@@ -1,4 +1,4 @@
-#include "pipeline/schema.h"
+#include "config/schema.h"
 
 #include <algorithm>
 #include <stdexcept>

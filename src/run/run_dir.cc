@@ -1,4 +1,4 @@
-#include "pipeline/run_dir.h"
+#include "run/run_dir.h"
 
 #include <fcntl.h>
 #include <sys/file.h>
@@ -10,7 +10,7 @@
 #include <set>
 
 #include "io/output_file.h"
-#include "report/run_record.h"
+#include "run/run_record.h"
 
 namespace fs = std::filesystem;
 

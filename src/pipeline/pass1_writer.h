@@ -1,0 +1,48 @@
+// Pass1Writer: the output side of pass 1, taking batches in input order.
+//
+// Writes each kept pair to its split file (SPLIT.tsv: source TAB target)
+// and each dropped pair to rejected.tsv (ORIGIN TAB STAGE TAB REASON TAB
+// SOURCE-BYTES-OR-"-" TAB the raw line(s), docs/outputs.md); counts every
+// stage's pairs in and out and each reason, per corpus too; gathers the
+// kept pairs' lengths for the summary. When the split stage decides only at
+// the end (count mode, or corpora held out of dev and test), kept pairs are
+// spooled to split-spool.bin (a private file, removed when routed) and
+// routed by finish(). finish() also measures the overlap between splits.
+#pragma once
+
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "config/pipeline.h"
+#include "core/error.h"
+#include "core/pair_batch.h"
+#include "run/run_dir.h"
+#include "run/run_record.h"
+#include "stages/stage.h"
+
+namespace sheaf {
+
+class Pass1Writer {
+ public:
+  // `split` is the split stage's router, or nullptr (then every kept pair
+  // goes to `splits[0]`, train).
+  Pass1Writer(const RunDir& dir, RunRecord& rec, const std::vector<std::string>& splits, const SplitRouter* split,
+              const Pipeline& p);
+  ~Pass1Writer();
+
+  Status open();
+  void take(PairBatch& b);
+  // After the last batch: routes a spool, commits the files, lists them in
+  // the record, measures the overlap between splits (on `threads`).
+  Status finish(int threads);
+  Status status() const;
+  // Removes every file not yet committed.
+  void discard();
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+}  // namespace sheaf
