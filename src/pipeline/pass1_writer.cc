@@ -39,6 +39,13 @@ class Pass1WriterImpl {
     }
     SHEAF_TRY(dir_.will_create("rejected.tsv"));
     SHEAF_TRY(rejected_.open(dir_.file("rejected.tsv")));
+    // Where each split file's pairs came from, for rows the steps add to
+    // rejected.tsv (scratch files, removed by close()).
+    for (const auto& n : names_) {
+      origins_.push_back(std::make_unique<OutputFile>());
+      SHEAF_TRY(dir_.will_create(n + ".origins"));
+      SHEAF_TRY(origins_.back()->open(dir_.file(n + ".origins")));
+    }
     if (split_ && split_->deferred()) {
       SHEAF_TRY(dir_.will_create("split-spool.bin"));
       SHEAF_TRY(spool_.open(dir_.file("split-spool.bin")));
@@ -105,14 +112,15 @@ class Pass1WriterImpl {
       std::filesystem::remove(spool_.path(), ec);
     }
     for (auto& f : files_) SHEAF_TRY(f->commit());
-    SHEAF_TRY(rejected_.commit());
+    for (auto& f : origins_) SHEAF_TRY(f->commit());
     for (size_t i = 0; i < names_.size(); ++i) {
       rec_.splits.emplace_back(names_[i], files_[i]->records());
       rec_.outputs.push_back(
           {names_[i] + ".tsv", "text", names_[i], "", files_[i]->records(), files_[i]->size(), files_[i]->checksum()});
     }
-    rec_.outputs.push_back(
-        {"rejected.tsv", "rejected", "", "", rejected_.records(), rejected_.size(), rejected_.checksum()});
+    // rejected.tsv stays open for the steps; its entry keeps its place.
+    rejected_entry_ = rec_.outputs.size();
+    rec_.outputs.push_back({"rejected.tsv", "rejected", "", "", 0, 0, 0});
     // Overlap between splits, measured on unseeded hashes of the split key
     // (independent of the seeded hash that assigned them). Non-train keys are
     // held in memory (those splits are small); train is read back once, in
@@ -162,8 +170,57 @@ class Pass1WriterImpl {
     return {};
   }
 
+  // After the steps: commits rejected.tsv, removes the origin files.
+  Status close() {
+    for (auto& f : origins_) {
+      std::error_code ec;
+      if (f->committed()) std::filesystem::remove(f->path(), ec);
+      f->discard();
+    }
+    for (auto& r : origin_readers_) r.reset();
+    SHEAF_TRY(rejected_.commit());
+    if (rejected_entry_ < rec_.outputs.size()) {
+      OutputEntry& e = rec_.outputs[rejected_entry_];
+      e.records = rejected_.records();
+      e.size = rejected_.size();
+      e.checksum = rejected_.checksum();
+    }
+    return {};
+  }
+
+  Result<Pass1Output::Origin> origin(size_t split, uint64_t index) {
+    if (split >= origins_.size()) return Error(ErrorKind::kInternal, "no split " + std::to_string(split));
+    origin_readers_.resize(origins_.size());
+    auto& in = origin_readers_[split];
+    if (!in) in = std::make_unique<std::ifstream>(origins_[split]->path(), std::ios::binary);
+    Pass1Output::Origin o;
+    in->seekg(static_cast<std::streamoff>(index * 12));
+    in->read(reinterpret_cast<char*>(&o.corpus), 4);
+    in->read(reinterpret_cast<char*>(&o.line), 8);
+    if (!*in) return Error(ErrorKind::kIo, "cannot read pair " + std::to_string(index) + "'s origin",
+                           Location{origins_[split]->path(), 0, 0, {}});
+    return o;
+  }
+
+  void reject(const Pass1Output::Origin& from, std::string_view stage, std::string_view reason, std::string_view source,
+              std::string_view target) {
+    OutputFile& f = rejected_;
+    f.write(pipeline_.origin(from.corpus, from.line));
+    f.write("\t");
+    f.write(stage);
+    f.write("\t");
+    f.write(reason);
+    f.write("\t-\t");
+    f.write(source);
+    f.write("\t");
+    f.write(target);
+    f.write("\n");
+    f.add_record();
+  }
+
   Status status() const {
     for (const auto& f : files_) SHEAF_TRY(f->status());
+    for (const auto& f : origins_) SHEAF_TRY(f->status());
     SHEAF_TRY(rejected_.status());
     return spool_.status();
   }
@@ -171,6 +228,11 @@ class Pass1WriterImpl {
   void discard() {
     for (auto& f : files_) f->discard();
     rejected_.discard();
+    for (auto& f : origins_) {
+      std::error_code ec;
+      if (f->committed()) std::filesystem::remove(f->path(), ec);
+      f->discard();
+    }
     spool_.discard();
   }
 
@@ -213,6 +275,9 @@ class Pass1WriterImpl {
     f.write(t);
     f.write("\n");
     f.add_record();
+    OutputFile& o = *origins_[static_cast<size_t>(split)];
+    o.write(std::string_view(reinterpret_cast<const char*>(&p.corpus), 4));
+    o.write(std::string_view(reinterpret_cast<const char*>(&p.line), 8));
     if (!rec_.corpora.empty()) ++rec_.corpora[p.corpus].splits[names_[static_cast<size_t>(split)]];
     if (split_ && split != 0) {
       std::string k = split_->key_text(p);
@@ -229,13 +294,13 @@ class Pass1WriterImpl {
     spool_.write(std::string_view(reinterpret_cast<const char*>(p.chars.data()), 8));
     spool_.write(std::string_view(reinterpret_cast<const char*>(p.words.data()), 8));
     spool_.write(std::string_view(reinterpret_cast<const char*>(&p.corpus), 4));
+    spool_.write(std::string_view(reinterpret_cast<const char*>(&p.line), 8));
     spool_.write(p.text[0]);
     spool_.write(p.text[1]);
     if (!pipeline_.corpora[p.corpus].held_out) {
       // It may have to be dropped at the end (held-out-key): keep what
       // rejected.tsv needs.
       uint32_t r0 = static_cast<uint32_t>(p.raw.size()), r1 = static_cast<uint32_t>(p.raw_target.size());
-      spool_.write(std::string_view(reinterpret_cast<const char*>(&p.line), 8));
       spool_.write(std::string_view(reinterpret_cast<const char*>(&r0), 4));
       spool_.write(std::string_view(reinterpret_cast<const char*>(&r1), 4));
       spool_.write(p.raw);
@@ -256,13 +321,13 @@ class Pass1WriterImpl {
       in.read(reinterpret_cast<char*>(p.chars.data()), 8);
       in.read(reinterpret_cast<char*>(p.words.data()), 8);
       in.read(reinterpret_cast<char*>(&p.corpus), 4);
+      in.read(reinterpret_cast<char*>(&p.line), 8);
       s.resize(n0);
       t.resize(n1);
       in.read(s.data(), n0);
       in.read(t.data(), n1);
       if (in && p.corpus < pipeline_.corpora.size() && !pipeline_.corpora[p.corpus].held_out) {
         uint32_t r0 = 0, r1 = 0;
-        in.read(reinterpret_cast<char*>(&p.line), 8);
         in.read(reinterpret_cast<char*>(&r0), 4);
         in.read(reinterpret_cast<char*>(&r1), 4);
         raw.resize(r0);
@@ -318,6 +383,9 @@ class Pass1WriterImpl {
   std::vector<std::unique_ptr<OutputFile>> files_;
   std::vector<SplitLengths*> lengths_;
   OutputFile rejected_, spool_;
+  size_t rejected_entry_ = SIZE_MAX;  // rejected.tsv's place in rec_.outputs
+  std::vector<std::unique_ptr<OutputFile>> origins_;  // per split: (corpus u32, line u64) per pair
+  std::vector<std::unique_ptr<std::ifstream>> origin_readers_;
   std::vector<std::unordered_set<uint64_t>> keys_;
 };
 
@@ -336,5 +404,11 @@ void Pass1Writer::take(PairBatch& b) { impl_->take(b); }
 Status Pass1Writer::finish(int threads) { return impl_->finish(threads); }
 Status Pass1Writer::status() const { return impl_->status(); }
 void Pass1Writer::discard() { impl_->discard(); }
+Status Pass1Writer::close() { return impl_->close(); }
+Result<Pass1Output::Origin> Pass1Writer::origin(size_t split, uint64_t index) { return impl_->origin(split, index); }
+void Pass1Writer::reject(const Origin& from, std::string_view stage, std::string_view reason, std::string_view source,
+                         std::string_view target) {
+  impl_->reject(from, stage, reason, source, target);
+}
 
 }  // namespace sheaf

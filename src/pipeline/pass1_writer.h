@@ -8,6 +8,9 @@
 // the end (count mode, or corpora held out of dev and test), kept pairs are
 // spooled to split-spool.bin (a private file, removed when routed) and
 // routed by finish(). finish() also measures the overlap between splits.
+// Each split file has a scratch file SPLIT.origins beside it (the corpus,
+// u32, and input line, u64, of each of its pairs, native byte order) for
+// the steps; rejected.tsv stays open until close(), after the steps.
 #pragma once
 
 #include <memory>
@@ -19,17 +22,18 @@
 #include "core/pair_batch.h"
 #include "run/run_dir.h"
 #include "run/run_record.h"
+#include "run/step.h"
 #include "stages/stage.h"
 
 namespace sheaf {
 
-class Pass1Writer {
+class Pass1Writer : public Pass1Output {
  public:
   // `split` is the split stage's router, or nullptr (then every kept pair
   // goes to `splits[0]`, train).
   Pass1Writer(const RunDir& dir, RunRecord& rec, const std::vector<std::string>& splits, const SplitRouter* split,
               const Pipeline& p);
-  ~Pass1Writer();
+  ~Pass1Writer() override;
 
   Status open();
   void take(PairBatch& b);
@@ -39,6 +43,14 @@ class Pass1Writer {
   Status status() const;
   // Removes every file not yet committed.
   void discard();
+  // After the steps (whether or not they succeeded): commits rejected.tsv
+  // (which the steps may have added rows to) and removes the scratch files.
+  Status close();
+
+  // Pass1Output, for the steps.
+  Result<Origin> origin(size_t split, uint64_t index) override;
+  void reject(const Origin& from, std::string_view stage, std::string_view reason, std::string_view source,
+              std::string_view target) override;
 
  private:
   struct Impl;

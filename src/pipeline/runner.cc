@@ -277,23 +277,31 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   }
   rec.inputs = rd.inputs();
   for (size_t c = 0; c < rec.corpora.size(); ++c) rec.corpora[c].inputs = rd.inputs(c);
-  if (!rec.splits.empty() && rec.splits.front().second == 0)
+  if (!rec.splits.empty() && rec.splits.front().second == 0) {
+    SHEAF_TRY(writer.close());
     return Error(ErrorKind::kData,
                  "no pair is left in the train split after filtering (read " + std::to_string(rec.read) + ", kept " +
                      std::to_string(rec.kept) + "); see rejected.tsv for why, and relax the filters",
                  Location{dir->file("train.tsv"), 0, 0, {}});
+  }
   for (size_t i = 0; i < stages.size(); ++i) rec.stages[i + 1].counters = stages[i]->counters();
 
   // The steps after pass 1, in pipeline order (the loader checked that each
   // comes after what it needs), then the closing steps the caller gave.
+  // rejected.tsv is committed after them (a step may add rows to it).
   Products products;
+  products.put(kPass1Product, static_cast<Pass1Output*>(&writer));
   StepContext ctx{&p, nullptr, &*dir, &rec, &products, threads};
-  for (int i = streaming_end; i <= last; ++i) {
+  Status stepped;
+  for (int i = streaming_end; i <= last && stepped.ok(); ++i) {
     ctx.spec = &p.stages[static_cast<size_t>(i)];
     auto step = make_step(p, *ctx.spec);
-    if (!step.ok()) return step.error();
-    SHEAF_TRY(step.value()->run(ctx));
+    stepped = step.ok() ? step.value()->run(ctx) : Status(step.error());
   }
+  Status closed = writer.close();
+  if (!stepped.ok()) return stepped.error();
+  if (!closed.ok()) return closed.error();
+  products.drop(kPass1Product);
   ctx.spec = nullptr;
   for (const auto& make : o.closing_steps) SHEAF_TRY(make()->run(ctx));
 

@@ -17,6 +17,7 @@
 #pragma once
 
 #include <any>
+#include <cstdint>
 #include <map>
 #include <memory>
 #include <string>
@@ -33,6 +34,27 @@ namespace sheaf {
 inline constexpr std::string_view kSplitsProduct = "splits";          // pass 1: SPLIT.tsv files
 inline constexpr std::string_view kVocabularyProduct = "vocabulary";  // LearnedVocabularies (stages/vocabulary.h)
 inline constexpr std::string_view kShardsProduct = "shards";          // shards/*.shard, token lengths in the record
+inline constexpr std::string_view kPass1Product = "pass1";            // Pass1Output*, while the steps run
+
+// What pass 1 leaves open for the steps: where each pair of a split file
+// came from, and rejected.tsv, to which a step that drops pairs (the shard
+// step's token limits) adds rows. rejected.tsv is committed after the last
+// step.
+class Pass1Output {
+ public:
+  virtual ~Pass1Output() = default;
+  struct Origin {
+    uint32_t corpus = 0;
+    uint64_t line = 0;
+  };
+  // The input corpus and line of the `index`-th pair (from 0) of the split
+  // file `split` (its index in RunRecord::splits).
+  virtual Result<Origin> origin(size_t split, uint64_t index) = 0;
+  // Adds a rejected.tsv row for a pair of a split file that `stage` drops:
+  // ORIGIN, STAGE, REASON, "-", then the pair as in the split file.
+  virtual void reject(const Origin& from, std::string_view stage, std::string_view reason, std::string_view source,
+                      std::string_view target) = 0;
+};
 
 // Values in memory that steps hand on, by product name. A step that
 // provides a product puts its value here; one that needs it takes it (or

@@ -16,6 +16,7 @@
 #include "core/interrupt.h"
 #include "io/line_blocks.h"
 #include "core/stats.h"
+#include "core/text.h"
 #include "shards/shard_writer.h"
 #include "stages/vocabulary.h"
 #include "subword/codec.h"
@@ -43,6 +44,10 @@ const StageKind& shards_kind() {
            "a user-defined token put at the start of every source side (after bos)"},
           {"target_tag", FieldType::kString, std::string(""),
            "a user-defined token put at the start of every target side (after bos)"},
+          {"max_source_tokens", FieldType::kInt, int64_t{0},
+           "drop pairs whose source has more ids than this, bos/eos/tag included (0 = no limit)", 0, 4e9},
+          {"max_target_tokens", FieldType::kInt, int64_t{0},
+           "drop pairs whose target has more ids than this, bos/eos/tag included (0 = no limit)", 0, 4e9},
       },
       {"splits", "vocabulary"},
       {"shards"}};
@@ -123,6 +128,19 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
   }
   set.flags = (bos ? uint32_t{kHasBos} : 0u) | (eos ? uint32_t{kHasEos} : 0u);
   uint64_t max_pairs = static_cast<uint64_t>(p.integer("max_pairs"));
+  // Token limits: a pair over either is left out of the shards, with a row
+  // in rejected.tsv (reason too-many-tokens:SIDE) and a funnel entry.
+  const uint64_t max_tokens[2] = {static_cast<uint64_t>(p.integer("max_source_tokens")),
+                                  static_cast<uint64_t>(p.integer("max_target_tokens"))};
+  const bool limited = max_tokens[0] > 0 || max_tokens[1] > 0;
+  Pass1Output* pass1 = nullptr;
+  if (limited) {
+    Pass1Output** got = in.products->get<Pass1Output*>(kPass1Product);
+    if (got == nullptr) return Error(ErrorKind::kInternal, "the shards step has no rejected.tsv to write to");
+    pass1 = *got;
+  }
+  StageCount funnel{spec.name, spec.kind->kind, 0, 0, {}, {}};
+  std::vector<uint64_t> corpus_drops(in.pipeline->corpora.size(), 0);
   uint64_t max_bytes = static_cast<uint64_t>(p.integer("max_bytes"));
 
   ordered_json section = {
@@ -130,14 +148,15 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
   ordered_json splits = ordered_json::object();
   // Which tokens the train split uses, per side, for "unused_in_train".
   std::vector<bool> used[2] = {std::vector<bool>(vs.size(), false), std::vector<bool>(vt.size(), false)};
-  for (const auto& entry : rec.splits) {
-    const std::string split = entry.first;  // captured below (clang 14 cannot capture bindings)
+  for (size_t split_index = 0; split_index < rec.splits.size(); ++split_index) {
+    const std::string split = rec.splits[split_index].first;
     std::ifstream file(in.dir->file(split + ".tsv"), std::ios::binary);
     std::string carry;
     if (!file) return Error(ErrorKind::kIo, "cannot read split text", Location{in.dir->file(split + ".tsv"), 0, 0, {}});
     ShardWriter writer(set);
     uint32_t index = 0;
     Histogram tokens[2];
+    uint64_t pair_index = 0;  // of the split file
     EncodeStats totals[2];
     Status failed;
     auto flush = [&]() -> Status {
@@ -181,8 +200,38 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
                              totals[s].byte_tokens += e->stats[s].byte_tokens;
                              totals[s].unknown += e->stats[s].unknown;
                            }
+                           size_t line_start = 0;
                            for (size_t i = 0; i < e->ends[0].size(); ++i) {
                              auto src = e->pair(0, i), tgt = e->pair(1, i);
+                             size_t line_end = std::min(e->text.find('\n', line_start), e->text.size());
+                             std::string_view line(e->text.data() + line_start, line_end - line_start);
+                             line_start = line_end + 1;
+                             ++funnel.in;
+                             uint64_t index = pair_index++;
+                             int over = max_tokens[0] > 0 && src.size() > max_tokens[0]   ? 0
+                                        : max_tokens[1] > 0 && tgt.size() > max_tokens[1] ? 1
+                                                                                          : -1;
+                             if (over >= 0) {
+                               std::string code = "too-many-tokens";
+                               std::string reason = code + ":" + side_name(over);
+                               auto from = pass1->origin(split_index, index);
+                               if (!from.ok()) {
+                                 pool.release(e);
+                                 throw ErrorException{from.error()};
+                               }
+                               auto sides = tsv_sides(line);
+                               pass1->reject(*from, spec.name, reason, sides[0], sides[1]);
+                               ++funnel.reasons[code];
+                               auto& ex = funnel.examples[code];
+                               if (ex.size() < 3) {
+                                 std::string text;
+                                 repair_utf8(line.substr(0, 160), text);
+                                 ex.push_back({from->line, reason, std::move(text)});
+                               }
+                               if (from->corpus < corpus_drops.size()) ++corpus_drops[from->corpus];
+                               continue;
+                             }
+                             ++funnel.out;
                              if (split == "train") {
                                for (uint32_t id : src) used[0][id] = true;
                                for (uint32_t id : tgt) used[1][id] = true;
@@ -246,6 +295,23 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
     section["unused_in_train"] = {{"shared", unused(vs, both)}};
   }
   rec.sections.emplace_back("shards", section.dump());
+  if (limited) {
+    // The funnel gains the step: what reached it and what it wrote. Dropped
+    // pairs count as rejected (read = kept + rejected still holds; kept is
+    // what the shards hold), though their text stays in the split file.
+    uint64_t dropped = funnel.in - funnel.out;
+    rec.kept -= dropped;
+    rec.rejected += dropped;
+    for (size_t c = 0; c < rec.corpora.size(); ++c) {
+      CorpusCount& cc = rec.corpora[c];
+      uint64_t d = c < corpus_drops.size() ? corpus_drops[c] : 0;
+      cc.kept -= d;
+      cc.rejected += d;
+      if (d > 0) cc.reasons[spec.name + "/too-many-tokens"] += d;
+      cc.stage_out.push_back(cc.stage_out.empty() ? 0 : cc.stage_out.back() - d);
+    }
+    rec.stages.push_back(std::move(funnel));
+  }
   return {};
 }
 
