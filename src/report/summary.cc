@@ -107,8 +107,6 @@ ordered_json hist_json(const Histogram& h, uint64_t width, double scale = 1.0) {
 
 static Status write_summary(const StepContext& in, int threads) {
   RunRecord& rec = *in.record;
-  ordered_json sections = ordered_json::object();
-  for (const auto& [k, v] : rec.sections) sections[k] = ordered_json::parse(v);
 
   // Vocabularies for alphabet coverage, if this run learned any (in
   // memory, from the vocabulary step).
@@ -163,14 +161,15 @@ static Status write_summary(const StepContext& in, int threads) {
       const char* side = s ? "target" : "source";
       ordered_json side_j = {{"chars", hist_json(lengths.chars[s], kCharBin)},
                              {"words", hist_json(lengths.words[s], kWordBin)}};
-      if (sections.contains("shards") && sections["shards"]["tokens"].contains(name)) {
-        const auto& t = sections["shards"]["tokens"][name][side];
-        Histogram h;
-        const auto& counts = t["histogram"];
-        for (size_t v = 0; v < counts.size(); ++v) h.add(v, counts[v].get<uint64_t>());
+      const ShardSplit* shard_split = nullptr;
+      for (size_t k = 0; rec.shards && k < rec.shards->splits.size(); ++k)
+        if (rec.shards->splits[k].split == name) shard_split = &rec.shards->splits[k];
+      if (shard_split != nullptr) {
+        const TokenLengths& t = shard_split->side[s];
+        const Histogram& h = t.lengths;
         ordered_json tj = hist_json(h, kTokenBin);
-        tj["byte_token_rate"] = t["byte_token_rate"];
-        tj["unknown_tokens"] = t["unknown_tokens"];
+        tj["byte_token_rate"] = byte_token_rate(t);
+        tj["unknown_tokens"] = t.unknown;
         uint64_t words = lengths.words[s].sum();
         tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;
         side_j["tokens"] = tj;
@@ -190,11 +189,10 @@ static Status write_summary(const StepContext& in, int threads) {
   ordered_json ov = ordered_json::array();
   for (const auto& o : rec.overlaps) ov.push_back({{"split", o.a}, {"other", o.b}, {"shared_keys", o.keys}});
   j["split_overlap"] = ov;
-  if (sections.contains("vocabulary")) {
-    ordered_json v = sections["vocabulary"];
+  if (rec.vocabulary) {
+    ordered_json v = vocabulary_json(*rec.vocabulary);
     v["alphabet_coverage_of_other_splits"] = coverage;
-    if (sections.contains("shards") && sections["shards"].contains("unused_in_train"))
-      v["unused_in_train"] = sections["shards"]["unused_in_train"];
+    if (rec.shards) v["unused_in_train"] = shards_json(*rec.shards)["unused_in_train"];
     j["vocabulary"] = v;
   }
   if (!rec.stopped_after.empty()) j["stopped_after"] = rec.stopped_after;

@@ -84,8 +84,118 @@ std::string run_record_json(const RunRecord& r) {
     outs.push_back(e);
   }
   j["outputs"] = outs;
-  for (const auto& [key, value] : r.sections) j[key] = ordered_json::parse(value);
+  if (r.vocabulary) j["vocabulary"] = vocabulary_json(*r.vocabulary);
+  if (r.shards) j["shards"] = shards_json(*r.shards);
   return j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
+}
+
+using nlohmann::ordered_json;
+
+namespace {
+
+nlohmann::ordered_json distribution_object(const Distribution& d) {
+  return {{"count", d.count}, {"sum", d.sum}, {"mean", d.mean}, {"min", d.min}, {"p50", d.p50},
+          {"p90", d.p90},     {"p95", d.p95}, {"p99", d.p99},   {"max", d.max}};
+}
+
+}  // namespace
+
+double byte_token_rate(const TokenLengths& t) {
+  return t.tokens ? static_cast<double>(t.byte_tokens) / static_cast<double>(t.tokens) : 0.0;
+}
+
+nlohmann::ordered_json vocabulary_json(const VocabularyReport& v) {
+  ordered_json j = {{"stage", v.stage},
+                    {"shared", v.shared},
+                    {"size", v.size},
+                    {"learned_up_to", v.learned_up_to},
+                    {"sweep_split", v.sweep_split}};
+  if (v.reuse) {
+    ordered_json reused = ordered_json::array();
+    for (const auto& r : v.reused) {
+      ordered_json e = {{"side", r.side}, {"file", r.file}, {"xxh3_64", hex64(r.checksum)}};
+      if (r.has_old_run) {
+        ordered_json old = {{"summary", r.old_summary}};
+        for (const auto& [side, figures] : r.old_figures) {
+          ordered_json f = ordered_json::object();
+          for (const auto& [k, x] : figures) f[k] = x;
+          old[side] = f;
+        }
+        e["old_run"] = old;
+      } else {
+        e["old_run"] = nullptr;
+      }
+      reused.push_back(e);
+    }
+    j["reused"] = reused;
+  }
+  ordered_json vocabs = ordered_json::array();
+  for (const auto& e : v.vocabularies) {
+    ordered_json o = {{"side", e.side},
+                      {"file", e.file},
+                      {"size", e.size},
+                      {"alphabet", e.alphabet},
+                      {"alphabet_coverage", e.alphabet_coverage},
+                      {"merges", e.merges},
+                      {"learned_merges", e.learned_merges},
+                      {"stopped_early", e.stopped_early}};
+    if (!e.reused_from.empty()) {
+      o["reused_from"] = e.reused_from;
+    } else {
+      o["word_types"] = e.word_types;
+      o["word_units"] = e.word_units;
+      o["distinct_characters"] = e.distinct_characters;
+    }
+    ordered_json sweep = ordered_json::object();
+    for (const auto& [side, rows] : e.sweep) {
+      ordered_json a = ordered_json::array();
+      for (const auto& r : rows)
+        a.push_back({{"size", r.size},
+                     {"effective_size", r.effective_size},
+                     {"sentences", r.tokens.count},
+                     {"tokens", r.token_total},
+                     {"mean_tokens", r.tokens.mean},
+                     {"p95_tokens", r.tokens.p95},
+                     {"p99_tokens", r.tokens.p99},
+                     {"max_tokens", r.tokens.max},
+                     {"tokens_per_word", r.tokens_per_word},
+                     {"over_max_length", r.over_max_length},
+                     {"byte_token_rate", r.byte_token_rate},
+                     {"unknown_rate", r.unknown_rate}});
+      sweep[side] = a;
+    }
+    o["sweep"] = sweep;
+    vocabs.push_back(o);
+  }
+  j["vocabularies"] = vocabs;
+  return j;
+}
+
+nlohmann::ordered_json shards_json(const ShardsReport& s) {
+  ordered_json j = {{"stage", s.stage}, {"id_width", s.id_width}, {"order", s.order}, {"bos", s.bos}, {"eos", s.eos}};
+  ordered_json splits = ordered_json::object();
+  for (const auto& sp : s.splits) {
+    ordered_json sj = ordered_json::object();
+    for (int k = 0; k < 2; ++k) {
+      const TokenLengths& t = sp.side[k];
+      ordered_json side = distribution_object(t.lengths.summary());
+      side["byte_tokens"] = t.byte_tokens;
+      side["unknown_tokens"] = t.unknown;
+      side["byte_token_rate"] = byte_token_rate(t);
+      ordered_json hist = ordered_json::array();
+      for (uint64_t c : t.lengths.counts()) hist.push_back(c);
+      side["histogram"] = hist;
+      sj[k == 0 ? "source" : "target"] = side;
+    }
+    sj["shards"] = sp.shards;
+    splits[sp.split] = sj;
+  }
+  j["tokens"] = splits;
+  if (s.separate)
+    j["unused_in_train"] = {{"source", s.unused[0]}, {"target", s.unused[1]}};
+  else
+    j["unused_in_train"] = {{"shared", s.unused[0]}};
+  return j;
 }
 
 constexpr uint64_t kMaxRecordBytes = uint64_t{256} << 20;

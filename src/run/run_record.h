@@ -5,6 +5,7 @@
 
 #include <cstdint>
 #include <map>
+#include <optional>
 #include <string>
 #include <utility>
 #include <vector>
@@ -67,6 +68,67 @@ struct SplitLengths {
   double ratio_sum = 0;  // the exact ratios' sum (the mean), added in output order
 };
 
+// The vocabulary step's report: manifest.json's and summary.json's
+// "vocabulary" (docs/outputs.md).
+struct SweepRow {  // one vocabulary size measured on the sweep split
+  int64_t size = 0;
+  uint64_t effective_size = 0;
+  Distribution tokens;  // tokens per sentence
+  uint64_t token_total = 0;
+  double tokens_per_word = 0, over_max_length = 0, byte_token_rate = 0, unknown_rate = 0;
+};
+struct VocabularyEntry {  // one vocabulary file
+  std::string side, file;
+  uint64_t size = 0, alphabet = 0;
+  double alphabet_coverage = 0;
+  uint64_t merges = 0, learned_merges = 0;
+  bool stopped_early = false;
+  std::string reused_from;  // empty when learned here; then the three counts below
+  uint64_t word_types = 0, word_units = 0, distinct_characters = 0;
+  std::vector<std::pair<std::string, std::vector<SweepRow>>> sweep;  // "source"/"target" -> rows
+};
+struct ReusedVocabulary {
+  std::string side, file;
+  uint64_t checksum = 0;
+  // The run that learned it, when the file sits in one: that run's
+  // summary.json and, per side, its figures (name, value) at this size.
+  bool has_old_run = false;
+  std::string old_summary;
+  std::vector<std::pair<std::string, std::vector<std::pair<std::string, double>>>> old_figures;
+};
+struct VocabularyReport {
+  std::string stage;
+  bool shared = true;
+  uint64_t size = 0, learned_up_to = 0;
+  std::string sweep_split;
+  bool reuse = false;  // then `reused` names the files
+  std::vector<ReusedVocabulary> reused;
+  std::vector<VocabularyEntry> vocabularies;
+};
+
+// The shard step's report: manifest.json's "shards", and the token lengths
+// in summary.json.
+struct TokenLengths {  // one side of one split
+  Histogram lengths;   // ids per pair, as written
+  uint64_t tokens = 0, byte_tokens = 0, unknown = 0;  // of the encoded text
+};
+struct ShardSplit {
+  std::string split;
+  TokenLengths side[2];
+  uint32_t shards = 0;
+};
+struct ShardsReport {
+  std::string stage;
+  uint32_t id_width = 2;
+  std::string order;
+  bool bos = false, eos = true;
+  std::vector<ShardSplit> splits;
+  // Tokens (other than special and byte tokens) no train pair uses: per
+  // side with separate vocabularies, else one figure (unused[0]).
+  bool separate = false;
+  uint64_t unused[2] = {0, 0};
+};
+
 struct RunRecord {
   std::string tool_version = SHEAF_VERSION;
   uint64_t pipeline_hash = 0;
@@ -79,13 +141,19 @@ struct RunRecord {
   std::vector<Overlap> overlaps;
   std::vector<OutputEntry> outputs;
   std::string stopped_after;  // --until, empty when the whole pipeline ran
-  // Further sections of the record, each (key, serialized JSON value), in
-  // the order the steps added them (vocabulary, shards...).
-  std::vector<std::pair<std::string, std::string>> sections;
+  // The steps' reports, when they ran.
+  std::optional<VocabularyReport> vocabulary;
+  std::optional<ShardsReport> shards;
   std::map<std::string, SplitLengths> lengths;
 };
 
 std::string run_record_json(const RunRecord& r);
+// The steps' reports as JSON (manifest.json and summary.json).
+nlohmann::ordered_json vocabulary_json(const VocabularyReport& v);
+nlohmann::ordered_json shards_json(const ShardsReport& s);
+// The figures of one token-length side: the distribution, byte and unknown
+// tokens and their rate.
+double byte_token_rate(const TokenLengths& t);
 // The "corpora" list of the record (also copied into summary.json).
 nlohmann::ordered_json corpora_json(const RunRecord& r);
 // Reads the "outputs" list of a manifest, for --force, `sheaf inspect` and

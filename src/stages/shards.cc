@@ -143,9 +143,12 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
   std::vector<uint64_t> corpus_drops(in.pipeline->corpora.size(), 0);
   uint64_t max_bytes = static_cast<uint64_t>(p.integer("max_bytes"));
 
-  ordered_json section = {
-      {"stage", spec.name}, {"id_width", set.id_width}, {"order", p.text("order")}, {"bos", bos}, {"eos", eos}};
-  ordered_json splits = ordered_json::object();
+  ShardsReport report;
+  report.stage = spec.name;
+  report.id_width = static_cast<uint32_t>(set.id_width);
+  report.order = p.text("order");
+  report.bos = bos;
+  report.eos = eos;
   // Which tokens the train split uses, per side, for "unused_in_train".
   std::vector<bool> used[2] = {std::vector<bool>(vs.size(), false), std::vector<bool>(vt.size(), false)};
   for (size_t split_index = 0; split_index < rec.splits.size(); ++split_index) {
@@ -265,36 +268,32 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
       return e.error;
     }
     if (writer.pairs() > 0 || index == 0) SHEAF_TRY(flush());
-    ordered_json sj = ordered_json::object();
+    ShardSplit& sp = report.splits.emplace_back();
+    sp.split = split;
     for (int s = 0; s < 2; ++s) {
-      const EncodeStats& t = totals[s];
-      ordered_json side = ordered_json::parse(distribution_json(tokens[s].summary()));
-      side["byte_tokens"] = t.byte_tokens;
-      side["unknown_tokens"] = t.unknown;
-      side["byte_token_rate"] = t.tokens ? static_cast<double>(t.byte_tokens) / static_cast<double>(t.tokens) : 0.0;
-      ordered_json hist = ordered_json::array();
-      for (uint64_t c : tokens[s].counts()) hist.push_back(c);
-      side["histogram"] = hist;
-      sj[s == 0 ? "source" : "target"] = side;
+      sp.side[s].lengths = std::move(tokens[s]);
+      sp.side[s].tokens = totals[s].tokens;
+      sp.side[s].byte_tokens = totals[s].byte_tokens;
+      sp.side[s].unknown = totals[s].unknown;
     }
-    sj["shards"] = index;
-    splits[split] = sj;
+    sp.shards = index;
   }
-  section["tokens"] = splits;
   // Tokens (other than special and byte tokens) that no train sentence uses.
   auto unused = [](const Vocabulary& v, const std::vector<bool>& u) {
     uint64_t n = 0;
     for (uint32_t id = v.first_char(); id < v.size(); ++id) n += !u[id];
     return n;
   };
-  if (vocabs.size() > 1) {
-    section["unused_in_train"] = {{"source", unused(vs, used[0])}, {"target", unused(vt, used[1])}};
+  report.separate = vocabs.size() > 1;
+  if (report.separate) {
+    report.unused[0] = unused(vs, used[0]);
+    report.unused[1] = unused(vt, used[1]);
   } else {
     std::vector<bool> both(vs.size());
     for (size_t i = 0; i < both.size(); ++i) both[i] = used[0][i] || used[1][i];
-    section["unused_in_train"] = {{"shared", unused(vs, both)}};
+    report.unused[0] = unused(vs, both);
   }
-  rec.sections.emplace_back("shards", section.dump());
+  rec.shards = std::move(report);
   if (limited) {
     // The funnel gains the step: what reached it and what it wrote. Dropped
     // pairs count as rejected (read = kept + rejected still holds; kept is

@@ -132,9 +132,9 @@ std::vector<std::string> column(const std::string& path, int col) {
   return out;
 }
 
-ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev, const std::vector<int64_t>& sizes,
-                        int64_t max_len) {
-  ordered_json rows = ordered_json::array();
+std::vector<SweepRow> sweep_side(const Vocabulary& v, const std::vector<std::string>& dev,
+                                 const std::vector<int64_t>& sizes, int64_t max_len) {
+  std::vector<SweepRow> rows;
   uint64_t words = 0, bytes = 0;
   for (const auto& s : dev) {
     words += count_words(s);
@@ -154,20 +154,15 @@ ordered_json sweep_side(const Vocabulary& v, const std::vector<std::string>& dev
       per.push_back(ids.size());
       over += static_cast<int64_t>(ids.size()) > max_len;
     }
-    Distribution d = distribution_of(per);
-    ordered_json r = {
-        {"size", size},
-        {"effective_size", enc.effective_size()},
-        {"sentences", d.count},
-        {"tokens", st.tokens},
-        {"mean_tokens", d.mean},
-        {"p95_tokens", d.p95},
-        {"p99_tokens", d.p99},
-        {"max_tokens", d.max},
-        {"tokens_per_word", words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0},
-        {"over_max_length", d.count ? static_cast<double>(over) / static_cast<double>(d.count) : 0.0},
-        {"byte_token_rate", st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0},
-        {"unknown_rate", st.tokens ? static_cast<double>(st.unknown) / static_cast<double>(st.tokens) : 0.0}};
+    SweepRow r;
+    r.size = size;
+    r.effective_size = enc.effective_size();
+    r.tokens = distribution_of(per);
+    r.token_total = st.tokens;
+    r.tokens_per_word = words ? static_cast<double>(st.tokens) / static_cast<double>(words) : 0.0;
+    r.over_max_length = r.tokens.count ? static_cast<double>(over) / static_cast<double>(r.tokens.count) : 0.0;
+    r.byte_token_rate = st.tokens ? static_cast<double>(st.byte_tokens) / static_cast<double>(st.tokens) : 0.0;
+    r.unknown_rate = st.tokens ? static_cast<double>(st.unknown) / static_cast<double>(st.tokens) : 0.0;
     rows.push_back(r);
   }
   return rows;
@@ -181,30 +176,44 @@ struct Job {
 // When a reused vocabulary file sits in the run directory that learned it,
 // that run's figures for it at its own size (from its summary.json's sweep):
 // tokens per word, byte-token and unknown rates on its dev split, to set
-// beside the new run's. Null when there is no such run.
-ordered_json old_run_figures(const std::string& vocab_path, const Vocabulary& v) {
+// beside the new run's. Left empty when there is no such run, or its
+// summary.json cannot be read as one (a checked reader: nothing throws).
+void old_run_figures(const std::string& vocab_path, const Vocabulary& v, ReusedVocabulary& out) {
   std::filesystem::path file(vocab_path);
   std::ifstream in(file.parent_path() / "summary.json");
-  if (!in) return nullptr;
+  if (!in) return;
   std::stringstream text;
   text << in.rdbuf();
   auto j = ordered_json::parse(text.str(), nullptr, false);
-  if (j.is_discarded() || !j.contains("vocabulary") || !j["vocabulary"].contains("vocabularies")) return nullptr;
+  if (j.is_discarded() || !j.is_object() || !j.contains("vocabulary") || !j["vocabulary"].is_object() ||
+      !j["vocabulary"].contains("vocabularies") || !j["vocabulary"]["vocabularies"].is_array())
+    return;
   for (const auto& entry : j["vocabulary"]["vocabularies"]) {
-    if (entry.value("file", "") != file.filename().string() || !entry.contains("sweep")) continue;
-    ordered_json out = {{"summary", (file.parent_path() / "summary.json").string()}};
+    if (!entry.is_object() || !entry.contains("file") || !entry["file"].is_string() ||
+        entry["file"].get<std::string>() != file.filename().string() || !entry.contains("sweep") ||
+        !entry["sweep"].is_object())
+      continue;
+    out.has_old_run = true;
+    out.old_summary = (file.parent_path() / "summary.json").string();
     for (const auto& [side, rows] : entry["sweep"].items()) {
+      if (!rows.is_array()) continue;
       for (const auto& r : rows) {
-        if (r.value("size", uint64_t{0}) != v.size()) continue;
-        ordered_json figures = ordered_json::object();
+        if (!r.is_object() || !r.contains("size") || !r["size"].is_number_unsigned() ||
+            r["size"].get<uint64_t>() != v.size())
+          continue;
+        std::vector<std::pair<std::string, double>> figures;
         for (const char* key : {"tokens_per_word", "byte_token_rate", "unknown_rate"})
-          if (r.contains(key)) figures[key] = r[key];
-        out[side] = figures;
+          if (r.contains(key) && r[key].is_number()) figures.emplace_back(key, r[key].get<double>());
+        auto at = std::find_if(out.old_figures.begin(), out.old_figures.end(),
+                               [&](const auto& f) { return f.first == side; });
+        if (at != out.old_figures.end())
+          at->second = std::move(figures);
+        else
+          out.old_figures.emplace_back(side, std::move(figures));
       }
     }
-    return out;
+    return;
   }
-  return nullptr;
 }
 
 // Reuse: each job's vocabulary comes from a file (checksum and every field
@@ -212,10 +221,9 @@ ordered_json old_run_figures(const std::string& vocab_path, const Vocabulary& v)
 // the run unchanged, and is measured on dev at its own size and the sweep
 // sizes below it, so the summary says how well it covers the new text.
 Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const VocabularyPlan& plan,
-                          const std::vector<Job>& jobs, const std::string& dev_path, ordered_json& section,
-                          ordered_json& vocabs, LearnedVocabularies& out) {
+                          const std::vector<Job>& jobs, const std::string& dev_path, VocabularyReport& report,
+                          LearnedVocabularies& out) {
   Location where = spec.params.where("reuse").empty() ? spec.where : spec.params.where("reuse");
-  ordered_json reused = ordered_json::array();
   for (size_t i = 0; i < jobs.size(); ++i) {
     const Job& job = jobs[i];
     const std::string& path = plan.reuse[i];
@@ -235,28 +243,27 @@ Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const Vo
     out.vocabularies.push_back(std::make_shared<const Vocabulary>(std::move(v.value())));
     out.units.emplace_back();
     const Vocabulary* const vv = out.vocabularies.back().get();
-    reused.push_back({{"side", job.side}, {"file", path}, {"xxh3_64", hex64(vv->checksum())}});
+    ReusedVocabulary reused{job.side, path, vv->checksum(), false, {}, {}};
     std::vector<int64_t> sizes;
     for (int64_t s : plan.sweep)
       if (static_cast<size_t>(s) < vv->size()) sizes.push_back(s);
     sizes.push_back(static_cast<int64_t>(vv->size()));
-    ordered_json sweep = ordered_json::object();
+    VocabularyEntry e;
+    e.side = job.side;
+    e.file = rel;
+    e.size = vv->size();
+    e.alphabet = vv->alphabet_size();
+    e.alphabet_coverage = vv->info().alphabet_coverage;
+    e.merges = vv->merges();
+    e.reused_from = path;
     for (int col : job.columns)
-      sweep[col == 0 ? "source" : "target"] = sweep_side(*vv, column(dev_path, col), sizes, plan.sweep_max_length);
-    reused.back()["old_run"] = old_run_figures(path, *vv);
-    vocabs.push_back({{"side", job.side},
-                      {"file", rel},
-                      {"size", vv->size()},
-                      {"alphabet", vv->alphabet_size()},
-                      {"alphabet_coverage", vv->info().alphabet_coverage},
-                      {"merges", vv->merges()},
-                      {"learned_merges", 0},
-                      {"stopped_early", false},
-                      {"reused_from", path},
-                      {"sweep", sweep}});
+      e.sweep.emplace_back(col == 0 ? "source" : "target",
+                           sweep_side(*vv, column(dev_path, col), sizes, plan.sweep_max_length));
+    old_run_figures(path, *vv, reused);
+    report.reused.push_back(std::move(reused));
+    report.vocabularies.push_back(std::move(e));
   }
-  section["size"] = vocabs.empty() ? ordered_json(0) : vocabs[0]["size"];
-  section["reused"] = reused;
+  report.size = report.vocabularies.empty() ? 0 : report.vocabularies[0].size;
   return {};
 }
 
@@ -292,18 +299,18 @@ Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpe
     jobs.push_back(Job{"source", {0}});
     jobs.push_back(Job{"target", {1}});
   }
-  ordered_json section = {{"stage", spec.name},
-                          {"shared", plan->shared},
-                          {"size", plan->size},
-                          {"learned_up_to", plan->train.size},
-                          {"sweep_split", have_dev ? "dev" : "train"}};
-  ordered_json vocabs = ordered_json::array();
+  VocabularyReport report;
+  report.stage = spec.name;
+  report.shared = plan->shared;
+  report.size = plan->size;
+  report.learned_up_to = plan->train.size;
+  report.sweep_split = have_dev ? "dev" : "train";
   LearnedVocabularies out;
   if (!plan->reuse.empty()) {
-    section["learned_up_to"] = 0;
-    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, jobs, dev_path, section, vocabs, out));
-    section["vocabularies"] = vocabs;
-    rec.sections.emplace_back("vocabulary", section.dump());
+    report.learned_up_to = 0;
+    report.reuse = true;
+    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, jobs, dev_path, report, out));
+    rec.vocabulary = std::move(report);
     return out;
   }
   for (const auto& job : jobs) {
@@ -311,9 +318,9 @@ Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpe
     t.side = job.side;
     t.threads = threads;
     t.progress = ::isatty(STDERR_FILENO);
-    TrainReport report;
+    TrainReport train_report;
     LearnedUnits units;
-    auto learned = train_vocabulary({train}, job.columns, t, &report, &units);
+    auto learned = train_vocabulary({train}, job.columns, t, &train_report, &units);
     if (!learned.ok()) return learned.error();
     const Vocabulary& full = *learned;
     // The learner ran to the largest of size and the sweep sizes, so it
@@ -346,32 +353,31 @@ Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpe
     out.units.push_back(std::move(units));
     out.vocabularies.push_back(std::make_shared<const Vocabulary>(v));
 
-    ordered_json sweep = ordered_json::object();
+    VocabularyEntry e;
     for (int col : job.columns) {
       auto dev = column(dev_path, col);
       std::vector<int64_t> sizes = plan->sweep;
       if (std::find(sizes.begin(), sizes.end(), static_cast<int64_t>(plan->size)) == sizes.end())
         sizes.push_back(static_cast<int64_t>(plan->size));
       std::sort(sizes.begin(), sizes.end());
-      sweep[col == 0 ? "source" : "target"] = sweep_side(full, dev, sizes, plan->sweep_max_length);
+      e.sweep.emplace_back(col == 0 ? "source" : "target", sweep_side(full, dev, sizes, plan->sweep_max_length));
     }
-    vocabs.push_back({{"side", job.side},
-                      {"file", rel},
-                      {"size", v.size()},
-                      {"alphabet", v.alphabet_size()},
-                      {"alphabet_coverage", v.info().alphabet_coverage},
-                      {"merges", v.merges()},
-                      {"learned_merges", report.merges},
-                      // Early only if the file fell short of its size (the
-                      // learner may stop before a larger sweep size only).
-                      {"stopped_early", v.size() < plan->size},
-                      {"word_types", report.word_types},
-                      {"word_units", report.word_units},
-                      {"distinct_characters", report.distinct_characters},
-                      {"sweep", sweep}});
+    e.side = job.side;
+    e.file = rel;
+    e.size = v.size();
+    e.alphabet = v.alphabet_size();
+    e.alphabet_coverage = v.info().alphabet_coverage;
+    e.merges = v.merges();
+    e.learned_merges = train_report.merges;
+    // Early only if the file fell short of its size (the learner may stop
+    // before a larger sweep size only).
+    e.stopped_early = v.size() < plan->size;
+    e.word_types = train_report.word_types;
+    e.word_units = train_report.word_units;
+    e.distinct_characters = train_report.distinct_characters;
+    report.vocabularies.push_back(std::move(e));
   }
-  section["vocabularies"] = vocabs;
-  rec.sections.emplace_back("vocabulary", section.dump());
+  rec.vocabulary = std::move(report);
   return out;
 }
 
