@@ -88,3 +88,23 @@ def test_a_reused_vocabulary_of_the_wrong_kind_or_damaged_is_refused(demo_run, t
     r = run_sheaf("run", str(tmp_path / "p.toml"), "--quiet", "--force")
     assert r.returncode != 0 and b"checksum" in r.stderr, r.stderr
     assert not os.path.exists(tmp_path / "out" / "manifest.json")
+
+
+def test_a_damaged_summary_beside_the_reused_vocabulary_is_ignored(demo_run, tmp_path):
+    # The old run's summary.json is only read for figures to show: a field of
+    # the wrong type there (a size written as text) must not stop the run
+    # (it aborted it before the reader was checked).
+    old = tmp_path / "old"
+    old.mkdir()
+    (old / "vocab.shared.txt").write_bytes((demo_run / "vocab.shared.txt").read_bytes())
+    summary = json.loads((demo_run / "summary.json").read_text())
+    for row in summary["vocabulary"]["vocabularies"][0]["sweep"]["source"]:
+        row["size"] = str(row["size"])
+    (old / "summary.json").write_text(json.dumps(summary), encoding="utf-8")
+    new_corpus(demo_run, tmp_path)
+    (tmp_path / "p.toml").write_text(PIPELINE % json.dumps(str(old / "vocab.shared.txt")), encoding="utf-8")
+    r = run_sheaf("run", str(tmp_path / "p.toml"), "--quiet")
+    assert r.returncode == 0, r.stderr.decode()
+    reused = json.loads((tmp_path / "out" / "summary.json").read_text())["vocabulary"]["reused"][0]["old_run"]
+    assert reused["summary"] == str(old / "summary.json")
+    assert "source" not in reused  # no figure could be read
