@@ -5,6 +5,7 @@
 #include <oneapi/tbb/task_arena.h>
 #include <xxhash.h>
 
+#include <algorithm>
 #include <memory>
 #include <thread>
 
@@ -87,9 +88,6 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     }
   }
 
-  // The same checks as validate, before anything is read or written.
-  SHEAF_TRY(check_stages(p));
-
   RunRecord rec;
   std::string resolved = render_pipeline(p);
   rec.pipeline_hash = XXH3_64bits(resolved.data(), resolved.size());
@@ -102,11 +100,14 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                            p.corpora[c].held_out, {}, 0, 0, 0, {}, {}, {}});
   if (last + 1 < static_cast<int>(p.stages.size())) rec.stopped_after = p.stages[static_cast<size_t>(last)].name;
 
-  // Build the streaming stages, each knowing only the rewrites before it.
+  // Build every stage and step once, before anything is read or written
+  // (the same checks as validate, check_stages): the streaming stages, each
+  // knowing only the rewrites before it, then the steps. Those after
+  // --until are built only to be checked.
   std::vector<std::unique_ptr<Stage>> stages;
   const SplitRouter* split = nullptr;
   int streaming_end = 0;
-  for (int i = 0; i <= last; ++i) {
+  for (int i = 0; i < static_cast<int>(p.stages.size()); ++i) {
     const StageSpec& spec = p.stages[static_cast<size_t>(i)];
     if (spec.kind->role == StageRole::kStep) break;
     StageContext ctx;
@@ -122,9 +123,19 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
     if (!st.ok()) return st.error();
     stages.push_back(std::move(st.value()));
-    if (stages.back()->router() != nullptr) split = stages.back()->router();
-    streaming_end = i + 1;
   }
+  const int first_step = static_cast<int>(stages.size());  // index of the first step in p.stages
+  std::vector<std::unique_ptr<Step>> steps;
+  for (size_t i = stages.size(); i < p.stages.size(); ++i) {
+    auto step = make_step(p, p.stages[i]);
+    if (!step.ok()) return step.error();
+    steps.push_back(std::move(step.value()));
+  }
+  streaming_end = std::min(first_step, last + 1);
+  stages.resize(static_cast<size_t>(streaming_end));
+  steps.resize(static_cast<size_t>(std::max(0, last + 1 - first_step)));
+  for (const auto& st : stages)
+    if (st->router() != nullptr) split = st->router();
 
   // The output directory's lock comes first: opening the input can wait
   // (a pipe, standard input), and a run that waits must not clean up a
@@ -293,10 +304,9 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   products.put(kPass1Product, static_cast<Pass1Output*>(&writer));
   StepContext ctx{&p, nullptr, &*dir, &rec, &products, threads};
   Status stepped;
-  for (int i = streaming_end; i <= last && stepped.ok(); ++i) {
-    ctx.spec = &p.stages[static_cast<size_t>(i)];
-    auto step = make_step(p, *ctx.spec);
-    stepped = step.ok() ? step.value()->run(ctx) : Status(step.error());
+  for (size_t k = 0; k < steps.size() && stepped.ok(); ++k) {
+    ctx.spec = &p.stages[static_cast<size_t>(first_step) + k];
+    stepped = steps[k]->run(ctx);
   }
   Status closed = writer.close();
   if (!stepped.ok()) return stepped.error();
