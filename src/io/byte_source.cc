@@ -253,6 +253,7 @@ class Bzip2Source : public ByteSource {
       int rc = BZ2_bzDecompress(&bz_);
       if (rc == BZ_STREAM_END) {
         mid_stream_ = false;
+        ++streams_;
         BZ2_bzDecompressEnd(&bz_);
         char* next_in = bz_.next_in;
         unsigned avail_in = bz_.avail_in;
@@ -265,6 +266,14 @@ class Bzip2Source : public ByteSource {
         bz_.next_out = next_out;
         bz_.avail_out = avail_out;
       } else if (rc != BZ_OK) {
+        // Say what libbz2's code means (bzlib.h): a new stream that does not
+        // start with the "BZh" magic after a complete one is trailing data.
+        if (rc == BZ_DATA_ERROR_MAGIC && streams_ > 0)
+          return corrupt("the bytes after the end of the bzip2 data are not bzip2 (trailing garbage after stream " +
+                         std::to_string(streams_) + "); remove them or recompress the file");
+        if (rc == BZ_DATA_ERROR_MAGIC) return corrupt("the file does not start like bzip2 data (no \"BZh\" magic)");
+        if (rc == BZ_DATA_ERROR) return corrupt("the bzip2 data are damaged (a block or CRC check failed)");
+        if (rc == BZ_MEM_ERROR) return corrupt("libbz2 ran out of memory");
         return corrupt("the bzip2 stream is corrupt (libbz2 error " + std::to_string(rc) + ")");
       }
     }
@@ -282,6 +291,7 @@ class Bzip2Source : public ByteSource {
   std::unique_ptr<FdReader> fd_;
   std::vector<char> in_;
   bz_stream bz_;
+  uint64_t streams_ = 0;  // complete streams read
   bool done_ = false;
   bool mid_stream_ = false;
 };

@@ -245,6 +245,13 @@ TEST(Hostile, SkippableZstdFramesBzip2AndXzAreRead) {
   auto r = test::run_sheaf("run " + write_pipeline(t, t / "cut.xz", "", t / "out-cut") + " --quiet");
   EXPECT_EQ(r.status, 1);
   EXPECT_NE(r.err.find("xz"), std::string::npos) << r.err;
+  // Bytes after a complete bzip2 stream are named as trailing data (libbz2
+  // reports them as BZ_DATA_ERROR_MAGIC, bzlib.h), not as a bare error code.
+  test::write_file(t / "tail.bz2", test::read_file(t / "c.tsv.bz2") + "not bzip2 at all\n");
+  auto tail = test::run_sheaf("run " + write_pipeline(t, t / "tail.bz2", "", t / "out-tail") + " --quiet");
+  EXPECT_EQ(tail.status, 1);
+  EXPECT_NE(tail.err.find("trailing garbage after stream 1"), std::string::npos) << tail.err;
+  EXPECT_EQ(tail.err.find("error -5"), std::string::npos) << tail.err;
 }
 
 TEST(Hostile, CarriageReturnOnlyLineEndsAreNamed) {
