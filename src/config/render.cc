@@ -147,7 +147,7 @@ std::string render_pipeline_template(const Pipeline& p) { return render(p, true)
 
 Params default_params(const FieldList& fields) {
   Params p;
-  for (const auto& f : fields) p.set(f.key, f.fallback, {}, true);
+  for (const auto& f : fields) p.set(f.key, f.fallback, {});
   return p;
 }
 

@@ -11,16 +11,15 @@ const Param* Params::find(std::string_view key) const {
   return nullptr;
 }
 
-Param& Params::set(std::string key, Value v, Location where, bool defaulted) {
+Param& Params::set(std::string key, Value v, Location where) {
   for (auto& p : items_) {
     if (p.key == key) {
       p.value = std::move(v);
       p.where = std::move(where);
-      p.defaulted = defaulted;
       return p;
     }
   }
-  items_.push_back(Param{std::move(key), std::move(v), std::move(where), defaulted});
+  items_.push_back(Param{std::move(key), std::move(v), std::move(where)});
   return items_.back();
 }
 

@@ -53,15 +53,14 @@ struct FieldSpec {
 struct Param {
   std::string key;
   Value value;
-  Location where;       // where the value was written; empty if defaulted
-  bool defaulted = true;
+  Location where;  // where the value was written; empty if defaulted
 };
 
 // The resolved keys of one section or stage, in schema order.
 class Params {
  public:
   const Param* find(std::string_view key) const;
-  Param& set(std::string key, Value v, Location where, bool defaulted);
+  Param& set(std::string key, Value v, Location where);
   const std::vector<Param>& all() const { return items_; }
 
   bool flag(std::string_view key) const { return std::get<bool>(get(key)); }

@@ -73,24 +73,24 @@ std::string init_template(const InitOptions& o) {
   Pipeline p;
   p.corpus_params = default_params(corpus_fields());
   p.output_params = default_params(output_fields());
-  p.corpus_params.set("layout", layout_for(o.inputs), {}, false);
-  p.corpus_params.set("files", absolute_paths(o.inputs), {}, false);
-  p.corpus_params.set("source_lang", o.source_lang, {}, false);
-  p.corpus_params.set("target_lang", o.target_lang, {}, false);
+  p.corpus_params.set("layout", layout_for(o.inputs), {});
+  p.corpus_params.set("files", absolute_paths(o.inputs), {});
+  p.corpus_params.set("source_lang", o.source_lang, {});
+  p.corpus_params.set("target_lang", o.target_lang, {});
   for (size_t i = 0; i < o.corpora.size(); ++i) {
     auto [name, files] = split_corpus_option(o.corpora[i]);
     CorpusSpec c;
     c.name = name;
     c.params = default_params(named_corpus_fields());
-    c.params.set("name", name, {}, false);
-    c.params.set("layout", layout_for(files), {}, false);
-    c.params.set("files", absolute_paths(files), {}, false);
-    c.params.set("source_lang", o.source_lang, {}, false);
-    c.params.set("target_lang", o.target_lang, {}, false);
+    c.params.set("name", name, {});
+    c.params.set("layout", layout_for(files), {});
+    c.params.set("files", absolute_paths(files), {});
+    c.params.set("source_lang", o.source_lang, {});
+    c.params.set("target_lang", o.target_lang, {});
     p.corpora.push_back(std::move(c));
     p.named_corpora = true;
   }
-  p.output_params.set("dir", o.out_dir, {}, false);
+  p.output_params.set("dir", o.out_dir, {});
   for (const StageKind* kind : stage_kinds()) {
     if (kind->opt_in && !(kind->kind == "near-dup" && o.near_dup)) continue;
     StageSpec s;
@@ -99,8 +99,8 @@ std::string init_template(const InitOptions& o) {
     s.params = default_params(kind->fields);
     bool learns = std::find(kind->provides.begin(), kind->provides.end(), kVocabularyProduct) != kind->provides.end();
     for (const auto& f : kind->fields) {
-      if (f.key == "seed") s.params.set("seed", o.seed, {}, false);
-      if (f.key == "size" && learns) s.params.set("size", o.vocab_size, {}, false);
+      if (f.key == "seed") s.params.set("seed", o.seed, {});
+      if (f.key == "size" && learns) s.params.set("size", o.vocab_size, {});
     }
     p.stages.push_back(std::move(s));
   }

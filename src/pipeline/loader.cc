@@ -192,12 +192,12 @@ Result<Params> check_table(const toml::table& t, const FieldList& fields, const 
   for (const auto& f : fields) {
     const toml::node* n = t.get(f.key);
     if (n == nullptr) {
-      out.set(f.key, f.fallback, {}, true);
+      out.set(f.key, f.fallback, {});
       continue;
     }
     auto v = check_value(*n, f, ctx, what);
     if (!v.ok()) return v.error();
-    out.set(f.key, std::move(v.value()), ctx.at(*n), false);
+    out.set(f.key, std::move(v.value()), ctx.at(*n));
   }
   return out;
 }

@@ -166,11 +166,11 @@ const StageKind& pattern_kind() {
   static const std::vector<Params> kDefaultRules = [] {
     auto rule = [](const char* name, const char* pattern, const char* action, const char* repl) {
       Params p;
-      p.set("name", std::string(name), {}, false);
-      p.set("pattern", std::string(pattern), {}, false);
-      p.set("side", std::string("both"), {}, false);
-      p.set("action", std::string(action), {}, false);
-      p.set("replacement", std::string(repl), {}, false);
+      p.set("name", std::string(name), {});
+      p.set("pattern", std::string(pattern), {});
+      p.set("side", std::string("both"), {});
+      p.set("action", std::string(action), {});
+      p.set("replacement", std::string(repl), {});
       return p;
     };
     return std::vector<Params>{
