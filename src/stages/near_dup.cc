@@ -191,63 +191,124 @@ void NearDupSketch::band_keys(const std::vector<uint32_t>& signature, uint64_t* 
 
 namespace {
 
-// Band keys of kept pairs: open addressing, linear probing, doubling at 3/4
-// load. A slot holds the whole 64-bit key (0 marks an empty slot) and the
-// index of the kept pair: 12 bytes. With whole keys, a different pair
-// matches only on a 64-bit collision (docs/near-duplicates.md).
-class BandTable {
+// One band's keys of kept pairs, each with the index of its kept pair, in
+// 8-byte slots: open addressing, Robin Hood linear probing (a probe stops
+// at the first slot whose entry sits nearer its home than the probe does,
+// so a miss, the common case, usually reads one cache line), doubling at
+// 3/4 load. A table of 2^q slots keeps the top 58 bits of a key without
+// storing all of them: the top q bits are the home slot, and a slot holds
+//   [distance from home + 1: 6 bits][the next 58 - q key bits][kept: q bits]
+// (0 = empty). The kept pair's index fits in q bits because each kept pair
+// puts exactly one key in every band's table, so the index is below the
+// table's count, below 3/4 of 2^q. On doubling, the home slot (position -
+// distance) and the stored bits give back the 58 bits, and one more of them
+// moves from the slot into the home. Two keys are taken for equal when
+// their top 58 bits are: a false match needs a 58-bit collision within a
+// band (docs/near-duplicates.md has the arithmetic).
+class BandIndex {
  public:
-  BandTable() : slots_(size_t{1} << 16) {}
+  BandIndex() : at_(kInitialLog2), slots_(at_.size()) {}
 
-  // The kept pair holding `key`, or -1.
+  // The kept pair whose key agrees with `key` in its top 58 bits, or -1.
   int64_t find(uint64_t key) const {
-    key = key == 0 ? 1 : key;
-    size_t mask = slots_.size() - 1;
-    for (size_t i = key & mask;; i = (i + 1) & mask) {
-      const Slot& s = slots_[i];
-      uint64_t k = s.key();
-      if (k == 0) return -1;
-      if (k == key) return s.kept;
+    uint64_t k = key >> kDistBits;
+    size_t i = at_.home(k);
+    uint64_t rem = k & at_.wmask;
+    for (uint64_t d = 1;; ++d, i = (i + 1) & at_.mask) {
+      uint64_t s = slots_[i];
+      uint64_t sd = s >> kDistShift;
+      if (sd < d) return -1;  // empty (0), or an entry nearer its home: ours would be here
+      if (sd == d && ((s >> at_.q) & at_.wmask) == rem) return static_cast<int64_t>(s & at_.idmask);
     }
   }
-  // Starts loading the key's home slot (the table is far larger than the
+  // Starts loading the key's home slot (the tables are far larger than the
   // caches; a pair's lookups are issued a few pairs ahead).
-  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[(key == 0 ? 1 : key) & (slots_.size() - 1)]); }
-  // Inserts a key that find() did not find.
-  void insert(uint64_t key, uint32_t kept) {
+  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[at_.home(key >> kDistBits)]); }
+  // Inserts a key that find() did not find, for kept pair `kept` (kept
+  // pairs are numbered 0, 1, 2, ... as they are inserted).
+  void insert(uint64_t key, uint64_t kept) {
     if ((size_ + 1) * 4 > slots_.size() * 3) grow();
-    key = key == 0 ? 1 : key;
-    place(slots_, Slot{static_cast<uint32_t>(key), static_cast<uint32_t>(key >> 32), kept});
+    uint64_t k = key >> kDistBits;
+    while (!place(slots_, at_, k, kept)) grow();  // a probe too long for 6 bits (rare): double, go on
     ++size_;
   }
-  size_t memory_bytes() const { return slots_.capacity() * sizeof(Slot); }
+  size_t memory_bytes() const { return slots_.capacity() * sizeof(uint64_t); }
 
  private:
-  struct Slot {
-    uint32_t lo = 0, hi = 0;  // the key, as two words: 12-byte slots
-    uint32_t kept = 0;
-    uint64_t key() const { return (uint64_t{hi} << 32) | lo; }
+  static constexpr int kDistBits = 6, kDistShift = 64 - kDistBits, kInitialLog2 = 12;
+  static constexpr uint64_t kMaxStored = (uint64_t{1} << kDistBits) - 1;  // distance + 1
+
+  // Where the bits go in a table of 2^q slots.
+  struct Layout {
+    explicit Layout(int log2)
+        : q(log2),
+          w(64 - kDistBits - log2),
+          mask((size_t{1} << log2) - 1),
+          wmask((uint64_t{1} << w) - 1),
+          idmask((uint64_t{1} << log2) - 1) {}
+    size_t size() const { return mask + 1; }
+    size_t home(uint64_t k) const { return static_cast<size_t>(k >> w); }
+    int q, w;
+    size_t mask;
+    uint64_t wmask, idmask;
   };
-  static void place(HugeVector<Slot>& t, const Slot& s) {
-    size_t mask = t.size() - 1;
-    size_t i = s.key() & mask;
-    while (t[i].key() != 0) i = (i + 1) & mask;
-    t[i] = s;
+
+  // The 58-bit key and kept index of the entry s found in slot i.
+  static void decode(const Layout& at, uint64_t s, size_t i, uint64_t& k, uint64_t& kept) {
+    size_t home = (i - static_cast<size_t>((s >> kDistShift) - 1)) & at.mask;
+    k = (static_cast<uint64_t>(home) << at.w) | ((s >> at.q) & at.wmask);
+    kept = s & at.idmask;
   }
+  // Robin Hood insertion of (k, kept). On a probe longer than the distance
+  // field holds, returns false with (k, kept) set to the entry left in hand
+  // (perhaps one it displaced); every entry in t is still findable.
+  static bool place(HugeVector<uint64_t>& t, const Layout& at, uint64_t& k, uint64_t& kept) {
+    size_t i = at.home(k);
+    for (uint64_t d = 1; d <= kMaxStored; ++d, i = (i + 1) & at.mask) {
+      uint64_t s = t[i];
+      uint64_t here = (d << kDistShift) | ((k & at.wmask) << at.q) | kept;
+      if (s == 0) {
+        t[i] = here;
+        return true;
+      }
+      uint64_t sd = s >> kDistShift;
+      if (sd < d) {  // the resident is nearer its home: it moves on instead
+        t[i] = here;
+        decode(at, s, i, k, kept);
+        d = sd;
+      }
+    }
+    return false;
+  }
+  // Doubles the table (or more, if an entry's probe would not fit).
   void grow() {
-    HugeVector<Slot> bigger(slots_.size() * 2);
-    for (const Slot& s : slots_)
-      if (s.key() != 0) place(bigger, s);
-    slots_.swap(bigger);
+    for (int q = at_.q + 1;; ++q) {
+      Layout to(q);
+      HugeVector<uint64_t> bigger(to.size());
+      bool ok = true;
+      for (size_t i = 0; i < slots_.size() && ok; ++i) {
+        if (slots_[i] == 0) continue;
+        uint64_t k, kept;
+        decode(at_, slots_[i], i, k, kept);
+        ok = place(bigger, to, k, kept);
+      }
+      if (ok) {
+        at_ = to;
+        slots_.swap(bigger);
+        return;
+      }
+    }
   }
-  HugeVector<Slot> slots_;
+
+  Layout at_;
+  HugeVector<uint64_t> slots_;
   size_t size_ = 0;
 };
 
 class NearDupStage : public Stage {
  public:
   NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
-      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope) {}
+      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope), tables_(static_cast<size_t>(o.bands)) {}
 
   void map(PairBatch& batch) override {
     size_t bands = static_cast<size_t>(sketch_.options().bands);
@@ -279,7 +340,7 @@ class NearDupStage : public Stage {
     constexpr size_t kAhead = 4;
     auto prefetch = [&](size_t i) {
       if (i >= batch.pairs.size() || !batch.pairs[i].kept() || batch.pairs[i].key[0] == 0) return;
-      for (size_t b = 0; b < bands; ++b) table_.prefetch(batch.scratch[i * bands + b]);
+      for (size_t b = 0; b < bands; ++b) tables_[b].prefetch(batch.scratch[i * bands + b]);
     };
     for (size_t i = 0; i < kAhead; ++i) prefetch(i);
     for (size_t i = 0; i < batch.pairs.size(); ++i) {
@@ -290,7 +351,7 @@ class NearDupStage : public Stage {
       // The earliest kept pair sharing any band.
       int64_t match = -1;
       for (size_t b = 0; b < bands; ++b) {
-        int64_t k = table_.find(keys[b]);
+        int64_t k = tables_[b].find(keys[b]);
         if (k >= 0 && (match < 0 || k < match)) match = k;
       }
       if (match >= 0) {
@@ -298,17 +359,17 @@ class NearDupStage : public Stage {
         batch.drop(p, index_, "near-duplicate:" + pipeline_->origin(static_cast<uint32_t>(o >> 48), o & kLineMask));
         continue;
       }
-      uint32_t id = static_cast<uint32_t>(kept_.size());
+      uint64_t id = kept_.size();
       kept_.push_back((uint64_t{p.corpus} << 48) | (p.line & kLineMask));
-      // No band was found, and a pair's band keys differ (each holds its
-      // band's index).
-      for (size_t b = 0; b < bands; ++b) table_.insert(keys[b], id);
+      // No band was found: the pair's key goes into every band's table.
+      for (size_t b = 0; b < bands; ++b) tables_[b].insert(keys[b], id);
     }
   }
 
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
-    return {{"kept_sketches", kept_.size()},
-            {"table_bytes", table_.memory_bytes() + kept_.capacity() * sizeof(uint64_t)}};
+    size_t bytes = kept_.capacity() * sizeof(uint64_t);
+    for (const BandIndex& t : tables_) bytes += t.memory_bytes();
+    return {{"kept_sketches", kept_.size()}, {"table_bytes", bytes}};
   }
 
  private:
@@ -317,7 +378,7 @@ class NearDupStage : public Stage {
   const Pipeline* pipeline_;
   NearDupSketch sketch_;
   int scope_;  // 0 source, 1 target, 2 pair
-  BandTable table_;
+  std::vector<BandIndex> tables_;  // one per band: a partitioned run can own some bands each
   std::vector<uint64_t> kept_;  // per kept pair: corpus << 48 | line
 };
 
