@@ -116,15 +116,18 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
   while (i < n) {
     UChar32 c = p[i];
     if (c < 0x80) {
-      ++i;
-      char f = kFold.to[c];
-      if (f == 0) {
-        gap = true;
-        continue;
-      }
-      if (gap && w != begin) *w++ = ' ';
-      gap = false;
-      *w++ = f;
+      // A run of ASCII without branches on letter or separator (they
+      // alternate every few bytes, so a branch on them is mispredicted
+      // often): the space and the letter are always stored and kept or not.
+      do {
+        char f = kFold.to[p[i]];
+        bool letter = f != 0;
+        *w = ' ';
+        w += letter & gap & (w != begin);
+        *w = f;
+        w += letter;
+        gap = !letter;
+      } while (++i < n && p[i] < 0x80);
       continue;
     }
     U8_NEXT(p, i, n, c);
