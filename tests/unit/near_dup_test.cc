@@ -122,6 +122,31 @@ TEST(NearDup, ExactDuplicatesAreAlwaysFound) {
     EXPECT_EQ(r.reasons[static_cast<size_t>(n + i)], "near-duplicate:" + std::to_string(i + 1)) << i;
 }
 
+// Enough kept pairs that every band's table doubles twice (from 4,096
+// slots, at 3/4 load): the entries moved by a doubling (their home slot
+// recovered from the distance stored in the slot) are still found, with
+// the right kept line, and distinct pairs are still kept.
+TEST(NearDup, KeptPairsAreFoundAfterTheTablesGrow) {
+  test::StageHarness h("kind = \"near-dup\"");
+  ASSERT_TRUE(h.ok()) << h.error();
+  std::mt19937_64 rng(11);
+  std::vector<std::pair<std::string, std::string>> pairs;
+  const int n = 7000;
+  for (int i = 0; i < n; ++i) pairs.emplace_back(sentence(rng, 8 + i % 9), sentence(rng, 8 + i % 7));
+  // Copies in reverse order, with other case and punctuation.
+  for (int i = n - 1; i >= 0; --i) {
+    std::string s = pairs[static_cast<size_t>(i)].first;
+    s[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(s[0])));
+    pairs.emplace_back(s + ".", pairs[static_cast<size_t>(i)].second + "!");
+  }
+  auto r = h.run(pairs);
+  int kept = 0;
+  for (int i = 0; i < n; ++i) kept += r.reasons[static_cast<size_t>(i)].empty();
+  EXPECT_EQ(kept, n);
+  for (int j = 0; j < n; ++j)
+    EXPECT_EQ(r.reasons[static_cast<size_t>(n + j)], "near-duplicate:" + std::to_string(n - j)) << j;
+}
+
 TEST(NearDup, OneWordChangedInALongPairIsFoundAndDifferentPairsAreKept) {
   test::StageHarness h("kind = \"near-dup\"");
   ASSERT_TRUE(h.ok()) << h.error();
