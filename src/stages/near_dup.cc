@@ -197,11 +197,15 @@ void NearDupSketch::band_keys(const std::vector<uint32_t>& signature, uint64_t* 
 namespace {
 
 // One band's keys of kept pairs, each with the index of its kept pair, in
-// 8-byte slots: open addressing, Robin Hood linear probing (a probe stops
-// at the first slot whose entry sits nearer its home than the probe does,
-// so a miss, the common case, usually reads one cache line), doubling at
-// 3/4 load. A table of 2^q slots keeps the top 58 bits of a key without
-// storing all of them: the top q bits are the home slot, and a slot holds
+// 8-byte slots: open addressing, Robin Hood linear probing, doubling at 3/4
+// load. Entries stand in order of their home slot, each no nearer the start
+// than its home, so a lookup stops at the first slot whose entry is nearer
+// its home than the probe (a miss, the common case, usually reads one cache
+// line), and an insert puts the entry where that lookup stopped and moves
+// the rest of the run one slot on (a short copy, not a chain of swaps).
+//
+// A table of 2^q slots keeps the top 58 bits of a key without storing all
+// of them: the top q bits are the home slot, and a slot holds
 //   [distance from home + 1: 6 bits][the next 58 - q key bits][kept: q bits]
 // (0 = empty). The kept pair's index fits in q bits because each kept pair
 // puts exactly one key in every band's table, so the index is below the
@@ -212,29 +216,34 @@ namespace {
 // band (docs/near-duplicates.md has the arithmetic).
 class BandIndex {
  public:
+  // Where a lookup stopped: the slot a missing key would take, and its
+  // distance + 1 there. Valid for insert() until the table changes.
+  struct Spot {
+    size_t pos = 0;
+    uint64_t d = 0;
+  };
+
   BandIndex() : at_(kInitialLog2), slots_(at_.size()) {}
 
-  // The kept pair whose key agrees with `key` in its top 58 bits, or -1.
-  int64_t find(uint64_t key) const {
-    uint64_t k = key >> kDistBits;
-    size_t i = at_.home(k);
-    uint64_t rem = k & at_.wmask;
-    for (uint64_t d = 1;; ++d, i = (i + 1) & at_.mask) {
-      uint64_t s = slots_[i];
-      uint64_t sd = s >> kDistShift;
-      if (sd < d) return -1;  // empty (0), or an entry nearer its home: ours would be here
-      if (sd == d && ((s >> at_.q) & at_.wmask) == rem) return static_cast<int64_t>(s & at_.idmask);
-    }
-  }
+  // The kept pair whose key agrees with `key` in its top 58 bits, or -1
+  // with `spot` set to where it would go.
+  int64_t find(uint64_t key, Spot& spot) const { return look(slots_, at_, key >> kDistBits, spot); }
   // Starts loading the key's home slot (the tables are far larger than the
   // caches; a pair's lookups are issued a few pairs ahead).
   void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[at_.home(key >> kDistBits)]); }
   // Inserts a key that find() did not find, for kept pair `kept` (kept
-  // pairs are numbered 0, 1, 2, ... as they are inserted).
-  void insert(uint64_t key, uint64_t kept) {
-    if ((size_ + 1) * 4 > slots_.size() * 3) grow();
+  // pairs are numbered 0, 1, 2, ... as they are inserted); `spot` is what
+  // that find() gave, the table unchanged since.
+  void insert(uint64_t key, uint64_t kept, Spot spot) {
     uint64_t k = key >> kDistBits;
-    while (!place(slots_, at_, k, kept)) grow();  // a probe too long for 6 bits (rare): double, go on
+    if ((size_ + 1) * 4 > slots_.size() * 3) {
+      grow();
+      look(slots_, at_, k, spot);
+    }
+    while (!shift_in(slots_, at_, k, kept, spot)) {  // a run too long for 6 bits (rare)
+      grow();
+      look(slots_, at_, k, spot);
+    }
     ++size_;
   }
   size_t memory_bytes() const { return slots_.capacity() * sizeof(uint64_t); }
@@ -242,6 +251,7 @@ class BandIndex {
  private:
   static constexpr int kDistBits = 6, kDistShift = 64 - kDistBits, kInitialLog2 = 12;
   static constexpr uint64_t kMaxStored = (uint64_t{1} << kDistBits) - 1;  // distance + 1
+  static constexpr uint64_t kOneFurther = uint64_t{1} << kDistShift;
 
   // Where the bits go in a table of 2^q slots.
   struct Layout {
@@ -258,44 +268,48 @@ class BandIndex {
     uint64_t wmask, idmask;
   };
 
-  // The 58-bit key and kept index of the entry s found in slot i.
-  static void decode(const Layout& at, uint64_t s, size_t i, uint64_t& k, uint64_t& kept) {
-    size_t home = (i - static_cast<size_t>((s >> kDistShift) - 1)) & at.mask;
-    k = (static_cast<uint64_t>(home) << at.w) | ((s >> at.q) & at.wmask);
-    kept = s & at.idmask;
-  }
-  // Robin Hood insertion of (k, kept). On a probe longer than the distance
-  // field holds, returns false with (k, kept) set to the entry left in hand
-  // (perhaps one it displaced); every entry in t is still findable.
-  static bool place(HugeVector<uint64_t>& t, const Layout& at, uint64_t& k, uint64_t& kept) {
+  // Looks up the 58-bit key k: the kept index, or -1 and where k would go.
+  static int64_t look(const HugeVector<uint64_t>& t, const Layout& at, uint64_t k, Spot& spot) {
     size_t i = at.home(k);
-    for (uint64_t d = 1; d <= kMaxStored; ++d, i = (i + 1) & at.mask) {
+    uint64_t rem = k & at.wmask;
+    for (uint64_t d = 1;; ++d, i = (i + 1) & at.mask) {
       uint64_t s = t[i];
-      uint64_t here = (d << kDistShift) | ((k & at.wmask) << at.q) | kept;
-      if (s == 0) {
-        t[i] = here;
-        return true;
-      }
       uint64_t sd = s >> kDistShift;
-      if (sd < d) {  // the resident is nearer its home: it moves on instead
-        t[i] = here;
-        decode(at, s, i, k, kept);
-        d = sd;
+      if (sd < d) {  // empty (0), or an entry nearer its home: ours would be here
+        spot = Spot{i, d};
+        return -1;
       }
+      if (sd == d && ((s >> at.q) & at.wmask) == rem) return static_cast<int64_t>(s & at.idmask);
     }
-    return false;
   }
-  // Doubles the table (or more, if an entry's probe would not fit).
+  // Puts (k, kept) at `spot` and moves the entries from there to the next
+  // empty slot one slot on. False, with nothing changed, when a distance
+  // would not fit in its 6 bits.
+  static bool shift_in(HugeVector<uint64_t>& t, const Layout& at, uint64_t k, uint64_t kept, Spot spot) {
+    if (spot.d > kMaxStored) return false;
+    size_t e = spot.pos;
+    for (uint64_t s; (s = t[e]) != 0; e = (e + 1) & at.mask)
+      if ((s >> kDistShift) == kMaxStored) return false;
+    for (; e != spot.pos; e = (e - 1) & at.mask) t[e] = t[(e - 1) & at.mask] + kOneFurther;
+    t[spot.pos] = (spot.d << kDistShift) | ((k & at.wmask) << at.q) | kept;
+    return true;
+  }
+  // Doubles the table (or more, if an entry's run would not fit).
   void grow() {
     for (int q = at_.q + 1;; ++q) {
       Layout to(q);
       HugeVector<uint64_t> bigger(to.size());
       bool ok = true;
       for (size_t i = 0; i < slots_.size() && ok; ++i) {
-        if (slots_[i] == 0) continue;
-        uint64_t k, kept;
-        decode(at_, slots_[i], i, k, kept);
-        ok = place(bigger, to, k, kept);
+        uint64_t s = slots_[i];
+        if (s == 0) continue;
+        // The 58-bit key from the home slot (position - distance) and the
+        // stored bits; the kept index as it is.
+        size_t home = (i - static_cast<size_t>((s >> kDistShift) - 1)) & at_.mask;
+        uint64_t k = (static_cast<uint64_t>(home) << at_.w) | ((s >> at_.q) & at_.wmask);
+        Spot spot;
+        look(bigger, to, k, spot);
+        ok = shift_in(bigger, to, k, s & at_.idmask, spot);
       }
       if (ok) {
         at_ = to;
@@ -313,7 +327,9 @@ class BandIndex {
 class NearDupStage : public Stage {
  public:
   NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
-      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope), tables_(static_cast<size_t>(o.bands)) {}
+      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope),
+        tables_(static_cast<size_t>(o.bands)),
+        spots_(static_cast<size_t>(o.bands)) {}
 
   void map(PairBatch& batch) override {
     size_t bands = static_cast<size_t>(sketch_.options().bands);
@@ -356,7 +372,7 @@ class NearDupStage : public Stage {
       // The earliest kept pair sharing any band.
       int64_t match = -1;
       for (size_t b = 0; b < bands; ++b) {
-        int64_t k = tables_[b].find(keys[b]);
+        int64_t k = tables_[b].find(keys[b], spots_[b]);
         if (k >= 0 && (match < 0 || k < match)) match = k;
       }
       if (match >= 0) {
@@ -367,7 +383,7 @@ class NearDupStage : public Stage {
       uint64_t id = kept_.size();
       kept_.push_back((uint64_t{p.corpus} << 48) | (p.line & kLineMask));
       // No band was found: the pair's key goes into every band's table.
-      for (size_t b = 0; b < bands; ++b) tables_[b].insert(keys[b], id);
+      for (size_t b = 0; b < bands; ++b) tables_[b].insert(keys[b], id, spots_[b]);
     }
   }
 
@@ -384,6 +400,7 @@ class NearDupStage : public Stage {
   NearDupSketch sketch_;
   int scope_;  // 0 source, 1 target, 2 pair
   std::vector<BandIndex> tables_;  // one per band: a partitioned run can own some bands each
+  std::vector<BandIndex::Spot> spots_;  // where each band's lookup of the current pair stopped
   std::vector<uint64_t> kept_;  // per kept pair: corpus << 48 | line
 };
 

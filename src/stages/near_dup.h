@@ -26,13 +26,16 @@
 // CORPUS:LINE with named corpora.
 //
 // map() computes signatures and band keys (pure, parallel); reduce() looks
-// the band keys up in one table in input order, so the result is the same
-// at any thread count. The table holds, per kept pair, `bands` slots of a
-// 32-bit key fingerprint and a 32-bit index of the kept pair, plus 8 bytes
-// naming the kept pair: about (bands x 8 / load + 8) bytes, load between
-// 3/8 and 3/4 (see docs/near-duplicates.md). A band key carries its band's
-// index, so a partitioned run can send each key to the partition that owns
-// its band (or its hash range) and resolve matches there.
+// the band keys up in input order, so the result is the same at any thread
+// count. Each band has its own table of the kept pairs' keys in that band:
+// 8-byte slots holding the kept pair's index and, with the slot's position,
+// the key's top 58 bits; 15 x 8 / load + 8 bytes per kept pair (naming the
+// kept pair), load between 3/8 and 3/4, so 168 to 328 bytes with 15 bands
+// (docs/near-duplicates.md has the arithmetic, and why 64 is out of reach
+// while the reason names the kept line). The tables double one at a time,
+// so a doubling briefly adds 2/15 of the total, not twice it. One table per
+// band is also the split a partitioned run needs: each partition can own
+// some bands and resolve their keys there.
 #pragma once
 
 #include <cstdint>
