@@ -2,6 +2,10 @@
 
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
+// XXH3 inlined here (the library's header-only mode, same hashes): a pair's
+// shingles are a few bytes each, hashed a few dozen times per pair, and the
+// call into the shared library cost more than the hashing.
+#define XXH_INLINE_ALL
 #include <xxhash.h>
 
 #include <algorithm>
