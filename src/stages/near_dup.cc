@@ -123,13 +123,16 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
       // A run of ASCII without branches on letter or separator (they
       // alternate every few bytes, so a branch on them is mispredicted
       // often): the space and the letter are always stored and kept or not.
+      // One add to w per byte: its chain sets the pace.
+      bool started = w != begin;
       do {
         char f = kFold.to[p[i]];
-        bool letter = f != 0;
-        *w = ' ';
-        w += letter & gap & (w != begin);
-        *w = f;
-        w += letter;
+        unsigned letter = f != 0;
+        unsigned space = letter & gap & started;
+        w[0] = ' ';
+        w[space] = f;
+        w += space + letter;
+        started |= letter;
         gap = !letter;
       } while (++i < n && p[i] < 0x80);
       continue;
