@@ -61,16 +61,16 @@ __attribute__((target_clones("avx512f", "avx2", "default"))) void min_images(con
   }
 }
 
-// Word starts and ends of a canonical text (words are separated by one space).
-void word_spans(std::string_view c, std::vector<uint32_t>& starts, std::vector<uint32_t>& ends) {
-  starts.clear();
-  ends.clear();
+// Word bounds of a canonical text (words are separated by one space):
+// bounds[2k] and bounds[2k + 1] are where word k starts and ends.
+void word_bounds(std::string_view c, std::vector<uint32_t>& bounds) {
+  bounds.clear();
   size_t i = 0;
   while (i < c.size()) {
     size_t sp = c.find(' ', i);
     if (sp == std::string_view::npos) sp = c.size();
-    starts.push_back(static_cast<uint32_t>(i));
-    ends.push_back(static_cast<uint32_t>(sp));
+    bounds.push_back(static_cast<uint32_t>(i));
+    bounds.push_back(static_cast<uint32_t>(sp));
     i = sp + 1;
   }
 }
@@ -107,7 +107,14 @@ constexpr AsciiFold kFold;
 
 }  // namespace
 
-void NearDupSketch::canonical(std::string_view text, std::string& out) {
+namespace {
+
+// The canonical form of `text` into `out`; with kBounds, also its word
+// bounds into bounds[] (as word_bounds() gives them; room for
+// text.size() + 4 values), returning the number of words. Recording them
+// here saves a second pass over the text.
+template <bool kBounds>
+size_t canonical_form(std::string_view text, std::string& out, uint32_t* bounds) {
   // Written through a pointer into a buffer large enough for the longest
   // result (a lowercase form is at most 3/2 as long in UTF-8, as for
   // U+023A -> U+2C65), then cut to size.
@@ -117,6 +124,8 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
   const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
   bool gap = false;
+  size_t words = 0;  // spaces written so far (kBounds)
+  if (kBounds) bounds[0] = 0;
   while (i < n) {
     UChar32 c = p[i];
     if (c < 0x80) {
@@ -131,6 +140,12 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
         unsigned space = letter & gap & started;
         w[0] = ' ';
         w[space] = f;
+        if (kBounds) {  // a space ends word `words` and starts the next
+          uint32_t at = static_cast<uint32_t>(w - begin);
+          bounds[2 * words + 1] = at;
+          bounds[2 * words + 2] = at + 1;
+          words += space;
+        }
         w += space + letter;
         started |= letter;
         gap = !letter;
@@ -142,7 +157,15 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
       gap = true;
       continue;
     }
-    if (gap && w != begin) *w++ = ' ';
+    if (gap && w != begin) {
+      if (kBounds) {
+        uint32_t at = static_cast<uint32_t>(w - begin);
+        bounds[2 * words + 1] = at;
+        bounds[2 * words + 2] = at + 1;
+        ++words;
+      }
+      *w++ = ' ';
+    }
     gap = false;
     c = u_tolower(c);
     int32_t len = 0;
@@ -150,7 +173,14 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
     w += len;
   }
   out.resize(static_cast<size_t>(w - begin));
+  if (!kBounds || out.empty()) return 0;
+  bounds[2 * words + 1] = static_cast<uint32_t>(out.size());
+  return words + 1;
 }
+
+}  // namespace
+
+void NearDupSketch::canonical(std::string_view text, std::string& out) { canonical_form<false>(text, out, nullptr); }
 
 std::vector<uint32_t> NearDupSketch::empty() const {
   return std::vector<uint32_t>(padded(static_cast<size_t>(o_.bands) * static_cast<size_t>(o_.rows)), UINT32_MAX);
@@ -162,33 +192,48 @@ void NearDupSketch::add_hashes(const uint64_t* hashes, size_t n, std::vector<uin
 
 size_t NearDupSketch::add(std::string_view c, uint64_t salt, std::vector<uint32_t>& signature) const {
   if (c.empty()) return 0;
-  thread_local std::vector<uint32_t> starts, ends;
-  thread_local std::vector<uint64_t> hashes;
-  hashes.clear();
-  size_t n = static_cast<size_t>(o_.shingle_size);
+  thread_local std::vector<uint32_t> bounds;
   if (o_.unit == ShingleUnit::kWords) {
-    word_spans(c, starts, ends);
+    word_bounds(c, bounds);
   } else {
     // Code point boundaries: each code point is a "word" of the span logic.
-    starts.clear();
-    ends.clear();
+    bounds.clear();
     for (size_t i = 0; i < c.size();) {
       size_t len = 1;
       unsigned char b = static_cast<unsigned char>(c[i]);
       if (b >= 0xF0) len = 4;
       else if (b >= 0xE0) len = 3;
       else if (b >= 0xC0) len = 2;
-      starts.push_back(static_cast<uint32_t>(i));
+      bounds.push_back(static_cast<uint32_t>(i));
       i = std::min(c.size(), i + len);
-      ends.push_back(static_cast<uint32_t>(i));
+      bounds.push_back(static_cast<uint32_t>(i));
     }
   }
-  size_t units = starts.size();
+  return add_units(c, bounds.data(), bounds.size() / 2, salt, signature);
+}
+
+size_t NearDupSketch::add_text(std::string_view text, uint64_t salt, std::vector<uint32_t>& signature) const {
+  thread_local std::string c;
+  if (o_.unit != ShingleUnit::kWords) {
+    canonical(text, c);
+    return add(c, salt, signature);
+  }
+  thread_local std::vector<uint32_t> bounds;
+  bounds.resize(text.size() + 4);
+  size_t words = canonical_form<true>(text, c, bounds.data());
+  if (words == 0) return 0;
+  return add_units(c, bounds.data(), words, salt, signature);
+}
+
+size_t NearDupSketch::add_units(std::string_view c, const uint32_t* bounds, size_t units, uint64_t salt,
+                                std::vector<uint32_t>& signature) const {
+  thread_local std::vector<uint64_t> hashes;
+  size_t n = static_cast<size_t>(o_.shingle_size);
   size_t shingles = units >= n ? units - n + 1 : 1;
   hashes.resize(shingles);
   for (size_t k = 0; k < shingles; ++k) {
     size_t last = std::min(units, k + n) - 1;
-    hashes[k] = XXH3_64bits_withSeed(c.data() + starts[k], ends[last] - starts[k], salt);
+    hashes[k] = XXH3_64bits_withSeed(c.data() + bounds[2 * k], bounds[2 * last + 1] - bounds[2 * k], salt);
   }
   add_hashes(hashes.data(), hashes.size(), signature);
   return shingles;
@@ -341,7 +386,6 @@ class NearDupStage : public Stage {
   void map(PairBatch& batch) override {
     size_t bands = static_cast<size_t>(sketch_.options().bands);
     batch.scratch.resize(batch.pairs.size() * bands);
-    std::string canon;
     std::vector<uint32_t> sig;
     uint64_t salt = sketch_.options().seed * 0xC2B2AE3D27D4EB4FULL;
     for (size_t i = 0; i < batch.pairs.size(); ++i) {
@@ -353,8 +397,7 @@ class NearDupStage : public Stage {
       size_t shingles = 0;
       for (int side = 0; side < 2; ++side) {
         if (scope_ != 2 && scope_ != side) continue;
-        NearDupSketch::canonical(p.text[static_cast<size_t>(side)], canon);
-        shingles += sketch_.add(canon, salt + static_cast<uint64_t>(side), sig);
+        shingles += sketch_.add_text(p.text[static_cast<size_t>(side)], salt + static_cast<uint64_t>(side), sig);
       }
       if (shingles == 0) continue;
       p.key[0] = 1;

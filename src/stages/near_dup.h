@@ -69,6 +69,8 @@ class NearDupSketch {
   // Adds one side's shingles (from its canonical form) to the signature;
   // `salt` keeps the sides of a pair apart. Returns the number of shingles.
   size_t add(std::string_view canonical_text, uint64_t salt, std::vector<uint32_t>& signature) const;
+  // canonical() then add(), in one pass over the text for word shingles.
+  size_t add_text(std::string_view text, uint64_t salt, std::vector<uint32_t>& signature) const;
   // An empty signature (every value at its maximum) of bands x rows values.
   std::vector<uint32_t> empty() const;
   // The band keys of a signature, appended to `out`.
@@ -80,6 +82,11 @@ class NearDupSketch {
   const NearDupOptions& options() const { return o_; }
 
  private:
+  // Adds the shingles of `units` words (or code points) of canonical text
+  // c, word k spanning [bounds[2k], bounds[2k + 1]).
+  size_t add_units(std::string_view c, const uint32_t* bounds, size_t units, uint64_t salt,
+                   std::vector<uint32_t>& signature) const;
+
   NearDupOptions o_;
   std::vector<uint32_t> mul_, add_;
 };

@@ -89,6 +89,30 @@ TEST(NearDup, CanonicalForm) {
   EXPECT_EQ(c, "");
 }
 
+// add_text() (canonical form and word bounds in one pass, what the stage
+// runs) gives the signature of canonical() then add().
+TEST(NearDup, OnePassGivesTheSameSignature) {
+  for (ShingleUnit unit : {ShingleUnit::kWords, ShingleUnit::kChars}) {
+    for (int size : {1, 2, 3}) {
+      NearDupOptions o;
+      o.unit = unit;
+      o.shingle_size = size;
+      NearDupSketch sk{o};
+      for (const char* text : {"", "?!", "a", "One", "  Hello, WORLD!! 42 times… Ünïcode—Straße ",
+                               "¿Dónde está el faro? — Ñandú, ÉCLAIR; ＡＢＣ ⅷ", "x y", " x  y ", "日本語のテキスト",
+                               "Ǆemal İstanbul ΣΊΣΥΦΟΣ", "tab\tand\nnewline…end"}) {
+        std::string c;
+        NearDupSketch::canonical(text, c);
+        auto a = sk.empty(), b = sk.empty();
+        size_t na = sk.add(c, 5, a);
+        size_t nb = sk.add_text(text, 5, b);
+        EXPECT_EQ(na, nb) << text;
+        EXPECT_EQ(a, b) << text;
+      }
+    }
+  }
+}
+
 std::string sentence(std::mt19937_64& rng, int words) {
   static const char* vocab[] = {"tide",  "harbour", "lantern", "keeper", "rope",   "gull",  "north", "storm",
                                 "quay",  "boat",    "net",     "salt",   "bell",   "fog",   "pier",  "sail",
