@@ -10,6 +10,7 @@
 
 #include <algorithm>
 #include <cstring>
+#include <deque>
 
 #include "core/huge_pages.h"
 
@@ -438,7 +439,8 @@ class NearDupStage : public Stage {
   }
 
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
-    size_t bytes = kept_.capacity() * sizeof(uint64_t);
+    // The deque's blocks hold 64 values each (libstdc++: 512 bytes).
+    size_t bytes = (kept_.size() + 63) / 64 * 512;
     for (const BandIndex& t : tables_) bytes += t.memory_bytes();
     return {{"kept_sketches", kept_.size()}, {"table_bytes", bytes}};
   }
@@ -451,7 +453,9 @@ class NearDupStage : public Stage {
   int scope_;  // 0 source, 1 target, 2 pair
   std::vector<BandIndex> tables_;  // one per band: a partitioned run can own some bands each
   std::vector<BandIndex::Spot> spots_;  // where each band's lookup of the current pair stopped
-  std::vector<uint64_t> kept_;  // per kept pair: corpus << 48 | line
+  // Per kept pair: corpus << 48 | line. A deque, not a vector: it grows
+  // by blocks, with no spare half and no copy at a doubling.
+  std::deque<uint64_t> kept_;
 };
 
 }  // namespace
