@@ -29,7 +29,7 @@
 // the band keys up in input order, so the result is the same at any thread
 // count. Each band has its own table of the kept pairs' keys in that band:
 // 8-byte slots holding the kept pair's index and, with the slot's position,
-// the key's top 58 bits; 15 x 8 / load + 8 bytes per kept pair (naming the
+// the key's top 58 bits: bands x 8 / load + 8 bytes per kept pair (naming the
 // kept pair), load between 3/8 and 3/4, so 168 to 328 bytes with 15 bands
 // (docs/near-duplicates.md has the arithmetic, and why 64 is out of reach
 // while the reason names the kept line). The tables double one at a time,
