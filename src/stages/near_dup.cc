@@ -44,8 +44,8 @@ size_t padded(size_t k) { return (k + kLanes - 1) / kLanes * kLanes; }
 // low): the values of a signature were not independent enough. The
 // measured curve (docs/near-duplicates.md) is the check.
 __attribute__((target_clones("avx512f", "avx2", "default"))) void min_images(const uint64_t* hashes, size_t n,
-                                                                  const uint32_t* mul, const uint32_t* add,
-                                                                  uint32_t* sig, size_t k) {
+                                                                             const uint32_t* mul, const uint32_t* add,
+                                                                             uint32_t* sig, size_t k) {
   for (size_t g = 0; g < k; g += kLanes) {
     Lanes m, a, s;
     std::memcpy(&m, mul + g, sizeof m);
@@ -380,7 +380,10 @@ class BandIndex {
 class NearDupStage : public Stage {
  public:
   NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
-      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope),
+      : index_(ctx.index),
+        pipeline_(ctx.pipeline),
+        sketch_(o),
+        scope_(scope),
         tables_(static_cast<size_t>(o.bands)),
         spots_(static_cast<size_t>(o.bands)) {}
 
