@@ -2,10 +2,15 @@
 
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
+// XXH3 inlined here (the library's header-only mode, same hashes): a pair's
+// shingles are a few bytes each, hashed a few dozen times per pair, and the
+// call into the shared library cost more than the hashing.
+#define XXH_INLINE_ALL
 #include <xxhash.h>
 
 #include <algorithm>
 #include <cstring>
+#include <deque>
 
 #include "core/huge_pages.h"
 
@@ -13,11 +18,13 @@ namespace sheaf {
 
 namespace {
 
-// Eight 32-bit lanes: GCC's vector extension, so the signature loop is one
-// instruction per lane group on AVX2 and two on plain SSE2 (target_clones
-// below picks at load time).
-typedef uint32_t Lanes __attribute__((vector_size(32)));
-constexpr size_t kLanes = 8;
+// Sixteen 32-bit lanes: GCC's vector extension, so the signature loop is
+// one instruction per lane group with AVX-512, two with AVX2 and four with
+// plain SSE2 (target_clones below picks at load time). Sixteen, not eight:
+// with AVX-512 the loop then does half the instructions (measured: the
+// signature loop's share of a profiled run fell from 11% to 7.5%).
+typedef uint32_t Lanes __attribute__((vector_size(64)));
+constexpr size_t kLanes = 16;
 
 uint64_t splitmix64(uint64_t& state) {
   uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
@@ -36,9 +43,9 @@ size_t padded(size_t k) { return (k + kLanes - 1) / kLanes * kLanes; }
 // deviations below the banding curve at s = 0.55 and 0.7 (consistently
 // low): the values of a signature were not independent enough. The
 // measured curve (docs/near-duplicates.md) is the check.
-__attribute__((target_clones("avx2", "default"))) void min_images(const uint64_t* hashes, size_t n,
-                                                                  const uint32_t* mul, const uint32_t* add,
-                                                                  uint32_t* sig, size_t k) {
+__attribute__((target_clones("avx512f", "avx2", "default"))) void min_images(const uint64_t* hashes, size_t n,
+                                                                             const uint32_t* mul, const uint32_t* add,
+                                                                             uint32_t* sig, size_t k) {
   for (size_t g = 0; g < k; g += kLanes) {
     Lanes m, a, s;
     std::memcpy(&m, mul + g, sizeof m);
@@ -55,16 +62,16 @@ __attribute__((target_clones("avx2", "default"))) void min_images(const uint64_t
   }
 }
 
-// Word starts and ends of a canonical text (words are separated by one space).
-void word_spans(std::string_view c, std::vector<uint32_t>& starts, std::vector<uint32_t>& ends) {
-  starts.clear();
-  ends.clear();
+// Word bounds of a canonical text (words are separated by one space):
+// bounds[2k] and bounds[2k + 1] are where word k starts and ends.
+void word_bounds(std::string_view c, std::vector<uint32_t>& bounds) {
+  bounds.clear();
   size_t i = 0;
   while (i < c.size()) {
     size_t sp = c.find(' ', i);
     if (sp == std::string_view::npos) sp = c.size();
-    starts.push_back(static_cast<uint32_t>(i));
-    ends.push_back(static_cast<uint32_t>(sp));
+    bounds.push_back(static_cast<uint32_t>(i));
+    bounds.push_back(static_cast<uint32_t>(sp));
     i = sp + 1;
   }
 }
@@ -101,7 +108,14 @@ constexpr AsciiFold kFold;
 
 }  // namespace
 
-void NearDupSketch::canonical(std::string_view text, std::string& out) {
+namespace {
+
+// The canonical form of `text` into `out`; with kBounds, also its word
+// bounds into bounds[] (as word_bounds() gives them; room for
+// text.size() + 4 values), returning the number of words. Recording them
+// here saves a second pass over the text.
+template <bool kBounds>
+size_t canonical_form(std::string_view text, std::string& out, uint32_t* bounds) {
   // Written through a pointer into a buffer large enough for the longest
   // result (a lowercase form is at most 3/2 as long in UTF-8, as for
   // U+023A -> U+2C65), then cut to size.
@@ -111,18 +125,32 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
   const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
   bool gap = false;
+  size_t words = 0;  // spaces written so far (kBounds)
+  if (kBounds) bounds[0] = 0;
   while (i < n) {
     UChar32 c = p[i];
     if (c < 0x80) {
-      ++i;
-      char f = kFold.to[c];
-      if (f == 0) {
-        gap = true;
-        continue;
-      }
-      if (gap && w != begin) *w++ = ' ';
-      gap = false;
-      *w++ = f;
+      // A run of ASCII without branches on letter or separator (they
+      // alternate every few bytes, so a branch on them is mispredicted
+      // often): the space and the letter are always stored and kept or not.
+      // One add to w per byte: its chain sets the pace.
+      bool started = w != begin;
+      do {
+        char f = kFold.to[p[i]];
+        unsigned letter = f != 0;
+        unsigned space = letter & gap & started;
+        w[0] = ' ';
+        w[space] = f;
+        if (kBounds) {  // a space ends word `words` and starts the next
+          uint32_t at = static_cast<uint32_t>(w - begin);
+          bounds[2 * words + 1] = at;
+          bounds[2 * words + 2] = at + 1;
+          words += space;
+        }
+        w += space + letter;
+        started |= letter;
+        gap = !letter;
+      } while (++i < n && p[i] < 0x80);
       continue;
     }
     U8_NEXT(p, i, n, c);
@@ -130,7 +158,15 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
       gap = true;
       continue;
     }
-    if (gap && w != begin) *w++ = ' ';
+    if (gap && w != begin) {
+      if (kBounds) {
+        uint32_t at = static_cast<uint32_t>(w - begin);
+        bounds[2 * words + 1] = at;
+        bounds[2 * words + 2] = at + 1;
+        ++words;
+      }
+      *w++ = ' ';
+    }
     gap = false;
     c = u_tolower(c);
     int32_t len = 0;
@@ -138,7 +174,14 @@ void NearDupSketch::canonical(std::string_view text, std::string& out) {
     w += len;
   }
   out.resize(static_cast<size_t>(w - begin));
+  if (!kBounds || out.empty()) return 0;
+  bounds[2 * words + 1] = static_cast<uint32_t>(out.size());
+  return words + 1;
 }
+
+}  // namespace
+
+void NearDupSketch::canonical(std::string_view text, std::string& out) { canonical_form<false>(text, out, nullptr); }
 
 std::vector<uint32_t> NearDupSketch::empty() const {
   return std::vector<uint32_t>(padded(static_cast<size_t>(o_.bands) * static_cast<size_t>(o_.rows)), UINT32_MAX);
@@ -150,33 +193,48 @@ void NearDupSketch::add_hashes(const uint64_t* hashes, size_t n, std::vector<uin
 
 size_t NearDupSketch::add(std::string_view c, uint64_t salt, std::vector<uint32_t>& signature) const {
   if (c.empty()) return 0;
-  thread_local std::vector<uint32_t> starts, ends;
-  thread_local std::vector<uint64_t> hashes;
-  hashes.clear();
-  size_t n = static_cast<size_t>(o_.shingle_size);
+  thread_local std::vector<uint32_t> bounds;
   if (o_.unit == ShingleUnit::kWords) {
-    word_spans(c, starts, ends);
+    word_bounds(c, bounds);
   } else {
     // Code point boundaries: each code point is a "word" of the span logic.
-    starts.clear();
-    ends.clear();
+    bounds.clear();
     for (size_t i = 0; i < c.size();) {
       size_t len = 1;
       unsigned char b = static_cast<unsigned char>(c[i]);
       if (b >= 0xF0) len = 4;
       else if (b >= 0xE0) len = 3;
       else if (b >= 0xC0) len = 2;
-      starts.push_back(static_cast<uint32_t>(i));
+      bounds.push_back(static_cast<uint32_t>(i));
       i = std::min(c.size(), i + len);
-      ends.push_back(static_cast<uint32_t>(i));
+      bounds.push_back(static_cast<uint32_t>(i));
     }
   }
-  size_t units = starts.size();
+  return add_units(c, bounds.data(), bounds.size() / 2, salt, signature);
+}
+
+size_t NearDupSketch::add_text(std::string_view text, uint64_t salt, std::vector<uint32_t>& signature) const {
+  thread_local std::string c;
+  if (o_.unit != ShingleUnit::kWords) {
+    canonical(text, c);
+    return add(c, salt, signature);
+  }
+  thread_local std::vector<uint32_t> bounds;
+  bounds.resize(text.size() + 4);
+  size_t words = canonical_form<true>(text, c, bounds.data());
+  if (words == 0) return 0;
+  return add_units(c, bounds.data(), words, salt, signature);
+}
+
+size_t NearDupSketch::add_units(std::string_view c, const uint32_t* bounds, size_t units, uint64_t salt,
+                                std::vector<uint32_t>& signature) const {
+  thread_local std::vector<uint64_t> hashes;
+  size_t n = static_cast<size_t>(o_.shingle_size);
   size_t shingles = units >= n ? units - n + 1 : 1;
   hashes.resize(shingles);
   for (size_t k = 0; k < shingles; ++k) {
     size_t last = std::min(units, k + n) - 1;
-    hashes[k] = XXH3_64bits_withSeed(c.data() + starts[k], ends[last] - starts[k], salt);
+    hashes[k] = XXH3_64bits_withSeed(c.data() + bounds[2 * k], bounds[2 * last + 1] - bounds[2 * k], salt);
   }
   add_hashes(hashes.data(), hashes.size(), signature);
   return shingles;
@@ -191,68 +249,147 @@ void NearDupSketch::band_keys(const std::vector<uint32_t>& signature, uint64_t* 
 
 namespace {
 
-// Band keys of kept pairs: open addressing, linear probing, doubling at 3/4
-// load. A slot holds the whole 64-bit key (0 marks an empty slot) and the
-// index of the kept pair: 12 bytes. With whole keys, a different pair
-// matches only on a 64-bit collision (docs/near-duplicates.md).
-class BandTable {
+// One band's keys of kept pairs, each with the index of its kept pair, in
+// 8-byte slots: open addressing, Robin Hood linear probing, doubling at 3/4
+// load. Entries stand in order of their home slot, each no nearer the start
+// than its home, so a lookup stops at the first slot whose entry is nearer
+// its home than the probe (a miss, the common case, usually reads one cache
+// line), and an insert puts the entry where that lookup stopped and moves
+// the rest of the run one slot on (a short copy, not a chain of swaps).
+//
+// A table of 2^q slots keeps the top 58 bits of a key without storing all
+// of them: the top q bits are the home slot, and a slot holds
+//   [distance from home + 1: 6 bits][the next 58 - q key bits][kept: q bits]
+// (0 = empty). The kept pair's index fits in q bits because each kept pair
+// puts exactly one key in every band's table, so the index is below the
+// table's count, below 3/4 of 2^q. On doubling, the home slot (position -
+// distance) and the stored bits give back the 58 bits, and one more of them
+// moves from the slot into the home. Two keys are taken for equal when
+// their top 58 bits are: a false match needs a 58-bit collision within a
+// band (docs/near-duplicates.md has the arithmetic).
+class BandIndex {
  public:
-  BandTable() : slots_(size_t{1} << 16) {}
+  // Where a lookup stopped: the slot a missing key would take, and its
+  // distance + 1 there. Valid for insert() until the table changes.
+  struct Spot {
+    size_t pos = 0;
+    uint64_t d = 0;
+  };
 
-  // The kept pair holding `key`, or -1.
-  int64_t find(uint64_t key) const {
-    key = key == 0 ? 1 : key;
-    size_t mask = slots_.size() - 1;
-    for (size_t i = key & mask;; i = (i + 1) & mask) {
-      const Slot& s = slots_[i];
-      uint64_t k = s.key();
-      if (k == 0) return -1;
-      if (k == key) return s.kept;
-    }
-  }
-  // Starts loading the key's home slot (the table is far larger than the
+  BandIndex() : at_(kInitialLog2), slots_(at_.size()) {}
+
+  // The kept pair whose key agrees with `key` in its top 58 bits, or -1
+  // with `spot` set to where it would go.
+  int64_t find(uint64_t key, Spot& spot) const { return look(slots_, at_, key >> kDistBits, spot); }
+  // Starts loading the key's home slot (the tables are far larger than the
   // caches; a pair's lookups are issued a few pairs ahead).
-  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[(key == 0 ? 1 : key) & (slots_.size() - 1)]); }
-  // Inserts a key that find() did not find.
-  void insert(uint64_t key, uint32_t kept) {
-    if ((size_ + 1) * 4 > slots_.size() * 3) grow();
-    key = key == 0 ? 1 : key;
-    place(slots_, Slot{static_cast<uint32_t>(key), static_cast<uint32_t>(key >> 32), kept});
+  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[at_.home(key >> kDistBits)]); }
+  // Inserts a key that find() did not find, for kept pair `kept` (kept
+  // pairs are numbered 0, 1, 2, ... as they are inserted); `spot` is what
+  // that find() gave, the table unchanged since.
+  void insert(uint64_t key, uint64_t kept, Spot spot) {
+    uint64_t k = key >> kDistBits;
+    if ((size_ + 1) * 4 > slots_.size() * 3) {
+      grow();
+      look(slots_, at_, k, spot);
+    }
+    while (!shift_in(slots_, at_, k, kept, spot)) {  // a run too long for 6 bits (rare)
+      grow();
+      look(slots_, at_, k, spot);
+    }
     ++size_;
   }
-  size_t memory_bytes() const { return slots_.capacity() * sizeof(Slot); }
+  size_t memory_bytes() const { return slots_.capacity() * sizeof(uint64_t); }
 
  private:
-  struct Slot {
-    uint32_t lo = 0, hi = 0;  // the key, as two words: 12-byte slots
-    uint32_t kept = 0;
-    uint64_t key() const { return (uint64_t{hi} << 32) | lo; }
+  static constexpr int kDistBits = 6, kDistShift = 64 - kDistBits, kInitialLog2 = 12;
+  static constexpr uint64_t kMaxStored = (uint64_t{1} << kDistBits) - 1;  // distance + 1
+  static constexpr uint64_t kOneFurther = uint64_t{1} << kDistShift;
+
+  // Where the bits go in a table of 2^q slots.
+  struct Layout {
+    explicit Layout(int log2)
+        : q(log2),
+          w(64 - kDistBits - log2),
+          mask((size_t{1} << log2) - 1),
+          wmask((uint64_t{1} << w) - 1),
+          idmask((uint64_t{1} << log2) - 1) {}
+    size_t size() const { return mask + 1; }
+    size_t home(uint64_t k) const { return static_cast<size_t>(k >> w); }
+    int q, w;
+    size_t mask;
+    uint64_t wmask, idmask;
   };
-  static void place(HugeVector<Slot>& t, const Slot& s) {
-    size_t mask = t.size() - 1;
-    size_t i = s.key() & mask;
-    while (t[i].key() != 0) i = (i + 1) & mask;
-    t[i] = s;
+
+  // Looks up the 58-bit key k: the kept index, or -1 and where k would go.
+  static int64_t look(const HugeVector<uint64_t>& t, const Layout& at, uint64_t k, Spot& spot) {
+    size_t i = at.home(k);
+    uint64_t rem = k & at.wmask;
+    for (uint64_t d = 1;; ++d, i = (i + 1) & at.mask) {
+      uint64_t s = t[i];
+      uint64_t sd = s >> kDistShift;
+      if (sd < d) {  // empty (0), or an entry nearer its home: ours would be here
+        spot = Spot{i, d};
+        return -1;
+      }
+      if (sd == d && ((s >> at.q) & at.wmask) == rem) return static_cast<int64_t>(s & at.idmask);
+    }
   }
+  // Puts (k, kept) at `spot` and moves the entries from there to the next
+  // empty slot one slot on. False, with nothing changed, when a distance
+  // would not fit in its 6 bits.
+  static bool shift_in(HugeVector<uint64_t>& t, const Layout& at, uint64_t k, uint64_t kept, Spot spot) {
+    if (spot.d > kMaxStored) return false;
+    size_t e = spot.pos;
+    for (uint64_t s; (s = t[e]) != 0; e = (e + 1) & at.mask)
+      if ((s >> kDistShift) == kMaxStored) return false;
+    for (; e != spot.pos; e = (e - 1) & at.mask) t[e] = t[(e - 1) & at.mask] + kOneFurther;
+    t[spot.pos] = (spot.d << kDistShift) | ((k & at.wmask) << at.q) | kept;
+    return true;
+  }
+  // Doubles the table (or more, if an entry's run would not fit).
   void grow() {
-    HugeVector<Slot> bigger(slots_.size() * 2);
-    for (const Slot& s : slots_)
-      if (s.key() != 0) place(bigger, s);
-    slots_.swap(bigger);
+    for (int q = at_.q + 1;; ++q) {
+      Layout to(q);
+      HugeVector<uint64_t> bigger(to.size());
+      bool ok = true;
+      for (size_t i = 0; i < slots_.size() && ok; ++i) {
+        uint64_t s = slots_[i];
+        if (s == 0) continue;
+        // The 58-bit key from the home slot (position - distance) and the
+        // stored bits; the kept index as it is.
+        size_t home = (i - static_cast<size_t>((s >> kDistShift) - 1)) & at_.mask;
+        uint64_t k = (static_cast<uint64_t>(home) << at_.w) | ((s >> at_.q) & at_.wmask);
+        Spot spot;
+        look(bigger, to, k, spot);
+        ok = shift_in(bigger, to, k, s & at_.idmask, spot);
+      }
+      if (ok) {
+        at_ = to;
+        slots_.swap(bigger);
+        return;
+      }
+    }
   }
-  HugeVector<Slot> slots_;
+
+  Layout at_;
+  HugeVector<uint64_t> slots_;
   size_t size_ = 0;
 };
 
 class NearDupStage : public Stage {
  public:
   NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
-      : index_(ctx.index), pipeline_(ctx.pipeline), sketch_(o), scope_(scope) {}
+      : index_(ctx.index),
+        pipeline_(ctx.pipeline),
+        sketch_(o),
+        scope_(scope),
+        tables_(static_cast<size_t>(o.bands)),
+        spots_(static_cast<size_t>(o.bands)) {}
 
   void map(PairBatch& batch) override {
     size_t bands = static_cast<size_t>(sketch_.options().bands);
     batch.scratch.resize(batch.pairs.size() * bands);
-    std::string canon;
     std::vector<uint32_t> sig;
     uint64_t salt = sketch_.options().seed * 0xC2B2AE3D27D4EB4FULL;
     for (size_t i = 0; i < batch.pairs.size(); ++i) {
@@ -264,8 +401,7 @@ class NearDupStage : public Stage {
       size_t shingles = 0;
       for (int side = 0; side < 2; ++side) {
         if (scope_ != 2 && scope_ != side) continue;
-        NearDupSketch::canonical(p.text[static_cast<size_t>(side)], canon);
-        shingles += sketch_.add(canon, salt + static_cast<uint64_t>(side), sig);
+        shingles += sketch_.add_text(p.text[static_cast<size_t>(side)], salt + static_cast<uint64_t>(side), sig);
       }
       if (shingles == 0) continue;
       p.key[0] = 1;
@@ -279,7 +415,7 @@ class NearDupStage : public Stage {
     constexpr size_t kAhead = 4;
     auto prefetch = [&](size_t i) {
       if (i >= batch.pairs.size() || !batch.pairs[i].kept() || batch.pairs[i].key[0] == 0) return;
-      for (size_t b = 0; b < bands; ++b) table_.prefetch(batch.scratch[i * bands + b]);
+      for (size_t b = 0; b < bands; ++b) tables_[b].prefetch(batch.scratch[i * bands + b]);
     };
     for (size_t i = 0; i < kAhead; ++i) prefetch(i);
     for (size_t i = 0; i < batch.pairs.size(); ++i) {
@@ -290,7 +426,7 @@ class NearDupStage : public Stage {
       // The earliest kept pair sharing any band.
       int64_t match = -1;
       for (size_t b = 0; b < bands; ++b) {
-        int64_t k = table_.find(keys[b]);
+        int64_t k = tables_[b].find(keys[b], spots_[b]);
         if (k >= 0 && (match < 0 || k < match)) match = k;
       }
       if (match >= 0) {
@@ -298,17 +434,18 @@ class NearDupStage : public Stage {
         batch.drop(p, index_, "near-duplicate:" + pipeline_->origin(static_cast<uint32_t>(o >> 48), o & kLineMask));
         continue;
       }
-      uint32_t id = static_cast<uint32_t>(kept_.size());
+      uint64_t id = kept_.size();
       kept_.push_back((uint64_t{p.corpus} << 48) | (p.line & kLineMask));
-      // No band was found, and a pair's band keys differ (each holds its
-      // band's index).
-      for (size_t b = 0; b < bands; ++b) table_.insert(keys[b], id);
+      // No band was found: the pair's key goes into every band's table.
+      for (size_t b = 0; b < bands; ++b) tables_[b].insert(keys[b], id, spots_[b]);
     }
   }
 
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
-    return {{"kept_sketches", kept_.size()},
-            {"table_bytes", table_.memory_bytes() + kept_.capacity() * sizeof(uint64_t)}};
+    // The deque's blocks hold 64 values each (libstdc++: 512 bytes).
+    size_t bytes = (kept_.size() + 63) / 64 * 512;
+    for (const BandIndex& t : tables_) bytes += t.memory_bytes();
+    return {{"kept_sketches", kept_.size()}, {"table_bytes", bytes}};
   }
 
  private:
@@ -317,8 +454,11 @@ class NearDupStage : public Stage {
   const Pipeline* pipeline_;
   NearDupSketch sketch_;
   int scope_;  // 0 source, 1 target, 2 pair
-  BandTable table_;
-  std::vector<uint64_t> kept_;  // per kept pair: corpus << 48 | line
+  std::vector<BandIndex> tables_;  // one per band: a partitioned run can own some bands each
+  std::vector<BandIndex::Spot> spots_;  // where each band's lookup of the current pair stopped
+  // Per kept pair: corpus << 48 | line. A deque, not a vector: it grows
+  // by blocks, with no spare half and no copy at a doubling.
+  std::deque<uint64_t> kept_;
 };
 
 }  // namespace

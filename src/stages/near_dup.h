@@ -26,13 +26,16 @@
 // CORPUS:LINE with named corpora.
 //
 // map() computes signatures and band keys (pure, parallel); reduce() looks
-// the band keys up in one table in input order, so the result is the same
-// at any thread count. The table holds, per kept pair, `bands` slots of a
-// 32-bit key fingerprint and a 32-bit index of the kept pair, plus 8 bytes
-// naming the kept pair: about (bands x 8 / load + 8) bytes, load between
-// 3/8 and 3/4 (see docs/near-duplicates.md). A band key carries its band's
-// index, so a partitioned run can send each key to the partition that owns
-// its band (or its hash range) and resolve matches there.
+// the band keys up in input order, so the result is the same at any thread
+// count. Each band has its own table of the kept pairs' keys in that band:
+// 8-byte slots holding the kept pair's index and, with the slot's position,
+// the key's top 58 bits: bands x 8 / load + 8 bytes per kept pair (naming the
+// kept pair), load between 3/8 and 3/4, so 168 to 328 bytes with 15 bands
+// (docs/near-duplicates.md has the arithmetic, and why 64 is out of reach
+// while the reason names the kept line). The tables double one at a time,
+// so a doubling briefly adds 2/15 of the total, not twice it. One table per
+// band is also the split a partitioned run needs: each partition can own
+// some bands and resolve their keys there.
 #pragma once
 
 #include <cstdint>
@@ -66,6 +69,8 @@ class NearDupSketch {
   // Adds one side's shingles (from its canonical form) to the signature;
   // `salt` keeps the sides of a pair apart. Returns the number of shingles.
   size_t add(std::string_view canonical_text, uint64_t salt, std::vector<uint32_t>& signature) const;
+  // canonical() then add(), in one pass over the text for word shingles.
+  size_t add_text(std::string_view text, uint64_t salt, std::vector<uint32_t>& signature) const;
   // An empty signature (every value at its maximum) of bands x rows values.
   std::vector<uint32_t> empty() const;
   // The band keys of a signature, appended to `out`.
@@ -77,6 +82,11 @@ class NearDupSketch {
   const NearDupOptions& options() const { return o_; }
 
  private:
+  // Adds the shingles of `units` words (or code points) of canonical text
+  // c, word k spanning [bounds[2k], bounds[2k + 1]).
+  size_t add_units(std::string_view c, const uint32_t* bounds, size_t units, uint64_t salt,
+                   std::vector<uint32_t>& signature) const;
+
   NearDupOptions o_;
   std::vector<uint32_t> mul_, add_;
 };
