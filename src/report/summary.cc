@@ -124,24 +124,7 @@ static Status write_summary(const StepContext& in, int threads) {
   j["counts"] = {{"read", rec.read}, {"kept", rec.kept}, {"rejected", rec.rejected}};
   if (!rec.corpora.empty()) j["corpora"] = corpora_json(rec);
   ordered_json funnel = ordered_json::array();
-  for (const auto& s : rec.stages) {
-    ordered_json f = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};
-    ordered_json reasons = ordered_json::object(), examples = ordered_json::object();
-    for (const auto& [k, v] : s.reasons) reasons[k] = v;
-    for (const auto& [k, list] : s.examples) {
-      ordered_json a = ordered_json::array();
-      for (const auto& e : list) a.push_back({{"line", e.line}, {"reason", e.reason}, {"text", e.text}});
-      examples[k] = a;
-    }
-    f["rejected"] = reasons;
-    f["examples"] = examples;
-    if (!s.counters.empty()) {
-      ordered_json c = ordered_json::object();
-      for (const auto& [k, v] : s.counters) c[k] = v;
-      f["counters"] = c;
-    }
-    funnel.push_back(f);
-  }
+  for (const auto& s : rec.stages) funnel.push_back(stage_count_json(s, true));
   j["funnel"] = funnel;
 
   ordered_json splits = ordered_json::object();

@@ -35,6 +35,29 @@ nlohmann::ordered_json corpora_json(const RunRecord& r) {
   return all;
 }
 
+nlohmann::ordered_json stage_count_json(const StageCount& s, bool examples) {
+  using nlohmann::ordered_json;
+  ordered_json o = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};
+  ordered_json reasons = ordered_json::object();
+  for (const auto& [k, v] : s.reasons) reasons[k] = v;
+  o["rejected"] = reasons;
+  if (examples) {
+    ordered_json ex = ordered_json::object();
+    for (const auto& [k, list] : s.examples) {
+      ordered_json a = ordered_json::array();
+      for (const auto& e : list) a.push_back({{"line", e.line}, {"reason", e.reason}, {"text", e.text}});
+      ex[k] = a;
+    }
+    o["examples"] = ex;
+  }
+  if (!s.counters.empty()) {
+    ordered_json c = ordered_json::object();
+    for (const auto& [k, v] : s.counters) c[k] = v;
+    o["counters"] = c;
+  }
+  return o;
+}
+
 std::string run_record_json(const RunRecord& r) {
   using nlohmann::ordered_json;
   ordered_json j;
@@ -54,18 +77,7 @@ std::string run_record_json(const RunRecord& r) {
   j["counts"] = {{"read", r.read}, {"kept", r.kept}, {"rejected", r.rejected}};
   if (!r.corpora.empty()) j["corpora"] = corpora_json(r);
   ordered_json stages = ordered_json::array();
-  for (const auto& s : r.stages) {
-    ordered_json o = {{"name", s.name}, {"kind", s.kind}, {"in", s.in}, {"out", s.out}};
-    ordered_json reasons = ordered_json::object();
-    for (const auto& [k, v] : s.reasons) reasons[k] = v;
-    o["rejected"] = reasons;
-    if (!s.counters.empty()) {
-      ordered_json c = ordered_json::object();
-      for (const auto& [k, v] : s.counters) c[k] = v;
-      o["counters"] = c;
-    }
-    stages.push_back(o);
-  }
+  for (const auto& s : r.stages) stages.push_back(stage_count_json(s, false));
   j["stages"] = stages;
   ordered_json splits = ordered_json::object();
   for (const auto& [k, v] : r.splits) splits[k] = v;

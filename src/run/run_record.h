@@ -148,6 +148,8 @@ struct RunRecord {
 };
 
 std::string run_record_json(const RunRecord& r);
+// One stage's counts: name, kind, in, out, rejected, (examples,) counters.
+nlohmann::ordered_json stage_count_json(const StageCount& s, bool examples);
 // The steps' reports as JSON (manifest.json and summary.json).
 nlohmann::ordered_json vocabulary_json(const VocabularyReport& v);
 nlohmann::ordered_json shards_json(const ShardsReport& s);
