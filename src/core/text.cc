@@ -145,60 +145,111 @@ inline uint8_t class_at(const uint8_t* table, const uint8_t* p, int32_t n, int32
   return table[c];
 }
 
-// Classes of every code point of `s` with their byte offsets; false if a
-// character needs ICU.
-bool classify_simple(std::string_view s, std::vector<std::pair<uint32_t, uint8_t>>& out) {
-  const uint8_t* table = word_classes();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  out.clear();
-  while (i < n) {
-    int32_t at = i;
-    uint8_t k = class_at(table, p, n, i);
-    if (k == kOther) return false;
-    out.emplace_back(static_cast<uint32_t>(at), k);
-  }
-  return true;
+// The word rules of the fast path as one finite automaton over word
+// classes (rules WB3d, WB5-WB13b, WB999 as ICU's root rules apply them to
+// these classes). A word is a run of letters, digits and '_' (not a lone
+// '_'), joined across one mid-word character between two letters (WB6,
+// WB7) or two digits (WB11, WB12); a run of spaces is one segment (WB3d);
+// every other character is a segment of its own. Each step says whether a
+// boundary falls before the character, and whether a word is counted at it
+// (at its first character, or at its second when it starts with '_'). After
+// a mid-word character the automaton waits for the next one: if that does
+// not go on with the word, the mid-word character was a segment of its own
+// (a boundary before it too), and the character is read as if outside a
+// word. Segmenting, counting and the word status of cut_words are modes of
+// these same tables; tests/unit/text_reference_test.cc holds them to ICU.
+enum WordState : uint8_t {
+  kOut,
+  kInSpace,
+  kInLetter,
+  kInDigit,
+  kInUnderscore,
+  kLoneUnderscore,
+  kAfterLetterMid,
+  kAfterDigitMid,
+  kStates
+};
+constexpr uint8_t kStateBits = 0x0F;
+constexpr uint8_t kBreak = 0x10;     // a boundary before this character
+constexpr uint8_t kBreakMid = 0x20;  // and one before the waiting mid-word character
+constexpr uint8_t kCount = 0x80;     // a word is counted at this character
+struct WordAutomaton {
+  uint8_t next[kStates][16];  // the next state and the flags above
+  // Two characters at a time, for counting (classes c1 * 16 + c2): low 6
+  // bits: the state after both; high 2 bits: the words counted on the way.
+  uint8_t next2[kStates][256];
+};
+
+inline bool wordish(uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; }
+
+const WordAutomaton& word_automaton() {
+  static const WordAutomaton a = [] {
+    WordAutomaton t{};
+    for (uint8_t c = 0; c < 16; ++c) {
+      // Outside a word (and the row a waiting state falls back to).
+      uint8_t out = c == kLetter         ? uint8_t{kInLetter | kCount}
+                    : c == kDigit        ? uint8_t{kInDigit | kCount}
+                    : c == kExtendNumLet ? uint8_t{kLoneUnderscore}
+                    : c == kSpace        ? uint8_t{kInSpace}
+                                         : uint8_t{kOut};
+      t.next[kOut][c] = out | kBreak;
+      t.next[kInSpace][c] = c == kSpace ? uint8_t{kInSpace} : uint8_t(out | kBreak);
+      for (uint8_t st : {kInLetter, kInDigit, kInUnderscore, kLoneUnderscore}) {
+        uint8_t r;
+        if (c == kLetter)
+          r = kInLetter;
+        else if (c == kDigit)
+          r = kInDigit;
+        else if (c == kExtendNumLet)
+          r = kInUnderscore;
+        else if (st == kInLetter && (c == kMidLetter || c == kMidNumLet))
+          r = kAfterLetterMid;
+        else if (st == kInDigit && (c == kMidNum || c == kMidNumLet))
+          r = kAfterDigitMid;
+        else
+          r = out | kBreak;
+        // A run that started with '_' counts once it has a second character.
+        if (st == kLoneUnderscore && wordish(c)) r |= kCount;
+        t.next[st][c] = r;
+      }
+      t.next[kAfterLetterMid][c] = c == kLetter ? uint8_t{kInLetter} : uint8_t(out | kBreak | kBreakMid);
+      t.next[kAfterDigitMid][c] = c == kDigit ? uint8_t{kInDigit} : uint8_t(out | kBreak | kBreakMid);
+    }
+    for (uint8_t st = 0; st < kStates; ++st)
+      for (unsigned c = 0; c < 256; ++c) {
+        uint8_t r1 = t.next[st][c >> 4], r2 = t.next[r1 & kStateBits][c & 15];
+        t.next2[st][c] = static_cast<uint8_t>(((r1 >> 7) + (r2 >> 7)) << 6 | (r2 & kStateBits));
+      }
+    return t;
+  }();
+  return a;
 }
 
-// Segments classified text; fn(begin, end, is_word).
-template <typename Fn>
-void segment_simple(std::string_view s, const std::vector<std::pair<uint32_t, uint8_t>>& cls, Fn&& fn) {
-  size_t n = cls.size();
-  auto off = [&](size_t k) { return k < n ? static_cast<size_t>(cls[k].first) : s.size(); };
-  size_t k = 0;
-  while (k < n) {
-    uint8_t c = cls[k].second;
-    size_t start = k;
-    if (c == kSpace) {
-      while (k < n && cls[k].second == kSpace) ++k;
-      fn(off(start), off(k), false);
-      continue;
-    }
-    if (c == kLetter || c == kDigit || c == kExtendNumLet) {
-      bool word = true;
-      ++k;
-      while (k < n) {
-        uint8_t prev = cls[k - 1].second, cur = cls[k].second;
-        uint8_t next = k + 1 < n ? cls[k + 1].second : uint8_t{kOther};
-        if (cur == kLetter || cur == kDigit || cur == kExtendNumLet) {
-          ++k;
-        } else if ((cur == kMidLetter || cur == kMidNumLet) && prev == kLetter && next == kLetter) {
-          k += 2;
-        } else if ((cur == kMidNum || cur == kMidNumLet) && prev == kDigit && next == kDigit) {
-          k += 2;
-        } else {
-          break;
-        }
-      }
-      // ICU gives a run of '_' a word status only when it is longer than one.
-      if (c == kExtendNumLet && k - start == 1) word = false;
-      fn(off(start), off(k), word);
-      continue;
-    }
-    ++k;
-    fn(off(start), off(k), false);
+// Walks `s` through the automaton: on_break(offset) for every boundary
+// inside the text (in order), on_count() for every word, one call a
+// character. False as soon as a character needs ICU (what was reported
+// before then is to be thrown away).
+template <typename OnBreak, typename OnCount>
+bool walk_words(std::string_view s, OnBreak&& on_break, OnCount&& on_count) {
+  const uint8_t* table = word_classes();
+  const WordAutomaton& a = word_automaton();
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  int32_t n = static_cast<int32_t>(s.size()), i = 0, mid = 0;
+  uint8_t st = kOut;
+  while (i < n) {
+    int32_t at = i;
+    uint8_t c = class_at(table, p, n, i);
+    if (c == kOther) return false;
+    uint8_t r = a.next[st][c];
+    if ((r & kBreakMid) != 0) on_break(static_cast<uint32_t>(mid));
+    if ((r & kBreak) != 0 && at > 0) on_break(static_cast<uint32_t>(at));
+    if ((r & kCount) != 0) on_count();
+    st = r & kStateBits;
+    if (st == kAfterLetterMid || st == kAfterDigitMid) mid = at;
   }
+  // Text that ends on a waiting mid-word character: it is a segment of its own.
+  if (st == kAfterLetterMid || st == kAfterDigitMid) on_break(static_cast<uint32_t>(mid));
+  return true;
 }
 
 void cut_words_icu(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
@@ -215,73 +266,41 @@ void cut_words_icu(std::string_view s, const std::function<void(size_t, size_t, 
   utext_close(&ut);
 }
 
-thread_local std::vector<std::pair<uint32_t, uint8_t>> t_classes;
+thread_local std::vector<uint32_t> t_ends;
+thread_local std::vector<bool> t_word;
 
 }  // namespace
 
 void cut_words(std::string_view s, const std::function<void(size_t, size_t, bool)>& fn) {
-  if (classify_simple(s, t_classes)) {
-    segment_simple(s, t_classes, fn);
+  t_ends.clear();
+  t_word.assign(1, false);
+  bool fast = walk_words(
+      s,
+      [](uint32_t at) {
+        t_ends.push_back(at);
+        t_word.push_back(false);
+      },
+      [] { t_word.back() = true; });
+  if (!fast) {
+    cut_words_icu(s, fn);
     return;
   }
-  cut_words_icu(s, fn);
-}
-
-namespace {
-
-inline bool wordish(uint8_t c) { return c == kLetter || c == kDigit || c == kExtendNumLet; }
-
-// segment_simple's rules while decoding, with no class vector: the end of
-// every segment appended to `ends`. False (and `ends` as it was) if a
-// character needs ICU.
-bool segment_fast(std::string_view s, std::vector<uint32_t>& ends) {
-  const uint8_t* table = word_classes();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  size_t had = ends.size();
-  auto fail = [&] {
-    ends.resize(had);
-    return false;
-  };
-  while (i < n) {
-    uint8_t c = class_at(table, p, n, i);
-    if (c == kOther) return fail();
-    if (c == kSpace) {
-      while (i < n && p[i] == ' ') ++i;  // ' ' is the only character of this class
-    } else if (wordish(c)) {
-      // Letters, digits and '_', joined across one mid-word character
-      // between two letters (WB6, WB7) or two digits (WB11, WB12).
-      uint8_t prev = c;
-      while (i < n) {
-        int32_t j = i;
-        uint8_t d = class_at(table, p, n, j);
-        if (wordish(d)) {
-          prev = d;
-          i = j;
-          continue;
-        }
-        bool mid_letter = (d == kMidLetter || d == kMidNumLet) && prev == kLetter;
-        bool mid_num = (d == kMidNum || d == kMidNumLet) && prev == kDigit;
-        if (!(mid_letter || mid_num) || j >= n) break;
-        int32_t k = j;
-        uint8_t e = class_at(table, p, n, k);
-        if ((mid_letter && e == kLetter) || (mid_num && e == kDigit)) {
-          prev = e;
-          i = k;
-          continue;
-        }
-        break;
-      }
-    }
-    ends.push_back(static_cast<uint32_t>(i));
+  if (s.empty()) return;
+  t_ends.push_back(static_cast<uint32_t>(s.size()));
+  size_t begin = 0;
+  for (size_t k = 0; k < t_ends.size(); ++k) {
+    fn(begin, t_ends[k], t_word[k]);
+    begin = t_ends[k];
   }
-  return true;
 }
-
-}  // namespace
 
 void word_segment_ends(std::string_view s, std::vector<uint32_t>& ends) {
-  if (segment_fast(s, ends)) return;
+  size_t had = ends.size();
+  if (walk_words(s, [&](uint32_t at) { ends.push_back(at); }, [] {})) {
+    if (!s.empty()) ends.push_back(static_cast<uint32_t>(s.size()));
+    return;
+  }
+  ends.resize(had);
   cut_words_icu(s, [&](size_t, size_t e, bool) { ends.push_back(static_cast<uint32_t>(e)); });
 }
 
@@ -291,73 +310,8 @@ void cut_words_reference(std::string_view s, const std::function<void(size_t, si
 
 namespace {
 
-// Counting words as a finite automaton over word classes, with the rules of
-// segment_simple: a word is a run of letters, digits and '_' (not a lone
-// '_'), joined across one mid-word character between two letters (WB6, WB7)
-// or two digits (WB11, WB12). A word is counted at its first character, or
-// at its second when it starts with '_'. After a mid-word character the
-// automaton waits for the next one: if that does not go on with the word,
-// it is read as if outside a word (each waiting state's row is the outside
-// row for such characters), and the mid-word character was not part of it.
-enum WordState : uint8_t {
-  kOut,
-  kInLetter,
-  kInDigit,
-  kInUnderscore,
-  kLoneUnderscore,
-  kAfterLetterMid,
-  kAfterDigitMid,
-  kStates
-};
-struct WordAutomaton {
-  uint8_t next[kStates][16];  // low 7 bits: the next state; high bit: a word is counted here
-  // Two characters at a time (classes c1 * 16 + c2): low 6 bits: the state
-  // after both; high 2 bits: the words counted on the way.
-  uint8_t next2[kStates][256];
-};
-
-const WordAutomaton& word_automaton() {
-  static const WordAutomaton a = [] {
-    WordAutomaton t{};
-    constexpr uint8_t kCount = 0x80;
-    for (uint8_t c = 0; c < 16; ++c) {
-      uint8_t out = c == kLetter         ? uint8_t{kInLetter | kCount}
-                    : c == kDigit        ? uint8_t{kInDigit | kCount}
-                    : c == kExtendNumLet ? uint8_t{kLoneUnderscore}
-                                         : uint8_t{kOut};
-      t.next[kOut][c] = out;
-      for (uint8_t st : {kInLetter, kInDigit, kInUnderscore, kLoneUnderscore}) {
-        uint8_t r;
-        if (c == kLetter)
-          r = kInLetter;
-        else if (c == kDigit)
-          r = kInDigit;
-        else if (c == kExtendNumLet)
-          r = kInUnderscore;
-        else if (st == kInLetter && (c == kMidLetter || c == kMidNumLet))
-          r = kAfterLetterMid;
-        else if (st == kInDigit && (c == kMidNum || c == kMidNumLet))
-          r = kAfterDigitMid;
-        else
-          r = kOut;
-        // A run that started with '_' counts once it has a second character.
-        if (st == kLoneUnderscore && (c == kLetter || c == kDigit || c == kExtendNumLet)) r |= kCount;
-        t.next[st][c] = r;
-      }
-      t.next[kAfterLetterMid][c] = c == kLetter ? uint8_t{kInLetter} : out;
-      t.next[kAfterDigitMid][c] = c == kDigit ? uint8_t{kInDigit} : out;
-    }
-    for (uint8_t st = 0; st < kStates; ++st)
-      for (unsigned c = 0; c < 256; ++c) {
-        uint8_t r1 = t.next[st][c >> 4], r2 = t.next[r1 & 0x7F][c & 15];
-        t.next2[st][c] = static_cast<uint8_t>(((r1 >> 7) + (r2 >> 7)) << 6 | (r2 & 0x7F));
-      }
-    return t;
-  }();
-  return a;
-}
-
-// Counts words without storing classes; false if the text needs ICU.
+// Counts words with the automaton, two ASCII characters a step where it
+// can; false if the text needs ICU.
 bool count_words_fast(std::string_view s, size_t& count, size_t& chars) {
   const uint8_t* table = word_classes();
   const WordAutomaton& a = word_automaton();
@@ -378,19 +332,11 @@ bool count_words_fast(std::string_view s, size_t& count, size_t& chars) {
       steps += 2;
     }
     if (i >= n) break;
-    uint8_t c;
-    if (p[i] < 0x80) {
-      c = table[p[i++]];
-    } else {
-      UChar32 cp;
-      U8_NEXT(p, i, n, cp);
-      if (cp < 0 || cp > 0xFFFF) return false;
-      c = table[cp];
-    }
+    uint8_t c = class_at(table, p, n, i);
     if (c == kOther) return false;
     uint8_t r = a.next[st][c];
     words += r >> 7;
-    st = r & 0x7F;
+    st = r & kStateBits;
     ++steps;
   }
   if (other) return false;
