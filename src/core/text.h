@@ -50,6 +50,24 @@ inline AsciiRun ascii_run_at(const uint8_t* p) {
   r.mask = r.ascii == 8 ? ~uint64_t{0} : (uint64_t{1} << (8 * r.ascii)) - 1;
   return r;
 }
+// Bit-parallel tests on eight bytes at once. Each returns the high bit
+// (0x80) of every byte of `v` for which the test holds and no other bit: no
+// borrow or carry crosses from one byte into the next, so the answers are
+// exact (tests/unit/text_reference_test.cc checks them against a byte loop
+// on every byte value). The ascii_ tests are exact for bytes below 0x80;
+// mask the others out (AsciiRun::mask).
+inline constexpr uint64_t kEachByte = 0x0101010101010101ULL;
+inline constexpr uint64_t kHighBits = 0x8080808080808080ULL;
+inline uint64_t bytes_zero(uint64_t v) {
+  constexpr uint64_t low7 = 0x7F7F7F7F7F7F7F7FULL;
+  return ~(((v & low7) + low7) | v) & kHighBits;
+}
+inline uint64_t bytes_equal(uint64_t v, uint8_t c) { return bytes_zero(v ^ (kEachByte * c)); }
+// Bytes >= t, for t in 1..0x80 (a byte b < 0x80 plus 0x80 - t stays below
+// 0x100, and reaches 0x80 exactly when b >= t).
+inline uint64_t ascii_bytes_at_least(uint64_t v, uint8_t t) { return (v + kEachByte * (0x80u - t)) & kHighBits; }
+inline uint64_t ascii_bytes_below(uint64_t v, uint8_t t) { return ~ascii_bytes_at_least(v, t) & kHighBits; }
+
 // True when `s` is well-formed UTF-8 (no overlongs, surrogates, or values
 // above U+10FFFF).
 bool is_valid_utf8(std::string_view s);

@@ -71,18 +71,14 @@ bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) 
   bool prev_space = false;
   *valid = true;
   *safe = kNfcSafe | kNfkcSafe;
-  constexpr uint64_t kHigh = 0x8080808080808080ULL, kLow7 = 0x7F7F7F7F7F7F7F7FULL;
-  // The high bit of every byte of v that is zero, exactly (no borrows).
-  auto zero_bytes = [&](uint64_t v) { return ~(((v & kLow7) + kLow7) | v) & kHigh; };
   while (i < n) {
     // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at) when
     // they hold no control, no DEL and no two spaces in a row.
     if (i + 8 <= n) {
       AsciiRun w = ascii_run_at(p + i);
       if (w.ascii > 0) {
-        uint64_t bad =
-            ((~(w.word + 0x6060606060606060ULL) & kHigh) | zero_bytes(w.word ^ kLow7)) & w.mask;  // < 0x20, DEL
-        uint64_t sp = zero_bytes(w.word ^ 0x2020202020202020ULL) & w.mask;
+        uint64_t bad = (ascii_bytes_below(w.word, 0x20) | bytes_equal(w.word, 0x7F)) & w.mask;  // controls, DEL
+        uint64_t sp = bytes_equal(w.word, ' ') & w.mask;
         if (bad == 0 && (sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
           prev_space = (sp >> (8 * w.ascii - 1)) & 1;
           i += w.ascii;
@@ -129,14 +125,14 @@ bool ascii_clean(std::string_view in, bool casefold) {
     // Eight bytes at a time: no control byte, no DEL, no two spaces in a row.
     const char* p = in.data();
     size_t n = in.size(), i = 0;
-    constexpr uint64_t kOnes = 0x0101010101010101ULL, kHigh = 0x8080808080808080ULL;
-    auto has_zero = [&](uint64_t v) { return (v - kOnes) & ~v & kHigh; };
+    // The same exact tests as already_clean (core/text.h): a space before
+    // '!' is not two spaces.
     uint64_t prev_space = 0;
     for (; i + 8 <= n; i += 8) {
       uint64_t w;
       std::memcpy(&w, p + i, 8);
-      if (((w - 0x2020202020202020ULL) & ~w & kHigh) != 0 || has_zero(w ^ 0x7F7F7F7F7F7F7F7FULL) != 0) return false;
-      uint64_t sp = has_zero(w ^ 0x2020202020202020ULL);
+      if ((ascii_bytes_below(w, 0x20) | bytes_equal(w, 0x7F)) != 0) return false;
+      uint64_t sp = bytes_equal(w, ' ');
       if ((sp & (sp >> 8)) != 0 || (prev_space && (sp & 0x80))) return false;
       prev_space = sp >> 63;
     }

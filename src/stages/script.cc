@@ -112,16 +112,14 @@ ScriptCount ScriptTable::count(std::string_view text) const {
   ScriptCount r;
   const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
   int32_t n = static_cast<int32_t>(text.size()), i = 0;
-  constexpr uint64_t kHigh = 0x8080808080808080ULL;
   while (i < n) {
     // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at): a byte
-    // is a letter when, with the case bit set, it lies in 'a'..'z' (adding
-    // 0x1F sets its high bit from 'a' on, adding 0x05 from '{' on).
+    // is a letter when, with the case bit set, it lies in 'a'..'z'.
     if (i + 8 <= n) {
       AsciiRun w = ascii_run_at(p + i);
       if (w.ascii > 0) {
-        uint64_t x = w.word | 0x2020202020202020ULL;
-        uint64_t letters = (x + 0x1F1F1F1F1F1F1F1FULL) & ~(x + 0x0505050505050505ULL) & kHigh & w.mask;
+        uint64_t x = w.word | (kEachByte * 0x20);
+        uint64_t letters = ascii_bytes_at_least(x, 'a') & ascii_bytes_below(x, 'z' + 1) & w.mask;
         auto k = static_cast<uint32_t>(((letters >> 7) * 0x0101010101010101ULL) >> 56);  // sum of the bytes' flags
         r.letters += k;
         r.expected += latin_ ? k : 0;

@@ -262,3 +262,27 @@ TEST(Normalize, StageRewritesBothSidesWithTheirOwnForm) {
 
 }  // namespace
 }  // namespace sheaf
+
+namespace sheaf {
+namespace {
+
+// French puts a space before '!', '?', ':' and ';' (common practice of
+// French typography, no published source needed for the test's purpose):
+// such clean ASCII text is taken as it is, not copied. The old scan's
+// zero-byte test borrowed from a space into the '!' after it and saw two
+// spaces.
+TEST(Normalize, CleanAsciiWithSpaceBeforePunctuationIsNotCopied) {
+  TextNormalizer n(NormalizeOptions{});
+  for (const std::string in : {"Il dit : bonjour !", "Vraiment ? Oui ; non !", "a !b !c !d !e !f !g !h"}) {
+    std::string out;
+    size_t repairs = 0;
+    EXPECT_EQ(n.apply(in, 0, out, &repairs), TextNormalizer::Outcome::kUnchanged) << in;
+  }
+  std::string out;
+  size_t repairs = 0;
+  EXPECT_EQ(n.apply("two  spaces here", 0, out, &repairs), TextNormalizer::Outcome::kRewritten);
+  EXPECT_EQ(out, "two spaces here");
+}
+
+}  // namespace
+}  // namespace sheaf

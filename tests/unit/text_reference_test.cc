@@ -217,3 +217,44 @@ TEST(Hashes, MatchPublishedValuesForEmptyInput) {
 
 }  // namespace
 }  // namespace sheaf
+
+namespace sheaf {
+namespace {
+
+// The bit-parallel byte tests of core/text.h against a byte loop: every
+// byte value in every lane, beside every value in the lane below it (where
+// a borrow or carry would leak in), for every threshold.
+TEST(BitParallel, ByteTestsAreExactInEveryLane) {
+  for (int lane = 0; lane < 8; ++lane) {
+    for (unsigned b = 0; b < 256; ++b) {
+      for (unsigned below : {0u, 1u, 0x1Fu, 0x20u, 0x21u, 0x7Fu, 0x80u, 0xFFu}) {
+        uint64_t v = 0x4141414141414141ULL;  // 'A' elsewhere
+        v &= ~(uint64_t{0xFF} << (8 * lane));
+        v |= uint64_t{b} << (8 * lane);
+        if (lane > 0) {
+          v &= ~(uint64_t{0xFF} << (8 * (lane - 1)));
+          v |= uint64_t{below} << (8 * (lane - 1));
+        }
+        for (int k = 0; k < 8; ++k) {
+          uint8_t byte = static_cast<uint8_t>(v >> (8 * k));
+          uint64_t bit = uint64_t{0x80} << (8 * k);
+          ASSERT_EQ((bytes_zero(v) & bit) != 0, byte == 0) << std::hex << v;
+          ASSERT_EQ((bytes_equal(v, ' ') & bit) != 0, byte == ' ') << std::hex << v;
+          ASSERT_EQ((bytes_equal(v, 0x7F) & bit) != 0, byte == 0x7F) << std::hex << v;
+          if (byte >= 0x80) continue;  // the ascii_ tests speak of ASCII bytes only
+          uint64_t ascii_lanes = 0;
+          for (int m = 0; m < 8; ++m)
+            if (static_cast<uint8_t>(v >> (8 * m)) < 0x80) ascii_lanes |= uint64_t{0x80} << (8 * m);
+          if ((~ascii_lanes & kHighBits) != 0) continue;  // a non-ASCII byte elsewhere: masked in use
+          for (unsigned t : {1u, 0x20u, 0x21u, 0x61u, 0x7Bu, 0x80u}) {
+            ASSERT_EQ((ascii_bytes_at_least(v, static_cast<uint8_t>(t)) & bit) != 0, byte >= t) << std::hex << v;
+            ASSERT_EQ((ascii_bytes_below(v, static_cast<uint8_t>(t)) & bit) != 0, byte < t) << std::hex << v;
+          }
+        }
+      }
+    }
+  }
+}
+
+}  // namespace
+}  // namespace sheaf
