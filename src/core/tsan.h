@@ -34,25 +34,34 @@ inline void handoff_release(const void*) {}
 inline void handoff_acquire(const void*) {}
 #endif
 
-// The edges of a run of a oneTBB algorithm (a parallel_pipeline, a
-// parallel_for): everything the calling thread did before the call happens
-// before every body, and every body happens before everything after the
-// call, whether it returns or throws. A body must take its edge before it
-// reads anything the calling thread wrote, its own captures included, so the
-// edges are one pair for the process rather than one per run; runs on
-// different threads at once (sheaf has none) would be ordered more than
-// oneTBB orders them, never less.
+// The edges of a run of a oneTBB pipeline: everything the calling thread did
+// before the call happens before every filter body, and every body happens
+// before everything after the call, whether it returns or throws. A body
+// must take its edge before it reads anything the calling thread wrote, its
+// own captures included, so the edges are one pair for the process rather
+// than one per run; runs on different threads at once (sheaf has none) would
+// be ordered more than oneTBB orders them, never less.
 //
-//   arena.execute([&] {
-//     TaskRun run;
-//     tbb::parallel_for(range, [&](auto& r) { TaskBody body; ... });
-//   });
+//   pool.run_pipeline(                       // a TaskRun around the call
+//       tbb::make_filter<void, Batch*>(serial_in_order, [&](tbb::flow_control& fc) {
+//         TaskBody body;
+//         SerialTurn turn(&reader);          // the state serial calls share
+//         Batch* b = pool.acquire();         // handed over by the pool
+//         ...
+//         handoff_release(b);
+//         return b;
+//       }) &
+//       tbb::make_filter<Batch*, void>(parallel, [&](Batch* b) {
+//         TaskBody body;
+//         handoff_acquire(b);
+//         ...
+//         pool.release(b);
+//       }));
 //
-// BatchPool::run_pipeline does the TaskRun of a pipeline. A serial filter's
-// body also takes a SerialTurn on the state its invocations pass on to one
-// another (oneTBB runs them one after another, on any thread). A batch passed
-// from filter to filter is handed on with handoff_release(batch) before the
-// return and handoff_acquire(batch) at the top of the next filter.
+// tbb::parallel_for cannot be annotated this way: its task tree lives in
+// oneTBB's headers and is handed over inside libtbb after a body's last line,
+// which TSan reports as races in oneTBB's own code (docs/reliability.md).
+
 namespace tsan_detail {
 inline char run_start, run_end;  // only their addresses are used
 }  // namespace tsan_detail
