@@ -12,6 +12,7 @@
 
 #include "core/batch_pool.h"
 #include "core/text.h"
+#include "core/tsan.h"
 #include "io/line_blocks.h"
 #include "io/output_file.h"
 
@@ -134,10 +135,11 @@ class Pass1WriterImpl {
       tbb::task_arena arena(threads);
       try {
         arena.execute([&] {
-          tbb::parallel_pipeline(
-              pool.size(),
+          pool.run_pipeline(
               line_block_source(in, carry, pool, 1 << 18, [](std::string& block) -> std::string& { return block; }) &
                   tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
+                    TaskBody body;
+                    handoff_acquire(block);
                     std::vector<uint64_t>& mine = hits.local();
                     Pair p;
                     for_each_line(*block, [&](std::string_view line) {

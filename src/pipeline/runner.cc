@@ -1,6 +1,5 @@
 #include "pipeline/runner.h"
 
-#include <oneapi/tbb/concurrent_queue.h>
 #include <oneapi/tbb/parallel_pipeline.h>
 #include <oneapi/tbb/task_arena.h>
 #include <xxhash.h>
@@ -9,8 +8,10 @@
 #include <memory>
 #include <thread>
 
+#include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "core/text.h"
+#include "core/tsan.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
 #include "pipeline/pass1_writer.h"
@@ -189,12 +190,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   int threads = o.threads > 0 ? o.threads : static_cast<int>(std::thread::hardware_concurrency());
   if (threads < 1) threads = 1;
   size_t tokens = static_cast<size_t>(threads) * 4;
-  std::vector<std::unique_ptr<PairBatch>> pool;
-  tbb::concurrent_bounded_queue<PairBatch*> free_batches;
-  for (size_t i = 0; i < tokens; ++i) {
-    pool.push_back(std::make_unique<PairBatch>());
-    free_batches.push(pool.back().get());
-  }
+  BatchPool<PairBatch> pool(tokens);
 
   std::atomic<uint64_t> bytes_read{0}, pairs_read{0};
   Progress progress(o.progress, bytes_read, pairs_read);
@@ -203,44 +199,55 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
 
   auto first =
       tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
+        TaskBody body;
+        SerialTurn turn(&rd);
         throw_if_interrupted();
-        PairBatch* b = nullptr;
-        free_batches.pop(b);
+        PairBatch* b = pool.acquire();
         b->pairs.clear();
         b->raw.clear();
         b->raw_target.clear();
         b->arena.reset();
         auto more = rd.next(*b, o.batch_pairs, 4 << 20);
         if (!more.ok()) {
-          free_batches.push(b);
+          pool.release(b);
           throw ErrorException{more.error()};
         }
         if (!*more) {
-          free_batches.push(b);
+          pool.release(b);
           fc.stop();
           return nullptr;
         }
         b->seq = seq++;
         bytes_read = rd.consumed();
         pairs_read += b->pairs.size();
+        handoff_release(b);
         return b;
       });
   tbb::filter<void, PairBatch*> chain = first;
   for (auto& s : stages) {
     Stage* st = s.get();
     chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [st](PairBatch* b) {
+              TaskBody body;
+              handoff_acquire(b);
               st->map(*b);
+              handoff_release(b);
               return b;
             });
     if (st->has_reduce())
       chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::serial_in_order, [st](PairBatch* b) {
+                TaskBody body;
+                SerialTurn turn(st);
+                handoff_acquire(b);
                 st->reduce(*b);
+                handoff_release(b);
                 return b;
               });
   }
   // The output check (a field must never break the TSV it is written to) and
   // the lengths for the summary, in parallel; then the writer, in order.
   chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [](PairBatch* b) {
+            TaskBody body;
+            handoff_acquire(b);
             for (Pair& pr : b->pairs) {
               if (!pr.kept()) continue;
               for (int side = 0; side < 2 && pr.kept(); ++side)
@@ -253,18 +260,22 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                 if (pr.words[side] == kUnmeasured) pr.words[side] = static_cast<uint32_t>(count_words(pr.text[side]));
               }
             }
+            handoff_release(b);
             return b;
           });
   auto last_filter = tbb::make_filter<PairBatch*, void>(tbb::filter_mode::serial_in_order, [&](PairBatch* b) {
+    TaskBody body;
+    SerialTurn turn(&writer);
+    handoff_acquire(b);
     writer.take(*b);
-    free_batches.push(b);
+    pool.release(b);
     if (auto st = writer.status(); !st.ok()) throw ErrorException{st.error()};
   });
 
   Status failed;
   try {
     tbb::task_arena arena(threads);
-    arena.execute([&] { tbb::parallel_pipeline(tokens, chain & last_filter); });
+    arena.execute([&] { pool.run_pipeline(chain & last_filter); });
   } catch (const ErrorException& e) {
     failed = e.error;
   }

@@ -12,6 +12,7 @@
 
 #include "core/text.h"
 #include "core/batch_pool.h"
+#include "core/tsan.h"
 #include "io/output_file.h"
 #include "report/html_report.h"
 #include "core/stats.h"
@@ -58,10 +59,11 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
   BatchPool<std::vector<std::string>> pool(static_cast<size_t>(threads) * 4);
   tbb::task_arena arena(threads);
   arena.execute([&] {
-    tbb::parallel_pipeline(
-        pool.size(),
+    pool.run_pipeline(
         tbb::make_filter<void, std::vector<std::string>*>(tbb::filter_mode::serial_in_order,
                                                           [&](tbb::flow_control& fc) -> std::vector<std::string>* {
+                                                            TaskBody body;
+                                                            SerialTurn turn(&in);
                                                             std::vector<std::string>* b = pool.acquire();
                                                             b->clear();
                                                             std::string line;
@@ -72,9 +74,12 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
                                                               fc.stop();
                                                               return nullptr;
                                                             }
+                                                            handoff_release(b);
                                                             return b;
                                                           }) &
             tbb::make_filter<std::vector<std::string>*, void>(tbb::filter_mode::parallel, [&](std::vector<std::string>* b) {
+              TaskBody body;
+              handoff_acquire(b);
               SplitStats& st = local.local();
               for (const auto& line : *b) {
                 size_t tab = line.find('\t');

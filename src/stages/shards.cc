@@ -14,6 +14,7 @@
 
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
+#include "core/tsan.h"
 #include "io/line_blocks.h"
 #include "core/stats.h"
 #include "core/text.h"
@@ -175,10 +176,12 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
     BatchPool<Encoded> pool(static_cast<size_t>(threads) * 4);
     try {
       arena.execute([&] {
-        tbb::parallel_pipeline(
-            pool.size(), line_block_source(file, carry, pool, 1 << 20, [](Encoded& e) -> std::string& {
+        pool.run_pipeline(
+            line_block_source(file, carry, pool, 1 << 20, [](Encoded& e) -> std::string& {
                            return e.text;
                          }) & tbb::make_filter<Encoded*, Encoded*>(tbb::filter_mode::parallel, [&](Encoded* e) {
+                           TaskBody body;
+                           handoff_acquire(e);
                            for (int s = 0; s < 2; ++s) {
                              e->ids[s].clear();
                              e->ends[s].clear();
@@ -196,8 +199,12 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
                                e->ends[s].push_back(ids.size());
                              }
                            });
+                           handoff_release(e);
                            return e;
                          }) & tbb::make_filter<Encoded*, void>(tbb::filter_mode::serial_in_order, [&](Encoded* e) {
+                           TaskBody body;
+                           SerialTurn turn(&writer);
+                           handoff_acquire(e);
                            for (int s = 0; s < 2; ++s) {
                              totals[s].tokens += e->stats[s].tokens;
                              totals[s].byte_tokens += e->stats[s].byte_tokens;

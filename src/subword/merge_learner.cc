@@ -7,6 +7,7 @@
 #include <memory>
 
 #include "core/batch_pool.h"
+#include "core/tsan.h"
 #include "subword/pair_map.h"
 
 namespace sheaf {
@@ -203,10 +204,11 @@ class Learner {
     }
     size_t next = 0;
     arena_->execute([&] {
-      tbb::parallel_pipeline(
-          free_.size(),
+      free_.run_pipeline(
           tbb::make_filter<void, Block*>(tbb::filter_mode::serial_in_order,
                                          [&](tbb::flow_control& fc) -> Block* {
+                                           TaskBody body;
+                                           SerialTurn turn(&next);
                                            if (next >= holders.size()) {
                                              fc.stop();
                                              return nullptr;
@@ -214,14 +216,21 @@ class Learner {
                                            Block* blk = free_.acquire();
                                            blk->begin = next;
                                            blk->end = next = std::min(holders.size(), next + kBlockWords);
+                                           handoff_release(blk);
                                            return blk;
                                          }) &
               tbb::make_filter<Block*, Block*>(tbb::filter_mode::parallel,
                                                [&](Block* blk) {
+                                                 TaskBody body;
+                                                 handoff_acquire(blk);
                                                  rewrite(*blk);
+                                                 handoff_release(blk);
                                                  return blk;
                                                }) &
               tbb::make_filter<Block*, void>(tbb::filter_mode::serial_in_order, [&](Block* blk) {
+                TaskBody body;
+                SerialTurn turn(this);
+                handoff_acquire(blk);
                 apply(blk->deltas);
                 free_.release(blk);
               }));

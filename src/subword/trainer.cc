@@ -16,6 +16,7 @@
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "core/text.h"
+#include "core/tsan.h"
 #include "io/line_blocks.h"
 #include "subword/merge_learner.h"
 #include "subword/unit_counter.h"
@@ -67,6 +68,8 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
     std::string carry;
     BatchPool<UnitBlock> pool(static_cast<size_t>(threads) * 4);
     auto cut = [&](UnitBlock* b) {
+      TaskBody body;
+      handoff_acquire(b);
       thread_local std::vector<uint32_t> ends;
       b->parts.resize(parts);
       for (auto& p : b->parts) p.clear();
@@ -85,6 +88,7 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
           }
         }
       });
+      handoff_release(b);
       return b;
     };
     tbb::filter<void, UnitBlock*> chain =
@@ -93,14 +97,20 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
     for (size_t p = 0; p < parts; ++p)
       chain = chain &
               tbb::make_filter<UnitBlock*, UnitBlock*>(tbb::filter_mode::serial_in_order, [&counts, p](UnitBlock* b) {
+                TaskBody body;
+                SerialTurn turn(&counts.part(p));
+                handoff_acquire(b);
                 counts.part(p).add(b->text, b->parts[p]);
+                handoff_release(b);
                 return b;
               });
     tbb::task_arena arena(threads);
     arena.execute([&] {
-      tbb::parallel_pipeline(pool.size(),
-                             chain & tbb::make_filter<UnitBlock*, void>(tbb::filter_mode::parallel,
-                                                                        [&](UnitBlock* b) { pool.release(b); }));
+      pool.run_pipeline(chain & tbb::make_filter<UnitBlock*, void>(tbb::filter_mode::parallel, [&](UnitBlock* b) {
+                               TaskBody body;
+                               handoff_acquire(b);
+                               pool.release(b);
+                             }));
     });
   }
   return {};
