@@ -12,6 +12,7 @@
 #include <xxhash.h>
 
 #include <algorithm>
+#include <initializer_list>
 #include <atomic>
 #include <map>
 #include <memory>
@@ -19,6 +20,7 @@
 #include <vector>
 
 #include "stages/own_text.h"
+#include "stages/word_lists.h"
 
 namespace sheaf {
 
@@ -44,6 +46,27 @@ std::vector<std::string> related_languages(std::string_view lang) {
   for (const auto& g : kGroups)
     if (g[0] == l) return {g.begin() + 1, g.end()};
   return {};
+}
+
+std::vector<std::string> family_languages(std::string_view lang) {
+  // Language families whose members share much vocabulary and spelling, so
+  // that CLD2's n-grams often cannot place a short line of one among the
+  // others (general linguistic grouping, from memory; no per-language
+  // tuning): only the word test reads this list.
+  static const std::vector<std::vector<std::string>> kFamilies = {
+      {"es", "pt", "gl", "ca", "it", "fr", "ro", "oc"},  // Romance
+      {"cs", "sk", "pl", "sl", "hr", "bs", "sr"},        // West and South Slavic, Latin script
+      {"ru", "uk", "be", "bg", "mk", "sr"},              // East and South Slavic, Cyrillic script
+      {"de", "nl", "af", "da", "no", "nb", "nn", "sv", "is", "fo"},  // Germanic
+      {"id", "ms"},
+  };
+  std::string l = primary(lang);
+  std::vector<std::string> out;
+  for (const auto& f : kFamilies)
+    if (std::find(f.begin(), f.end(), l) != f.end())
+      for (const auto& m : f)
+        if (m != l && std::find(out.begin(), out.end(), m) == out.end()) out.push_back(m);
+  return out;
 }
 
 LanguageGuess identify_language(std::string_view text, std::string_view hint) {
@@ -195,18 +218,22 @@ constexpr size_t kMaxBytes = 160;
 class LanguageStage : public Stage {
  public:
   LanguageStage(const StageContext& ctx, int64_t min_letters, int64_t min_share, std::vector<std::string> accept[2],
-                std::string lang[2])
-      : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)), min_share_(static_cast<int>(min_share)) {
+                std::string lang[2], std::string dictionaries)
+      : index_(ctx.index),
+        min_letters_(static_cast<size_t>(min_letters)),
+        min_share_(static_cast<int>(min_share)),
+        dir_(std::move(dictionaries)) {
     for (int s = 0; s < 2; ++s) {
       accept_[s] = std::move(accept[s]);
       lang_[s] = std::move(lang[s]);
       key_[s] = language_key(lang_[s]);
+      words_[s] = find_word_list(dir_, lang_[s]);
     }
   }
   void map(PairBatch& batch) override {
     std::string owns[2];
     size_t letters[2];
-    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0};
+    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, worded[2] = {0, 0};
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       own_texts(p.text[0], p.text[1], owns, letters);
@@ -236,14 +263,16 @@ class LanguageStage : public Stage {
         uint64_t h = XXH3_64bits_withSeed(own.data(), own.size(), id_ * 2 + static_cast<uint64_t>(side)) | 1;
         CachedVerdict& slot = cache()[h & (kCacheSlots - 1)];
         if (slot.key != h) {
-          uint64_t asked_again = 0;
+          Asked asked;
           slot.key = h;
-          slot.code = verdict(side, own, asked_again);
-          slot.rechecked = asked_again != 0;
+          slot.code = verdict(side, own, asked);
+          slot.rechecked = asked.again;
+          slot.worded = asked.words;
         }
         // Counted whether or not the table answered, so that the counters
         // do not depend on how batches fall to threads.
         rechecked[side] += slot.rechecked;
+        worded[side] += slot.worded;
         if (slot.code.empty()) continue;
         batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + slot.code);
       }
@@ -253,6 +282,7 @@ class LanguageStage : public Stage {
       settled_[s].fetch_add(settled[s], std::memory_order_relaxed);
       few_[s].fetch_add(few[s], std::memory_order_relaxed);
       rechecked_[s].fetch_add(rechecked[s], std::memory_order_relaxed);
+      worded_[s].fetch_add(worded[s], std::memory_order_relaxed);
     }
   }
 
@@ -263,6 +293,7 @@ class LanguageStage : public Stage {
       c.emplace_back(std::string("settled-by-script:") + side_name(s), settled_[s].load());
       c.emplace_back(std::string("too-few-letters:") + side_name(s), few_[s].load());
       c.emplace_back(std::string("rechecked:") + side_name(s), rechecked_[s].load());
+      c.emplace_back(std::string("words-decided:") + side_name(s), worded_[s].load());
     }
     return c;
   }
@@ -272,6 +303,7 @@ class LanguageStage : public Stage {
     uint64_t key = 0;
     std::string code;        // the language found, empty: keep
     bool rechecked = false;  // the verdict needed a second question
+    bool worded = false;     // the dictionaries decided it
   };
   static constexpr size_t kCacheSlots = 4096;
   static std::vector<CachedVerdict>& cache() {
@@ -279,21 +311,58 @@ class LanguageStage : public Stage {
     return c;
   }
 
+  // What went into a verdict beyond CLD2's first answer (for the counters).
+  struct Asked {
+    bool again = false;  // a second, hinted question
+    bool words = false;  // the dictionaries settled it
+  };
+
+  // What the words of a side's own text say between the side's language and
+  // `found` (a CLD2 code), when both have a spelling dictionary: kFound when
+  // words only `found` spells outnumber those only the side's language
+  // spells more than twice (and there is at least one; with `strict`, at
+  // least two and none of the side's language's), kOwn in the mirror case,
+  // kNothing otherwise. Words both spell, or neither (names, terms, other
+  // languages), say nothing. A rule of thumb (common practice, no published
+  // source), the same for every language; docs/quality.md measures it.
+  enum class Words { kNothing, kOwn, kFound };
+  Words words_say(int side, const std::string& own, const std::string& found, size_t strict,
+                  size_t* only_found = nullptr) const {
+    const WordList* mine = words_[side];
+    if (mine == nullptr) return Words::kNothing;
+    const WordList* theirs = find_word_list(dir_, found);
+    if (theirs == nullptr || theirs == mine) return Words::kNothing;
+    WordEvidence e = word_cache().compare(dictionary_words(own, kMaxWords), mine, theirs);
+    if (only_found) *only_found = e.only_second;
+    if (strict ? e.only_second >= strict && e.only_first == 0 : e.only_second > 2 * e.only_first) return Words::kFound;
+    if (e.only_first > 2 * e.only_second) return Words::kOwn;
+    return Words::kNothing;
+  }
+  static WordCache& word_cache() {
+    thread_local WordCache c;
+    return c;
+  }
+  static constexpr size_t kMaxWords = 32;
+
   // CLD2's verdict on a side's own text: the code of the other language it
   // confidently finds, or empty to keep the pair.
-  std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
+  std::string verdict(int side, const std::string& own, Asked& asked) const {
     LanguageGuess g = identify_language(own);
     if (!g.reliable || g.code[0] == "un") {
       // CLD2 cannot place the text. Told which language to expect, it
       // favours that one; a confident answer for another language even so
       // is a verdict (and needs no second hinted question).
-      ++rechecked;
+      asked.again = true;
       LanguageGuess h = identify_language(own, lang_[side]);
       std::string found = language_key(h.code[0]);
-      if (!h.reliable || found == "un" || accepted(side, found) || h.percent[0] < min_share_) return {};
-      LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
-      if (e.for_own > 0 && e.for_found == 0) return {};
-      return h.code[0];
+      if (h.reliable && found != "un" && !accepted(side, found) && h.percent[0] >= min_share_) {
+        LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
+        if (!(e.for_own > 0 && e.for_found == 0)) return h.code[0];
+      }
+      // Nor can it with the hint: the words may still tell. The candidates
+      // are the languages CLD2 named in either answer and the side's close
+      // relatives; without CLD2's support the words must be plain (strict).
+      return words_verdict(side, own, {&g, &h}, 2, asked);
     }
     if (g.percent[0] < min_share_) return {};
     std::string top = language_key(g.code[0]);
@@ -306,16 +375,56 @@ class LanguageStage : public Stage {
     // and answers English for text it cannot place (compact_lang_det.h).
     // So the letters have a say: letters only the found language writes
     // confirm the verdict, letters only the side's language writes
-    // overturn it; when they say nothing (or both), CLD2 is asked again,
-    // told which language to expect, and the verdict must stand.
+    // overturn it. When they say nothing (or both), the words decide if
+    // both languages have a dictionary; else CLD2 is asked again, told
+    // which language to expect, and the verdict must stand.
     LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(top));
     if (e.for_own > 0 && e.for_found == 0) return {};
     if (!(e.for_found > 0 && e.for_own == 0)) {
-      ++rechecked;
+      Words w = words_say(side, own, g.code[0], 0);
+      if (w != Words::kNothing) {
+        asked.words = true;
+        return w == Words::kFound ? g.code[0] : std::string();
+      }
+      // The words neither back nor deny CLD2's language (it answers English
+      // for text it cannot place): CLD2 has reliably said "not the side's
+      // language", so one plain word of a family language is enough.
+      std::string other = words_verdict(side, own, {&g}, 1, asked);
+      if (!other.empty()) return other;
+      asked.again = true;
       LanguageGuess h = identify_language(own, lang_[side]);
       if (!h.reliable || language_key(h.code[0]) != top || h.percent[0] < min_share_) return {};
     }
     return g.code[0];
+  }
+
+  // The strict word test against each candidate language (CLD2's answers'
+  // languages, then the side's close relatives), in that order; the first
+  // the words plainly favour is the verdict.
+  std::string words_verdict(int side, const std::string& own, std::initializer_list<const LanguageGuess*> guesses,
+                            size_t min_only, Asked& asked) const {
+    if (words_[side] == nullptr) return {};
+    std::vector<std::string> cands;
+    auto add = [&](const std::string& code) {
+      std::string k = language_key(code);
+      if (k == "un" || k.empty() || accepted(side, k)) return;
+      if (std::find(cands.begin(), cands.end(), code) == cands.end()) cands.push_back(code);
+    };
+    for (const LanguageGuess* g : guesses)
+      for (int k = 0; k < 3; ++k) add(g->code[k]);
+    for (const auto& r : related_languages(lang_[side])) add(r);
+    for (const auto& r : family_languages(lang_[side])) add(r);
+    std::string best;
+    size_t best_only = 0;
+    for (const auto& c : cands) {
+      size_t only = 0;
+      if (words_say(side, own, c, min_only, &only) == Words::kFound && only > best_only) {
+        best = c;
+        best_only = only;
+      }
+    }
+    asked.words = !best.empty();
+    return best;
   }
 
   bool accepted(int side, const std::string& key) const {
@@ -326,7 +435,9 @@ class LanguageStage : public Stage {
   int min_share_;
   std::vector<std::string> accept_[2];  // language keys accepted per side
   std::string lang_[2], key_[2];
-  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{};
+  std::string dir_;                    // spelling dictionaries ("" none)
+  const WordList* words_[2] = {nullptr, nullptr};  // each side's own, or nullptr
+  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{}, worded_[2]{};
   // Tells this stage's cached verdicts from another's (each stage object
   // has its own, so two stages or two runs in one process never share).
   uint64_t id_ = next_id();
@@ -353,6 +464,8 @@ const StageKind& language_kind() {
            "further language codes accepted on the source side"},
           {"target_accept", FieldType::kStringList, std::vector<std::string>{},
            "further language codes accepted on the target side"},
+          {"dictionaries", FieldType::kString, std::string("/usr/share/hunspell"),
+           "directory of spelling dictionaries (LL_CC.aff/.dic) for a word-level second opinion; \"\": none"},
       }};
   return k;
 }
@@ -376,8 +489,8 @@ Result<std::unique_ptr<Stage>> make_language(const StageContext& ctx) {
     for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(language_key(a));
   }
   std::string langs[2] = {ctx.pipeline->corpus.source_lang, ctx.pipeline->corpus.target_lang};
-  return std::unique_ptr<Stage>(
-      std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), p.integer("min_share"), accept, langs));
+  return std::unique_ptr<Stage>(std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), p.integer("min_share"),
+                                                                accept, langs, p.text("dictionaries")));
 }
 
 }  // namespace sheaf

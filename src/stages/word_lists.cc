@@ -1,0 +1,183 @@
+#include "stages/word_lists.h"
+
+#include <hunspell/hunspell.hxx>
+#include <unicode/uchar.h>
+#include <unicode/ucnv.h>
+#include <unicode/ustring.h>
+#include <unicode/utf8.h>
+#include <xxhash.h>
+
+#include <algorithm>
+#include <cctype>
+#include <filesystem>
+#include <map>
+#include <memory>
+#include <mutex>
+
+namespace sheaf {
+
+class WordList {
+ public:
+  WordList(std::string name, const std::string& aff, const std::string& dic)
+      : name_(std::move(name)), dict_(aff.c_str(), dic.c_str()) {
+    std::string enc = dict_.get_dict_encoding();
+    std::string upper = enc;
+    for (char& c : upper) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+    if (upper != "UTF-8" && upper != "UTF8") {
+      UErrorCode st = U_ZERO_ERROR;
+      conv_ = ucnv_open(enc.c_str(), &st);
+      if (U_FAILURE(st)) {
+        conv_ = nullptr;
+        broken_ = true;  // an encoding ICU does not know: this list says nothing
+      } else {
+        ucnv_setFromUCallBack(conv_, UCNV_FROM_U_CALLBACK_STOP, nullptr, nullptr, nullptr, &st);
+      }
+    }
+  }
+  ~WordList() {
+    if (conv_) ucnv_close(conv_);
+  }
+  const std::string& name() const { return name_; }
+
+  bool accepts(std::string_view word) {
+    std::lock_guard<std::mutex> lock(mu_);
+    if (broken_) return false;
+    if (!conv_) return dict_.spell(std::string(word));
+    // The dictionary's own 8-bit encoding (pl_PL is ISO 8859-2): a word it
+    // cannot spell in that encoding is not one of its words.
+    UErrorCode st = U_ZERO_ERROR;
+    UChar u[128];
+    int32_t ulen = 0;
+    u_strFromUTF8(u, 128, &ulen, word.data(), static_cast<int32_t>(word.size()), &st);
+    if (U_FAILURE(st) || ulen > 128) return false;
+    char out[256];
+    int32_t n = ucnv_fromUChars(conv_, out, sizeof out, u, ulen, &st);
+    if (U_FAILURE(st) || n >= static_cast<int32_t>(sizeof out)) return false;
+    return dict_.spell(std::string(out, static_cast<size_t>(n)));
+  }
+
+ private:
+  std::string name_;
+  std::mutex mu_;
+  Hunspell dict_;
+  UConverter* conv_ = nullptr;
+  bool broken_ = false;
+};
+
+namespace {
+
+std::string file_for(const std::string& dir, std::string_view code) {
+  namespace fs = std::filesystem;
+  std::string full(code), primary(code.substr(0, code.find_first_of("-_")));
+  for (char& c : primary) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  std::replace(full.begin(), full.end(), '-', '_');
+  auto have = [&](const std::string& name) {
+    std::error_code ec;
+    return fs::is_regular_file(dir + "/" + name + ".dic", ec) && fs::is_regular_file(dir + "/" + name + ".aff", ec);
+  };
+  if (full != primary && have(full)) return full;
+  if (have(primary)) return primary;
+  std::string same = primary + "_";
+  for (char c : primary) same += static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+  if (have(same)) return same;
+  std::vector<std::string> names;
+  std::error_code ec;
+  for (const auto& e : fs::directory_iterator(dir, ec)) {
+    std::string f = e.path().filename().string();
+    if (f.size() > primary.size() + 5 && f.compare(0, primary.size() + 1, primary + "_") == 0 &&
+        f.compare(f.size() - 4, 4, ".dic") == 0) {
+      std::string name = f.substr(0, f.size() - 4);
+      if (have(name)) names.push_back(name);
+    }
+  }
+  std::sort(names.begin(), names.end());
+  return names.empty() ? std::string() : names.front();
+}
+
+}  // namespace
+
+const WordList* find_word_list(const std::string& dir, std::string_view code) {
+  static std::mutex mu;
+  // Loaded once and kept until the process ends (any thread may be reading).
+  static std::map<std::string, std::unique_ptr<WordList>> lists;   // by file path
+  static std::map<std::string, std::string> chosen;                // dir + code -> path ("" none)
+  if (dir.empty() || code.empty()) return nullptr;
+  std::lock_guard<std::mutex> lock(mu);
+  std::string key = dir + "\n" + std::string(code);
+  auto c = chosen.find(key);
+  if (c == chosen.end()) {
+    std::string name = file_for(dir, code);
+    c = chosen.emplace(key, name.empty() ? std::string() : dir + "/" + name).first;
+    if (!name.empty() && !lists.count(c->second))
+      lists.emplace(c->second, std::make_unique<WordList>(name, c->second + ".aff", c->second + ".dic"));
+  }
+  return c->second.empty() ? nullptr : lists.at(c->second).get();
+}
+
+const std::string& word_list_name(const WordList* list) { return list->name(); }
+
+bool word_list_accepts(const WordList* list, std::string_view word) {
+  return const_cast<WordList*>(list)->accepts(word);
+}
+
+std::vector<std::string_view> dictionary_words(std::string_view text, size_t most) {
+  std::vector<std::string_view> out;
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
+  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  int32_t start = -1, end = 0;
+  size_t letters = 0;
+  auto flush = [&] {
+    if (start >= 0 && letters >= 2 && out.size() < most)
+      out.push_back(text.substr(static_cast<size_t>(start), static_cast<size_t>(end - start)));
+    start = -1;
+    letters = 0;
+  };
+  while (i < n && out.size() < most) {
+    int32_t at = i;
+    UChar32 c;
+    U8_NEXT(p, i, n, c);
+    bool letter = c >= 0 && (U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK));
+    bool apostrophe = c == '\'' || c == 0x2019;
+    if (letter) {
+      if (start < 0) start = at;
+      end = i;
+      letters += (U_GET_GC_MASK(c) & U_GC_L_MASK) != 0;
+    } else if (apostrophe && start >= 0 && i < n) {
+      // kept only between letters: "l'emplacement", not a closing quote
+      int32_t j = i;
+      UChar32 d;
+      U8_NEXT(p, j, n, d);
+      if (!(d >= 0 && (U_GET_GC_MASK(d) & U_GC_L_MASK))) flush();
+    } else {
+      flush();
+    }
+  }
+  flush();
+  return out;
+}
+
+WordCache::WordCache() : slots_(1u << 14) {}
+
+bool WordCache::accepts(const WordList* list, std::string_view word) {
+  uint64_t h = XXH3_64bits_withSeed(word.data(), word.size(), reinterpret_cast<uintptr_t>(list)) | 1;
+  Slot& s = slots_[h & (slots_.size() - 1)];
+  if (s.key != h) {
+    s.key = h;
+    s.accepted = word_list_accepts(list, word);
+  }
+  return s.accepted;
+}
+
+WordEvidence WordCache::compare(const std::vector<std::string_view>& words, const WordList* first,
+                                const WordList* second) {
+  WordEvidence e;
+  e.words = words.size();
+  for (std::string_view w : words) {
+    bool a = accepts(first, w), b = accepts(second, w);
+    e.only_first += a && !b;
+    e.only_second += b && !a;
+  }
+  return e;
+}
+
+}  // namespace sheaf

@@ -1,0 +1,71 @@
+// word_lists: spelling dictionaries (Hunspell, Debian's hunspell-LANG
+// packages) as a word-level second opinion for the language stage.
+//
+// CLD2 reads character n-grams; on a short line of a closely related
+// language (Portuguese in a Spanish corpus) they say little, while the words
+// say much: "arquivo", "não", "nome" are Portuguese words and not Spanish
+// ones. A dictionary answers "is this a word of language X" for every
+// inflected form its affix rules allow.
+//
+// Dictionaries are found by language code in a directory (Debian installs
+// them in /usr/share/hunspell as LL_CC.aff/.dic), loaded once per process
+// on first use and shared by all threads. A language without an installed
+// dictionary has none, and callers fall back to what they did without.
+#pragma once
+
+#include <cstddef>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace sheaf {
+
+class WordList;  // one loaded dictionary (opaque)
+
+// The dictionary for `code` (a BCP 47 tag or CLD2 code: "pt-BR", "pt", "es")
+// in `dir`, or nullptr when none is installed. Chosen among the files
+// DIR/NAME.dic (with NAME.aff beside): the code itself with '_' ("pt_BR"),
+// then its primary subtag ("fr"), then the primary subtag with the same
+// letters as region ("es_ES", "pt_PT", "it_IT"), then the first in name
+// order ("cs_CZ"). Thread-safe; the result lives until the process ends.
+const WordList* find_word_list(const std::string& dir, std::string_view code);
+
+// The file name (without .dic) of a found dictionary, for messages and tests.
+const std::string& word_list_name(const WordList* list);
+
+// True when `list` accepts `word` (UTF-8; a word's capitalisation as in
+// running text is accepted as the dictionary allows). Thread-safe: a mutex
+// per dictionary (Hunspell objects are not safe to share), so callers
+// should remember answers (WordCache).
+bool word_list_accepts(const WordList* list, std::string_view word);
+
+// The words of `text` a dictionary can judge: runs of letters (and marks)
+// with apostrophes inside ("l'emplacement"), of at least two letters, at
+// most `most` of them, in order.
+std::vector<std::string_view> dictionary_words(std::string_view text, size_t most);
+
+// What the words of a text say between two languages: words only the first
+// language's dictionary accepts, and words only the second's accepts.
+struct WordEvidence {
+  size_t words = 0, only_first = 0, only_second = 0;
+};
+
+// A per-thread memory of answers (word, dictionary) -> accepted, so the
+// dictionaries' lock and their slow lookups are met once per word type.
+// Direct-mapped on a 64-bit hash: an evicted answer is asked again, so the
+// answers never depend on what the table holds.
+class WordCache {
+ public:
+  WordCache();
+  bool accepts(const WordList* list, std::string_view word);
+  WordEvidence compare(const std::vector<std::string_view>& words, const WordList* first, const WordList* second);
+
+ private:
+  struct Slot {
+    uint64_t key = 0;
+    bool accepted = false;
+  };
+  std::vector<Slot> slots_;
+};
+
+}  // namespace sheaf
