@@ -18,9 +18,37 @@ namespace sheaf {
 
 class WordList {
  public:
-  WordList(std::string name, const std::string& aff, const std::string& dic)
-      : name_(std::move(name)), dict_(aff.c_str(), dic.c_str()) {
-    std::string enc = dict_.get_dict_encoding();
+  // Nothing is read until the first word is asked about: a stage names
+  // every dictionary it might consult, and most runs consult few.
+  WordList(std::string name, std::string aff, std::string dic)
+      : name_(std::move(name)), aff_(std::move(aff)), dic_(std::move(dic)) {}
+  ~WordList() {
+    if (conv_) ucnv_close(conv_);
+  }
+  const std::string& name() const { return name_; }
+
+  bool accepts(std::string_view word) {
+    std::lock_guard<std::mutex> lock(mu_);
+    if (!dict_) load();
+    if (broken_) return false;
+    if (!conv_) return dict_->spell(std::string(word));
+    // The dictionary's own 8-bit encoding (pl_PL is ISO 8859-2): a word it
+    // cannot spell in that encoding is not one of its words.
+    UErrorCode st = U_ZERO_ERROR;
+    UChar u[128];
+    int32_t ulen = 0;
+    u_strFromUTF8(u, 128, &ulen, word.data(), static_cast<int32_t>(word.size()), &st);
+    if (U_FAILURE(st) || ulen > 128) return false;
+    char out[256];
+    int32_t n = ucnv_fromUChars(conv_, out, sizeof out, u, ulen, &st);
+    if (U_FAILURE(st) || n >= static_cast<int32_t>(sizeof out)) return false;
+    return dict_->spell(std::string(out, static_cast<size_t>(n)));
+  }
+
+ private:
+  void load() {
+    dict_ = std::make_unique<Hunspell>(aff_.c_str(), dic_.c_str());
+    std::string enc = dict_->get_dict_encoding();
     std::string upper = enc;
     for (char& c : upper) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
     if (upper != "UTF-8" && upper != "UTF8") {
@@ -34,32 +62,10 @@ class WordList {
       }
     }
   }
-  ~WordList() {
-    if (conv_) ucnv_close(conv_);
-  }
-  const std::string& name() const { return name_; }
 
-  bool accepts(std::string_view word) {
-    std::lock_guard<std::mutex> lock(mu_);
-    if (broken_) return false;
-    if (!conv_) return dict_.spell(std::string(word));
-    // The dictionary's own 8-bit encoding (pl_PL is ISO 8859-2): a word it
-    // cannot spell in that encoding is not one of its words.
-    UErrorCode st = U_ZERO_ERROR;
-    UChar u[128];
-    int32_t ulen = 0;
-    u_strFromUTF8(u, 128, &ulen, word.data(), static_cast<int32_t>(word.size()), &st);
-    if (U_FAILURE(st) || ulen > 128) return false;
-    char out[256];
-    int32_t n = ucnv_fromUChars(conv_, out, sizeof out, u, ulen, &st);
-    if (U_FAILURE(st) || n >= static_cast<int32_t>(sizeof out)) return false;
-    return dict_.spell(std::string(out, static_cast<size_t>(n)));
-  }
-
- private:
-  std::string name_;
+  std::string name_, aff_, dic_;
   std::mutex mu_;
-  Hunspell dict_;
+  std::unique_ptr<Hunspell> dict_;
   UConverter* conv_ = nullptr;
   bool broken_ = false;
 };
@@ -135,13 +141,19 @@ std::vector<std::string_view> dictionary_words(std::string_view text, size_t mos
   while (i < n && out.size() < most) {
     int32_t at = i;
     UChar32 c;
-    U8_NEXT(p, i, n, c);
-    bool letter = c >= 0 && (U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK));
+    bool letter;
+    if (p[i] < 0x80) {  // most of the text: no decoding, no property lookup
+      c = p[i++];
+      letter = static_cast<unsigned>((c | 0x20) - 'a') < 26u;
+    } else {
+      U8_NEXT(p, i, n, c);
+      letter = c >= 0 && (U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK));
+    }
     bool apostrophe = c == '\'' || c == 0x2019;
     if (letter) {
       if (start < 0) start = at;
       end = i;
-      letters += (U_GET_GC_MASK(c) & U_GC_L_MASK) != 0;
+      letters += c < 0x80 || (U_GET_GC_MASK(c) & U_GC_L_MASK) != 0;
     } else if (apostrophe && start >= 0 && i < n) {
       // kept only between letters: "l'emplacement", not a closing quote
       int32_t j = i;
@@ -156,28 +168,32 @@ std::vector<std::string_view> dictionary_words(std::string_view text, size_t mos
   return out;
 }
 
-WordCache::WordCache() : slots_(1u << 14) {}
+WordCache::WordCache(size_t slots) : slots_(slots) {}
 
-bool WordCache::accepts(const WordList* list, std::string_view word) {
-  uint64_t h = XXH3_64bits_withSeed(word.data(), word.size(), reinterpret_cast<uintptr_t>(list)) | 1;
-  Slot& s = slots_[h & (slots_.size() - 1)];
-  if (s.key != h) {
-    s.key = h;
-    s.accepted = word_list_accepts(list, word);
+uint32_t WordCache::accepted(const std::vector<const WordList*>& lists, uint64_t seed, std::string_view word,
+                             uint32_t want) {
+  if (seed != seed_) {
+    std::fill(slots_.begin(), slots_.end(), Slot{});
+    seed_ = seed;
   }
-  return s.accepted;
-}
-
-WordEvidence WordCache::compare(const std::vector<std::string_view>& words, const WordList* first,
-                                const WordList* second) {
-  WordEvidence e;
-  e.words = words.size();
-  for (std::string_view w : words) {
-    bool a = accepts(first, w), b = accepts(second, w);
-    e.only_first += a && !b;
-    e.only_second += b && !a;
+  uint64_t h = XXH3_64bits_withSeed(word.data(), word.size(), seed) | 1;
+  // Four ways a set (one cache line): the word found moves to the front, a
+  // new word enters at the front and the least recently used leaves, so
+  // two frequent words that share a set do not evict each other.
+  Slot* set = &slots_[(h & (slots_.size() - 1)) & ~size_t{3}];
+  int at = 0;
+  while (at < 4 && set[at].key != h) ++at;
+  Slot found = at < 4 ? set[at] : Slot{h, 0, 0};
+  for (int k = (at < 4 ? at : 3); k > 0; --k) set[k] = set[k - 1];
+  set[0] = found;
+  Slot& s = set[0];
+  uint32_t ask = want & ~s.known;
+  for (uint32_t b = ask; b != 0; b &= b - 1) {
+    int i = __builtin_ctz(b);
+    if (static_cast<size_t>(i) < lists.size() && lists[i] && word_list_accepts(lists[i], word)) s.yes |= 1u << i;
   }
-  return e;
+  s.known |= ask;
+  return s.yes & want;
 }
 
 }  // namespace sheaf

@@ -9,11 +9,12 @@
 //
 // Dictionaries are found by language code in a directory (Debian installs
 // them in /usr/share/hunspell as LL_CC.aff/.dic), loaded once per process
-// on first use and shared by all threads. A language without an installed
+// when first consulted and shared by all threads. A language without an installed
 // dictionary has none, and callers fall back to what they did without.
 #pragma once
 
 #include <cstddef>
+#include <cstdint>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -44,28 +45,26 @@ bool word_list_accepts(const WordList* list, std::string_view word);
 // most `most` of them, in order.
 std::vector<std::string_view> dictionary_words(std::string_view text, size_t most);
 
-// What the words of a text say between two languages: words only the first
-// language's dictionary accepts, and words only the second's accepts.
-struct WordEvidence {
-  size_t words = 0, only_first = 0, only_second = 0;
-};
-
-// A per-thread memory of answers (word, dictionary) -> accepted, so the
-// dictionaries' lock and their slow lookups are met once per word type.
-// Direct-mapped on a 64-bit hash: an evicted answer is asked again, so the
-// answers never depend on what the table holds.
+// A set of dictionaries (at most 32, list i is bit i) with a per-thread
+// memory of their answers per word type, so the dictionaries' locks and
+// their slow lookups (1-30 us a word) are met once per word type and thread.
+// Four-way set-associative on a 64-bit hash of the word: an evicted word is
+// asked again, so the answers never depend on what the table holds.
 class WordCache {
  public:
-  WordCache();
-  bool accepts(const WordList* list, std::string_view word);
-  WordEvidence compare(const std::vector<std::string_view>& words, const WordList* first, const WordList* second);
+  explicit WordCache(size_t slots = size_t{1} << 16);  // a power of two, at least 4
+  // The bits of the lists among `want` that accept `word`. `lists` and
+  // `seed` name the set (a cache serves one set at a time: a new seed
+  // empties it).
+  uint32_t accepted(const std::vector<const WordList*>& lists, uint64_t seed, std::string_view word, uint32_t want);
 
  private:
   struct Slot {
     uint64_t key = 0;
-    bool accepted = false;
+    uint32_t known = 0, yes = 0;
   };
   std::vector<Slot> slots_;
+  uint64_t seed_ = 0;
 };
 
 }  // namespace sheaf
