@@ -365,31 +365,46 @@ class LanguageStage : public Stage {
 
   // True when the side's words settle its language (a cheaper first test
   // than CLD2, which costs about 10 us a question however short the text):
-  // at least kSettleWords words, at most one in ten not in the language's
-  // dictionary and none of those in a rival's (a close relative's or a
-  // family member's: es against pt, gl, ca, it, fr, ...), and at least two
-  // words in the language's dictionary that no rival's dictionary holds.
-  // Without rivals' dictionaries any two of its words do: a side language
-  // whose relatives are not installed is settled by its own dictionary, the
-  // price of falling back cleanly (docs/pipeline.md). Rules of thumb (common
-  // practice, no published source), the same for every language.
+  // at least kSettleWords words, at most one in kMissingShare missing from
+  // the language's dictionary, and against each rival (a close relative's
+  // or a family member's dictionary: es against pt, gl, ca, it, fr, ...) at
+  // least two words the language's dictionary holds and the rival's lacks,
+  // more than twice as many as the other way round (the words test of the
+  // verdict, below). Without rivals' dictionaries any two of its words do:
+  // a side language whose relatives are not installed is settled by its own
+  // dictionary, the price of falling back cleanly (docs/pipeline.md). Rules
+  // of thumb (common practice, no published source), the same for every
+  // language.
   bool settled_by_words(int side, const std::string& own) const {
     int mine = own_list_[side];
     if (mine < 0) return false;
     auto words = dictionary_words(own, kMaxWords);
     if (words.size() < kSettleWords) return false;
     uint32_t a = 1u << mine, rivals = rivals_[side];
-    size_t missing = 0, distinctive = 0;
+    size_t missing = 0, own_words = 0;
+    uint8_t mine_only[32] = {}, theirs_only[32] = {};  // per rival
     WordCache& cache = word_cache();
     for (std::string_view w : words) {
-      if (cache.accepted(lists_, id_, w, a) == 0) {
-        if (++missing * 10 > words.size()) return false;
-        if (rivals && cache.accepted(lists_, id_, w, rivals) != 0) return false;
-        continue;
+      uint32_t m = cache.accepted(lists_, id_, w, a | rivals);
+      bool own = m & a;
+      if (own) {
+        ++own_words;
+      } else if (++missing * kMissingShare > words.size()) {
+        return false;
       }
-      if (distinctive < 2 && (rivals == 0 || cache.accepted(lists_, id_, w, rivals) == 0)) ++distinctive;
+      for (uint32_t b = rivals; b != 0; b &= b - 1) {
+        int i = __builtin_ctz(b);
+        bool theirs = m & (1u << i);
+        mine_only[i] += own && !theirs;
+        theirs_only[i] += theirs && !own;
+      }
     }
-    return distinctive >= 2;
+    if (own_words < 2) return false;
+    for (uint32_t b = rivals; b != 0; b &= b - 1) {
+      int i = __builtin_ctz(b);
+      if (mine_only[i] < 2 || mine_only[i] <= 2 * theirs_only[i]) return false;
+    }
+    return true;
   }
 
   int add_list(const std::string& code) {
@@ -415,6 +430,7 @@ class LanguageStage : public Stage {
   }
   static constexpr size_t kMaxWords = 32;
   static constexpr size_t kSettleWords = 3;
+  static constexpr size_t kMissingShare = 10;
 
   // CLD2's verdict on a side's own text: the code of the other language it
   // confidently finds, or empty to keep the pair.
