@@ -1,6 +1,5 @@
 #include "stages/word_lists.h"
 
-#include <hunspell/hunspell.hxx>
 #include <unicode/uchar.h>
 #include <unicode/ucnv.h>
 #include <unicode/ustring.h>
@@ -10,6 +9,7 @@
 #include <algorithm>
 #include <cctype>
 #include <filesystem>
+#include <hunspell/hunspell.hxx>
 #include <map>
 #include <memory>
 #include <mutex>

@@ -4,13 +4,14 @@
 // test install list's (scripts/debian-packages.txt). Texts: translated
 // message catalogues Debian ships (dpkg's and coreutils' es, pt_BR, fr, pl
 // catalogues, /usr/share/locale/LANG/LC_MESSAGES/), one msgid's translations.
+#include "stages/word_lists.h"
+
 #include <gtest/gtest.h>
 
 #include <filesystem>
 
 #include "stage_util.h"
 #include "stages/language.h"
-#include "stages/word_lists.h"
 
 namespace sheaf {
 namespace {
@@ -19,9 +20,9 @@ const std::string kDir = "/usr/share/hunspell";
 
 bool installed(const char* name) { return std::filesystem::exists(kDir + "/" + name + ".dic"); }
 
-#define NEED_DICTIONARIES()                                                                             \
-  if (!installed("es_ES") || !installed("pt_BR") || !installed("pt_PT") || !installed("pl_PL") ||      \
-      !installed("fr") || !installed("cs_CZ"))                                                          \
+#define NEED_DICTIONARIES()                                                                                           \
+  if (!installed("es_ES") || !installed("pt_BR") || !installed("pt_PT") || !installed("pl_PL") || !installed("fr") || \
+      !installed("cs_CZ"))                                                                                            \
   GTEST_SKIP() << "spelling dictionaries missing (scripts/install-deps build test)"
 
 std::vector<std::string> words(std::string_view text, size_t most = 100) {
@@ -45,8 +46,8 @@ TEST(WordLists, DictionariesAreFoundByLanguageCode) {
   EXPECT_EQ(word_list_name(find_word_list(kDir, "pt-BR")), "pt_BR");  // the region when there is one
   EXPECT_EQ(word_list_name(find_word_list(kDir, "pt")), "pt_PT");     // else the primary subtag's own region
   EXPECT_EQ(word_list_name(find_word_list(kDir, "es")), "es_ES");
-  EXPECT_EQ(word_list_name(find_word_list(kDir, "fr")), "fr");        // a file named by the subtag alone
-  EXPECT_EQ(word_list_name(find_word_list(kDir, "cs")), "cs_CZ");     // else the first in name order
+  EXPECT_EQ(word_list_name(find_word_list(kDir, "fr")), "fr");     // a file named by the subtag alone
+  EXPECT_EQ(word_list_name(find_word_list(kDir, "cs")), "cs_CZ");  // else the first in name order
   EXPECT_EQ(find_word_list(kDir, "qq"), nullptr);
   EXPECT_EQ(find_word_list("", "es"), nullptr);
   EXPECT_EQ(find_word_list("/nonexistent", "es"), nullptr);
@@ -95,9 +96,9 @@ TEST(WordLists, AcceptsTheLanguagesOwnWords) {
 // Spanish and Portuguese apart where CLD2's n-grams alone did not.
 TEST(WordLists, LanguageStageTellsRelatedLanguagesApartByWords) {
   NEED_DICTIONARIES();
-  const std::string en = "unexpected end of line in package name at line %d";              // dpkg
+  const std::string en = "unexpected end of line in package name at line %d";                // dpkg
   const std::string es = "fin de línea inesperado en el nombre del paquete en la línea %d";  // dpkg es
-  const std::string pt = "fim de linha inesperado no nome do pacote na linha %d";          // dpkg pt_BR
+  const std::string pt = "fim de linha inesperado no nome do pacote na linha %d";            // dpkg pt_BR
   test::StageHarness in_es("kind = \"language\"", "en", "es");
   ASSERT_TRUE(in_es.ok()) << in_es.error();
   EXPECT_EQ(in_es.reason(en, es), "");
