@@ -26,6 +26,8 @@ sheaf_require_pkg(ZLIB zlib zlib1g-dev)
 sheaf_require_pkg(ZSTD libzstd libzstd-dev)
 sheaf_require_pkg(LZMA liblzma liblzma-dev)
 sheaf_require_pkg(TOMLPP tomlplusplus libtomlplusplus-dev)
+# Hunspell reads the spelling dictionaries the language stage consults.
+sheaf_require_pkg(HUNSPELL hunspell libhunspell-dev)
 
 find_package(CLI11 CONFIG QUIET)
 if(NOT CLI11_FOUND)
@@ -57,5 +59,5 @@ add_library(sheaf::deps ALIAS sheaf_deps)
 target_include_directories(sheaf_deps INTERFACE ${CLD2_INCLUDE} ${BZIP2_INCLUDE})
 target_link_libraries(sheaf_deps INTERFACE
   PkgConfig::ICU PkgConfig::RE2 PkgConfig::XXHASH PkgConfig::ZLIB PkgConfig::ZSTD PkgConfig::LZMA ${BZIP2_LIBRARY}
-  PkgConfig::TOMLPP CLI11::CLI11 nlohmann_json::nlohmann_json TBB::tbb
+  PkgConfig::TOMLPP PkgConfig::HUNSPELL CLI11::CLI11 nlohmann_json::nlohmann_json TBB::tbb
   ${CLD2_LIBRARY} Threads::Threads)

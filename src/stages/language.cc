@@ -12,6 +12,7 @@
 #include <xxhash.h>
 
 #include <algorithm>
+#include <initializer_list>
 #include <atomic>
 #include <map>
 #include <memory>
@@ -19,6 +20,7 @@
 #include <vector>
 
 #include "stages/own_text.h"
+#include "stages/word_lists.h"
 
 namespace sheaf {
 
@@ -44,6 +46,27 @@ std::vector<std::string> related_languages(std::string_view lang) {
   for (const auto& g : kGroups)
     if (g[0] == l) return {g.begin() + 1, g.end()};
   return {};
+}
+
+std::vector<std::string> family_languages(std::string_view lang) {
+  // Language families whose members share much vocabulary and spelling, so
+  // that CLD2's n-grams often cannot place a short line of one among the
+  // others (general linguistic grouping, from memory; no per-language
+  // tuning): only the word test reads this list.
+  static const std::vector<std::vector<std::string>> kFamilies = {
+      {"es", "pt", "gl", "ca", "it", "fr", "ro", "oc"},  // Romance
+      {"cs", "sk", "pl", "sl", "hr", "bs", "sr"},        // West and South Slavic, Latin script
+      {"ru", "uk", "be", "bg", "mk", "sr"},              // East and South Slavic, Cyrillic script
+      {"de", "nl", "af", "da", "no", "nb", "nn", "sv", "is", "fo"},  // Germanic
+      {"id", "ms"},
+  };
+  std::string l = primary(lang);
+  std::vector<std::string> out;
+  for (const auto& f : kFamilies)
+    if (std::find(f.begin(), f.end(), l) != f.end())
+      for (const auto& m : f)
+        if (m != l && std::find(out.begin(), out.end(), m) == out.end()) out.push_back(m);
+  return out;
 }
 
 LanguageGuess identify_language(std::string_view text, std::string_view hint) {
@@ -195,18 +218,34 @@ constexpr size_t kMaxBytes = 160;
 class LanguageStage : public Stage {
  public:
   LanguageStage(const StageContext& ctx, int64_t min_letters, int64_t min_share, std::vector<std::string> accept[2],
-                std::string lang[2])
-      : index_(ctx.index), min_letters_(static_cast<size_t>(min_letters)), min_share_(static_cast<int>(min_share)) {
+                std::string lang[2], std::string dictionaries)
+      : index_(ctx.index),
+        min_letters_(static_cast<size_t>(min_letters)),
+        min_share_(static_cast<int>(min_share)),
+        dir_(std::move(dictionaries)) {
     for (int s = 0; s < 2; ++s) {
       accept_[s] = std::move(accept[s]);
       lang_[s] = std::move(lang[s]);
       key_[s] = language_key(lang_[s]);
     }
+    // The dictionaries this stage reads: each side's language's, then its
+    // close relatives' and family's (its rivals).
+    for (int s = 0; s < 2; ++s) own_list_[s] = add_list(lang_[s]);
+    for (int s = 0; s < 2; ++s) {
+      if (own_list_[s] < 0) continue;
+      std::vector<std::string> rivals = related_languages(lang_[s]);
+      for (const auto& f : family_languages(lang_[s])) rivals.push_back(f);
+      for (const auto& r : rivals) {
+        int i = accepted(s, language_key(r)) ? -1 : add_list(r);
+        if (i >= 0 && i != own_list_[s]) rivals_[s] |= 1u << i;
+      }
+    }
   }
   void map(PairBatch& batch) override {
     std::string owns[2];
     size_t letters[2];
-    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0};
+    uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, worded[2] = {0, 0},
+             by_words[2] = {0, 0};
     for (Pair& p : batch.pairs) {
       if (!p.kept()) continue;
       own_texts(p.text[0], p.text[1], owns, letters);
@@ -218,6 +257,12 @@ class LanguageStage : public Stage {
         }
         if (settled_by_script(own, key_[side])) {
           ++settled[side];
+          continue;
+        }
+        // The words first: a side whose words are its language's, and some
+        // of them no close relative's, is settled without asking CLD2.
+        if (settled_by_words(side, own)) {
+          ++by_words[side];
           continue;
         }
         ++judged[side];
@@ -236,14 +281,16 @@ class LanguageStage : public Stage {
         uint64_t h = XXH3_64bits_withSeed(own.data(), own.size(), id_ * 2 + static_cast<uint64_t>(side)) | 1;
         CachedVerdict& slot = cache()[h & (kCacheSlots - 1)];
         if (slot.key != h) {
-          uint64_t asked_again = 0;
+          Asked asked;
           slot.key = h;
-          slot.code = verdict(side, own, asked_again);
-          slot.rechecked = asked_again != 0;
+          slot.code = verdict(side, own, asked);
+          slot.rechecked = asked.again;
+          slot.worded = asked.words;
         }
         // Counted whether or not the table answered, so that the counters
         // do not depend on how batches fall to threads.
         rechecked[side] += slot.rechecked;
+        worded[side] += slot.worded;
         if (slot.code.empty()) continue;
         batch.drop(p, index_, std::string("language:") + side_name(side) + "=" + slot.code);
       }
@@ -253,6 +300,8 @@ class LanguageStage : public Stage {
       settled_[s].fetch_add(settled[s], std::memory_order_relaxed);
       few_[s].fetch_add(few[s], std::memory_order_relaxed);
       rechecked_[s].fetch_add(rechecked[s], std::memory_order_relaxed);
+      worded_[s].fetch_add(worded[s], std::memory_order_relaxed);
+      by_words_[s].fetch_add(by_words[s], std::memory_order_relaxed);
     }
   }
 
@@ -263,6 +312,8 @@ class LanguageStage : public Stage {
       c.emplace_back(std::string("settled-by-script:") + side_name(s), settled_[s].load());
       c.emplace_back(std::string("too-few-letters:") + side_name(s), few_[s].load());
       c.emplace_back(std::string("rechecked:") + side_name(s), rechecked_[s].load());
+      c.emplace_back(std::string("words-decided:") + side_name(s), worded_[s].load());
+      c.emplace_back(std::string("settled-by-words:") + side_name(s), by_words_[s].load());
     }
     return c;
   }
@@ -272,6 +323,7 @@ class LanguageStage : public Stage {
     uint64_t key = 0;
     std::string code;        // the language found, empty: keep
     bool rechecked = false;  // the verdict needed a second question
+    bool worded = false;     // the dictionaries decided it
   };
   static constexpr size_t kCacheSlots = 4096;
   static std::vector<CachedVerdict>& cache() {
@@ -279,21 +331,142 @@ class LanguageStage : public Stage {
     return c;
   }
 
+  // What went into a verdict beyond CLD2's first answer (for the counters).
+  struct Asked {
+    bool again = false;  // a second, hinted question
+    bool words = false;  // the dictionaries settled it
+  };
+
+  // What the words of a side's own text say between the side's language and
+  // `found` (a CLD2 code), when both have a spelling dictionary: kFound when
+  // words only `found` spells outnumber those only the side's language
+  // spells more than twice (and there is at least one; with `strict`, at
+  // least two and none of the side's language's), kOwn in the mirror case,
+  // kNothing otherwise. Words both spell, or neither (names, terms, other
+  // languages), say nothing. A rule of thumb (common practice, no published
+  // source), the same for every language; docs/quality.md measures it.
+  enum class Words { kNothing, kOwn, kFound };
+  Words words_say(int side, const std::string& own, const std::string& found, size_t strict,
+                  size_t* only_found = nullptr) const {
+    int mine = own_list_[side], theirs = list_of(found);
+    if (mine < 0 || theirs < 0 || theirs == mine) return Words::kNothing;
+    size_t only_mine = 0, only_theirs = 0, theirs_lacks = 0;
+    uint32_t a = 1u << mine, b = 1u << theirs;
+    auto words = dictionary_words(own, kMaxWords);
+    for (std::string_view w : words) {
+      if (strict) {
+        // Without CLD2's support the other language must hold most of the
+        // words: asked first, and given up once it cannot.
+        if (word_cache().accepted(lists_, id_, w, b) == 0) {
+          if (++theirs_lacks * 2 >= words.size()) return Words::kNothing;
+          continue;
+        }
+      }
+      uint32_t m = word_cache().accepted(lists_, id_, w, a | b);
+      only_mine += m == a;
+      only_theirs += m == b;
+    }
+    if (only_found) *only_found = only_theirs;
+    if (strict ? only_theirs >= strict && only_mine == 0 : only_theirs > 2 * only_mine) return Words::kFound;
+    if (only_mine > 2 * only_theirs) return Words::kOwn;
+    return Words::kNothing;
+  }
+
+  // True when the side's words settle its language (a cheaper first test
+  // than CLD2, which costs about 10 us a question however short the text):
+  // at least kSettleWords words, at most one in kMissingShare missing from
+  // the language's dictionary, and against each rival (a close relative's
+  // or a family member's dictionary: es against pt, gl, ca, it, fr, ...) at
+  // least two words the language's dictionary holds and the rival's lacks,
+  // more than twice as many as the other way round (the words test of the
+  // verdict, below). Without rivals' dictionaries any two of its words do:
+  // a side language whose relatives are not installed is settled by its own
+  // dictionary, the price of falling back cleanly (docs/pipeline.md). Rules
+  // of thumb (common practice, no published source), the same for every
+  // language.
+  bool settled_by_words(int side, const std::string& own) const {
+    int mine = own_list_[side];
+    if (mine < 0) return false;
+    auto words = dictionary_words(own, kMaxWords);
+    if (words.size() < kSettleWords) return false;
+    uint32_t a = 1u << mine, rivals = rivals_[side];
+    size_t missing = 0, own_words = 0;
+    uint8_t mine_only[32] = {}, theirs_only[32] = {};  // per rival
+    WordCache& cache = word_cache();
+    // The side's own dictionary first, so that text of no language it
+    // knows (names, codes, other scripts' transliterations) costs a few
+    // lookups, not one per word and rival (a lookup that fails costs
+    // Hunspell 1-30 us).
+    for (std::string_view w : words) {
+      if (cache.accepted(lists_, id_, w, a) != 0) {
+        ++own_words;
+      } else if (++missing * kMissingShare > words.size()) {
+        return false;
+      }
+    }
+    for (std::string_view w : words) {
+      if (rivals == 0) break;
+      uint32_t m = cache.accepted(lists_, id_, w, a | rivals);
+      bool own = m & a;
+      for (uint32_t b = rivals; b != 0; b &= b - 1) {
+        int i = __builtin_ctz(b);
+        bool theirs = m & (1u << i);
+        mine_only[i] += own && !theirs;
+        theirs_only[i] += theirs && !own;
+      }
+    }
+    if (own_words < 2) return false;
+    for (uint32_t b = rivals; b != 0; b &= b - 1) {
+      int i = __builtin_ctz(b);
+      if (mine_only[i] < 2 || mine_only[i] <= 2 * theirs_only[i]) return false;
+    }
+    return true;
+  }
+
+  int add_list(const std::string& code) {
+    const WordList* w = find_word_list(dir_, code);
+    if (w == nullptr) return -1;
+    for (size_t i = 0; i < lists_.size(); ++i)
+      if (lists_[i] == w) return static_cast<int>(i);
+    if (lists_.size() >= 32) return -1;
+    lists_.push_back(w);
+    list_keys_.push_back(language_key(code));
+    return static_cast<int>(lists_.size() - 1);
+  }
+  // The dictionary of a CLD2 code among those this stage reads, or -1.
+  int list_of(const std::string& code) const {
+    std::string k = language_key(code);
+    for (size_t i = 0; i < list_keys_.size(); ++i)
+      if (list_keys_[i] == k) return static_cast<int>(i);
+    return -1;
+  }
+  static WordCache& word_cache() {
+    thread_local WordCache c;
+    return c;
+  }
+  static constexpr size_t kMaxWords = 16;
+  static constexpr size_t kSettleWords = 3;
+  static constexpr size_t kMissingShare = 10;
+
   // CLD2's verdict on a side's own text: the code of the other language it
   // confidently finds, or empty to keep the pair.
-  std::string verdict(int side, const std::string& own, uint64_t& rechecked) const {
+  std::string verdict(int side, const std::string& own, Asked& asked) const {
     LanguageGuess g = identify_language(own);
     if (!g.reliable || g.code[0] == "un") {
       // CLD2 cannot place the text. Told which language to expect, it
       // favours that one; a confident answer for another language even so
       // is a verdict (and needs no second hinted question).
-      ++rechecked;
+      asked.again = true;
       LanguageGuess h = identify_language(own, lang_[side]);
       std::string found = language_key(h.code[0]);
-      if (!h.reliable || found == "un" || accepted(side, found) || h.percent[0] < min_share_) return {};
-      LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
-      if (e.for_own > 0 && e.for_found == 0) return {};
-      return h.code[0];
+      if (h.reliable && found != "un" && !accepted(side, found) && h.percent[0] >= min_share_) {
+        LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(found));
+        if (!(e.for_own > 0 && e.for_found == 0)) return h.code[0];
+      }
+      // Nor can it with the hint: the words may still tell. The candidates
+      // are the languages CLD2 named in either answer and the side's close
+      // relatives; without CLD2's support the words must be plain (strict).
+      return words_verdict(side, own, {&g, &h}, 2, asked);
     }
     if (g.percent[0] < min_share_) return {};
     std::string top = language_key(g.code[0]);
@@ -306,16 +479,56 @@ class LanguageStage : public Stage {
     // and answers English for text it cannot place (compact_lang_det.h).
     // So the letters have a say: letters only the found language writes
     // confirm the verdict, letters only the side's language writes
-    // overturn it; when they say nothing (or both), CLD2 is asked again,
-    // told which language to expect, and the verdict must stand.
+    // overturn it. When they say nothing (or both), the words decide if
+    // both languages have a dictionary; else CLD2 is asked again, told
+    // which language to expect, and the verdict must stand.
     LetterEvidence e = letter_evidence(own, exemplars(key_[side]), exemplars(top));
     if (e.for_own > 0 && e.for_found == 0) return {};
     if (!(e.for_found > 0 && e.for_own == 0)) {
-      ++rechecked;
+      Words w = words_say(side, own, g.code[0], 0);
+      if (w != Words::kNothing) {
+        asked.words = true;
+        return w == Words::kFound ? g.code[0] : std::string();
+      }
+      // The words neither back nor deny CLD2's language (it answers English
+      // for text it cannot place): CLD2 has reliably said "not the side's
+      // language", so one plain word of a family language is enough.
+      std::string other = words_verdict(side, own, {&g}, 1, asked);
+      if (!other.empty()) return other;
+      asked.again = true;
       LanguageGuess h = identify_language(own, lang_[side]);
       if (!h.reliable || language_key(h.code[0]) != top || h.percent[0] < min_share_) return {};
     }
     return g.code[0];
+  }
+
+  // The strict word test against each candidate language (CLD2's answers'
+  // languages, then the side's close relatives), in that order; the first
+  // the words plainly favour is the verdict.
+  std::string words_verdict(int side, const std::string& own, std::initializer_list<const LanguageGuess*> guesses,
+                            size_t min_only, Asked& asked) const {
+    if (own_list_[side] < 0) return {};
+    std::vector<std::string> cands;
+    auto add = [&](const std::string& code) {
+      std::string k = language_key(code);
+      if (k == "un" || k.empty() || accepted(side, k)) return;
+      if (std::find(cands.begin(), cands.end(), code) == cands.end()) cands.push_back(code);
+    };
+    for (const LanguageGuess* g : guesses)
+      for (int k = 0; k < 3; ++k) add(g->code[k]);
+    for (const auto& r : related_languages(lang_[side])) add(r);
+    for (const auto& r : family_languages(lang_[side])) add(r);
+    std::string best;
+    size_t best_only = 0;
+    for (const auto& c : cands) {
+      size_t only = 0;
+      if (words_say(side, own, c, min_only, &only) == Words::kFound && only > best_only) {
+        best = c;
+        best_only = only;
+      }
+    }
+    asked.words = !best.empty();
+    return best;
   }
 
   bool accepted(int side, const std::string& key) const {
@@ -326,7 +539,12 @@ class LanguageStage : public Stage {
   int min_share_;
   std::vector<std::string> accept_[2];  // language keys accepted per side
   std::string lang_[2], key_[2];
-  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{};
+  std::string dir_;                        // spelling dictionaries ("" none)
+  std::vector<const WordList*> lists_;     // the dictionaries read (bit i: lists_[i])
+  std::vector<std::string> list_keys_;     // their language keys
+  int own_list_[2] = {-1, -1};             // each side's language's, or -1
+  uint32_t rivals_[2] = {0, 0};            // each side's relatives' and family's
+  std::atomic<uint64_t> judged_[2]{}, settled_[2]{}, few_[2]{}, rechecked_[2]{}, worded_[2]{}, by_words_[2]{};
   // Tells this stage's cached verdicts from another's (each stage object
   // has its own, so two stages or two runs in one process never share).
   uint64_t id_ = next_id();
@@ -353,6 +571,8 @@ const StageKind& language_kind() {
            "further language codes accepted on the source side"},
           {"target_accept", FieldType::kStringList, std::vector<std::string>{},
            "further language codes accepted on the target side"},
+          {"dictionaries", FieldType::kString, std::string("/usr/share/hunspell"),
+           "directory of spelling dictionaries (LL_CC.aff/.dic) for a word-level second opinion; \"\": none"},
       }};
   return k;
 }
@@ -376,8 +596,8 @@ Result<std::unique_ptr<Stage>> make_language(const StageContext& ctx) {
     for (const auto& a : p.list(side == 0 ? "source_accept" : "target_accept")) accept[side].push_back(language_key(a));
   }
   std::string langs[2] = {ctx.pipeline->corpus.source_lang, ctx.pipeline->corpus.target_lang};
-  return std::unique_ptr<Stage>(
-      std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), p.integer("min_share"), accept, langs));
+  return std::unique_ptr<Stage>(std::make_unique<LanguageStage>(ctx, p.integer("min_letters"), p.integer("min_share"),
+                                                                accept, langs, p.text("dictionaries")));
 }
 
 }  // namespace sheaf

@@ -52,6 +52,9 @@ struct LanguageGuess {
 LanguageGuess identify_language(std::string_view text, std::string_view hint = {});
 // Languages CLD2 confuses with `lang` on short text (accept_related).
 std::vector<std::string> related_languages(std::string_view lang);
+// Languages of the same family as `lang` (shared vocabulary): the
+// candidates the word test tries when CLD2 cannot place a text.
+std::vector<std::string> family_languages(std::string_view lang);
 // True when CLD2 knows the language code.
 bool cld2_knows(std::string_view code);
 // The code as the stage compares it: CLD2's code for the language, primary

@@ -38,9 +38,21 @@ TARGETED = ["repeat-exact", "copy", "partial-copy", "wrong-lang", "wrong-lang-re
 # margins are one point of retention and about two pairs of recall, below
 # the lowest language's full-set figure. Kinds that every language removes
 # completely are held to 100%.
+# Related languages are told apart by the spelling dictionaries the test
+# install list names (scripts/debian-packages.txt: hunspell-*); without them
+# the language stage falls back to CLD2 alone, and the margin is the one
+# measured that way (es/pt-BR 76.5/65.0% on the full sets, less two pairs).
 CHECKS = {"retention_min": 0.97, "recall_min": {
     "repeat-exact": 1.0, "copy": 1.0, "bad-bytes": 1.0, "damaged-markup": 1.0,
-    "partial-copy": 0.80, "wrong-lang": 0.88, "wrong-lang-source": 0.90, "wrong-lang-related": 0.55}}
+    "partial-copy": 0.80, "wrong-lang": 0.88, "wrong-lang-source": 0.90, "wrong-lang-related": 0.88}}
+DICTIONARIES = "/usr/share/hunspell"
+RELATED_MIN_WITHOUT_DICTIONARIES = 0.55
+
+
+def have_dictionaries(langs):
+    """True when every harness language (and English) has a dictionary."""
+    names = os.listdir(DICTIONARIES) if os.path.isdir(DICTIONARIES) else []
+    return all(any(n.startswith(l.split("_")[0]) and n.endswith(".dic") for n in names) for l in list(langs) + ["en"])
 
 # What must survive unchanged on both sides, or go from both: placeholders
 # (printf, brace, shell and template variables, <metavariables>) and tags.
@@ -165,6 +177,10 @@ def main():
     if r.returncode:
         return r.returncode
     langs = a.langs.split(",")
+    dicts = have_dictionaries([l for l in langs if make_sets.FAMILY.get(l)])  # the languages with relatives
+    if a.check and not dicts:
+        print("note: spelling dictionaries missing in %s; related languages held to %.0f%%" %
+              (DICTIONARIES, 100 * RELATED_MIN_WITHOUT_DICTIONARIES))
     result = {"command": " ".join(sys.argv), "langs": {}}
     ex = open(os.path.join(a.work, "examples.txt"), "w", encoding="utf-8")
     failures = []
@@ -200,7 +216,10 @@ def main():
         if a.check:
             if f["retention"] < CHECKS["retention_min"]:
                 failures.append("%s: retention %s%% < %s%%" % (lang, pct(f["retention"]), pct(CHECKS["retention_min"])))
-            for k, m in CHECKS["recall_min"].items():
+            mins = dict(CHECKS["recall_min"])
+            if not dicts:
+                mins["wrong-lang-related"] = RELATED_MIN_WITHOUT_DICTIONARIES
+            for k, m in mins.items():
                 if k in f["recall"] and f["recall"][k] < m:
                     failures.append("%s: recall of %s %s%% < %s%%" % (lang, k, pct(f["recall"][k]), pct(m)))
             if f["one_sided"]:
