@@ -21,11 +21,15 @@ struct Ctx {
   // Values that came from --set, with the "--set NAME.KEY" that gave them:
   // an error in one points there, not at a line of the file.
   std::map<const toml::node*, std::string> overridden;
+  // Copies of values (a [corpus.stages.NAME] key merged into its stage's
+  // table) with the place the original was written; a copy has none.
+  mutable std::map<const toml::node*, Location> copied;
   Location at(const toml::source_region& r) const {
     return Location{file, r.begin.line, r.begin.column, {}};
   }
   Location at(const toml::node& n) const {
     if (auto it = overridden.find(&n); it != overridden.end()) return Location{it->second, 0, 0, {}};
+    if (auto it = copied.find(&n); it != copied.end()) return it->second;
     if (!n.source().path) return Location{"--set", 0, 0, {}};  // inside a value given with --set
     return n.source().begin ? at(n.source()) : Location{file, 0, 0, {}};
   }
@@ -402,10 +406,12 @@ Status resolve_corpus_stages(const toml::array& arr, const toml::array* stages, 
           std::string key(kk.str());
           if (key == "kind" || key == "name")
             return pipeline_error("corpus \"" + c.name + "\": stages." + stage + " cannot change " + key, ctx.at(vv));
-          merged.insert_or_assign(key, vv);
+          auto placed = merged.insert_or_assign(key, vv);
+          ctx.copied[&placed.first->second] = ctx.at(vv);
         }
         const StageSpec& spec = p.stages[static_cast<size_t>(*i)];
         auto params = check_table(merged, spec.kind->fields, ctx, "corpus \"" + c.name + "\" stages." + stage, {"kind", "name"});
+        ctx.copied.clear();  // `merged` goes: its nodes' addresses may be reused
         if (!params.ok()) return params.error();
         c.stage_params.emplace_back(stage, std::move(params.value()));
       }

@@ -173,6 +173,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     rec.stages.push_back(
         {p.stages[static_cast<size_t>(i)].name, p.stages[static_cast<size_t>(i)].kind->kind, 0, 0, {}, {}});
   rec.stages.push_back({"output", "output", 0, 0, {}, {}});
+  // Every corpus lists every stage, also a corpus with no pair.
+  for (auto& c : rec.corpora) c.stage_out.assign(rec.stages.size(), 0);
 
   // Over-long lines are not held in memory: the reader streams their bytes
   // into rejected-long.tsv (created at the first one) as it skips them.

@@ -158,7 +158,7 @@ static Status write_summary(const StepContext& in, int threads) {
         ordered_json tj = hist_json(h, kTokenBin);
         tj["byte_token_rate"] = byte_token_rate(t);
         tj["unknown_tokens"] = t.unknown;
-        uint64_t words = lengths.words[s].sum();
+        uint64_t words = lengths.words[s].sum() - t.dropped_words;
         tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;
         side_j["tokens"] = tj;
       }

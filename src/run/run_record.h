@@ -110,7 +110,8 @@ struct VocabularyReport {
 // in summary.json.
 struct TokenLengths {  // one side of one split
   Histogram lengths;   // ids per pair, as written
-  uint64_t tokens = 0, byte_tokens = 0, unknown = 0;  // of the encoded text
+  uint64_t tokens = 0, byte_tokens = 0, unknown = 0;  // of the pairs in the shards
+  uint64_t dropped_words = 0;  // words of the split file's pairs a token limit left out
 };
 struct ShardSplit {
   std::string split;

@@ -11,6 +11,7 @@
 #include "stages/near_dup.h"
 #include "stages/normalize.h"
 #include "stages/pattern.h"
+#include "stages/per_corpus.h"
 #include "stages/script.h"
 #include "stages/shards.h"
 #include "stages/split.h"
@@ -110,6 +111,8 @@ Status check_stages(const Pipeline& p) {
       return true;
     };
     auto st = make_stage(ctx);
+    // Each corpus's own keys for the stage, built as the run builds them.
+    if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
     if (!st.ok()) return st.error();
     built.push_back(std::move(st.value()));
   }

@@ -161,6 +161,7 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
     uint32_t index = 0;
     Histogram tokens[2];
     uint64_t pair_index = 0;  // of the split file
+    uint64_t dropped_words[2] = {0, 0};  // words of the pairs a token limit left out
     EncodeStats totals[2];
     Status failed;
     auto flush = [&]() -> Status {
@@ -231,6 +232,17 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
                                }
                                auto sides = tsv_sides(line);
                                pass1->reject(*from, spec.name, reason, sides[0], sides[1]);
+                               // The split's token figures speak of the pairs
+                               // in the shards: take this pair's back out.
+                               for (int s = 0; s < 2; ++s) {
+                                 EncodeStats ps;
+                                 std::vector<uint32_t> scratch;
+                                 (s == 0 ? enc_s : enc_t).encode(sides[s], scratch, &ps);
+                                 totals[s].tokens -= ps.tokens;
+                                 totals[s].byte_tokens -= ps.byte_tokens;
+                                 totals[s].unknown -= ps.unknown;
+                                 dropped_words[s] += count_words(sides[s]);
+                               }
                                ++funnel.reasons[code];
                                auto& ex = funnel.examples[code];
                                if (ex.size() < 3) {
@@ -282,8 +294,16 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
       sp.side[s].tokens = totals[s].tokens;
       sp.side[s].byte_tokens = totals[s].byte_tokens;
       sp.side[s].unknown = totals[s].unknown;
+      sp.side[s].dropped_words = dropped_words[s];
     }
     sp.shards = index;
+    if (split_index == 0 && limited && rec.splits[0].second > 0 && sp.side[0].lengths.count() == 0)
+      return Error(ErrorKind::kData,
+                   "stage \"" + spec.name + "\": no pair of the " + split +
+                       " split is within the token limits (max_source_tokens = " + std::to_string(max_tokens[0]) +
+                       ", max_target_tokens = " + std::to_string(max_tokens[1]) +
+                       ", bos, tag and eos included); raise them, or set 0 for no limit",
+                   spec.where);
   }
   // Tokens (other than special and byte tokens) that no train sentence uses.
   auto unused = [](const Vocabulary& v, const std::vector<bool>& u) {

@@ -221,14 +221,14 @@ void old_run_figures(const std::string& vocab_path, const Vocabulary& v, ReusedV
 // the run unchanged, and is measured on dev at its own size and the sweep
 // sizes below it, so the summary says how well it covers the new text.
 Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const VocabularyPlan& plan,
+                          const std::vector<std::shared_ptr<const Vocabulary>>& loaded,
                           const std::vector<Job>& jobs, const std::string& dev_path, VocabularyReport& report,
                           LearnedVocabularies& out) {
   Location where = spec.params.where("reuse").empty() ? spec.where : spec.params.where("reuse");
   for (size_t i = 0; i < jobs.size(); ++i) {
     const Job& job = jobs[i];
     const std::string& path = plan.reuse[i];
-    auto v = Vocabulary::load(path);
-    if (!v.ok()) return v.error();
+    const std::shared_ptr<const Vocabulary>& v = loaded[i];
     if (v->info().side != job.side)
       return Error(ErrorKind::kPipeline,
                    "stage \"" + spec.name + "\": " + path + " is a " + v->info().side +
@@ -240,7 +240,7 @@ Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const Vo
     std::string rel = "vocab." + job.side + ".txt";
     SHEAF_TRY(write_output(*in.dir, *in.record, {rel, "vocabulary", "", job.side, v->size()}, v->serialize()));
     out.files.push_back(rel);
-    out.vocabularies.push_back(std::make_shared<const Vocabulary>(std::move(v.value())));
+    out.vocabularies.push_back(v);
     out.units.emplace_back();
     const Vocabulary* const vv = out.vocabularies.back().get();
     ReusedVocabulary reused{job.side, path, vv->checksum(), false, {}, {}};
@@ -271,7 +271,8 @@ Status reuse_vocabularies(const StepContext& in, const StageSpec& spec, const Vo
 
 namespace {
 
-Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpec& spec, int threads) {
+Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpec& spec, int threads,
+                                           const std::vector<std::shared_ptr<const Vocabulary>>& reused) {
   auto plan = vocabulary_plan(*in.pipeline, spec);
   if (!plan.ok()) return plan.error();
   RunRecord& rec = *in.record;
@@ -309,7 +310,7 @@ Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpe
   if (!plan->reuse.empty()) {
     report.learned_up_to = 0;
     report.reuse = true;
-    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, jobs, dev_path, report, out));
+    SHEAF_TRY(reuse_vocabularies(in, spec, *plan, reused, jobs, dev_path, report, out));
     rec.vocabulary = std::move(report);
     return out;
   }
@@ -383,12 +384,18 @@ Result<LearnedVocabularies> run_vocabulary(const StepContext& in, const StageSpe
 
 class VocabularyStep : public Step {
  public:
+  explicit VocabularyStep(std::vector<std::shared_ptr<const Vocabulary>> reused) : reused_(std::move(reused)) {}
   Status run(StepContext& ctx) override {
-    auto learned = run_vocabulary(ctx, *ctx.spec, ctx.threads);
+    auto learned = run_vocabulary(ctx, *ctx.spec, ctx.threads, reused_);
     if (!learned.ok()) return learned.error();
     ctx.products->put(kVocabularyProduct, std::move(learned.value()));
     return {};
   }
+
+ private:
+  // Reused vocabularies, read when the step is built: before the run takes
+  // its output directory, which may hold (and so remove) the very file.
+  std::vector<std::shared_ptr<const Vocabulary>> reused_;
 };
 
 }  // namespace
@@ -396,7 +403,13 @@ class VocabularyStep : public Step {
 Result<std::unique_ptr<Step>> make_vocabulary_step(const Pipeline& p, const StageSpec& spec) {
   auto plan = vocabulary_plan(p, spec);
   if (!plan.ok()) return plan.error();
-  return std::unique_ptr<Step>(std::make_unique<VocabularyStep>());
+  std::vector<std::shared_ptr<const Vocabulary>> reused;
+  for (const auto& path : plan->reuse) {
+    auto v = Vocabulary::load(path);
+    if (!v.ok()) return v.error();
+    reused.push_back(std::make_shared<const Vocabulary>(std::move(v.value())));
+  }
+  return std::unique_ptr<Step>(std::make_unique<VocabularyStep>(std::move(reused)));
 }
 
 }  // namespace sheaf
