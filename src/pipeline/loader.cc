@@ -431,7 +431,8 @@ Status resolve_corpus_stages(const toml::array& arr, const toml::array* stages, 
 Status check_order(const Pipeline& p) {
   static const char* order = "filters (normalize, length, ...), then split, then the steps (vocabulary, shards)";
   int phase = 0;  // 0 filters, 1 split, 2 steps
-  std::map<std::string, std::string> provided = {{std::string(kSplitsProduct), "pass 1"}};
+  std::map<std::string, std::string> provided = {{std::string(kSplitsProduct), "pass 1"},
+                                                  {std::string(kPass1Product), "pass 1"}};
   for (const auto& s : p.stages) {
     const StageKind& k = *s.kind;
     int want = k.role == StageRole::kFilter ? 0 : k.role == StageRole::kSplit ? 1 : 2;

@@ -1,6 +1,6 @@
 // _sheaf: the native half of the Python package (pybind11).
 //
-// Exposes the Tokenizer (stages/tokenizer.h): text through a run's text
+// Exposes the Tokenizer (pipeline/tokenizer.h): text through a run's text
 // rules to token ids, one text or a batch on several threads with the GIL
 // released, and ids back to text. Ids go out as NumPy uint32 arrays and come
 // in as anything NumPy can turn into integers. The Python modules of the

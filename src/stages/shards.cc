@@ -50,7 +50,7 @@ const StageKind& shards_kind() {
           {"max_target_tokens", FieldType::kInt, int64_t{0},
            "drop pairs whose target has more ids than this, bos/eos/tag included (0 = no limit)", 0, 4e9},
       },
-      {"splits", "vocabulary"},
+      {"splits", "vocabulary", "pass1"},
       {"shards"}};
   return k;
 }
