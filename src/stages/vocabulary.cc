@@ -204,8 +204,9 @@ void old_run_figures(const std::string& vocab_path, const Vocabulary& v, ReusedV
         std::vector<std::pair<std::string, double>> figures;
         for (const char* key : {"tokens_per_word", "byte_token_rate", "unknown_rate"})
           if (r.contains(key) && r[key].is_number()) figures.emplace_back(key, r[key].get<double>());
+        const std::string side_name(side);  // clang 14 cannot capture a structured binding
         auto at = std::find_if(out.old_figures.begin(), out.old_figures.end(),
-                               [&](const auto& f) { return f.first == side; });
+                               [&side_name](const auto& f) { return f.first == side_name; });
         if (at != out.old_figures.end())
           at->second = std::move(figures);
         else
