@@ -14,6 +14,7 @@
 #include "core/batch_pool.h"
 #include "core/tsan.h"
 #include "io/output_file.h"
+#include "report/figures.h"
 #include "report/html_report.h"
 #include "core/stats.h"
 #include "stages/vocabulary.h"
@@ -95,20 +96,85 @@ Result<SplitStats> scan(const std::string& path, const Vocabulary* vocab[2], int
   return total;
 }
 
-ordered_json hist_json(const Histogram& h, uint64_t width, double scale = 1.0) {
-  ordered_json j = ordered_json::parse(distribution_json(h.summary()));
-  if (scale != 1.0) {
-    for (const char* k : {"mean", "min", "p50", "p90", "p95", "p99", "max"}) j[k] = j[k].get<double>() / scale;
-    j.erase("sum");
+HistFigures hist_figures(const Histogram& h, uint64_t width, double scale = 1.0) {
+  HistFigures f;
+  f.dist = h.summary();
+  f.scale = scale;
+  f.mean = f.dist.mean / scale;
+  f.bin_width = static_cast<double>(width) / scale;
+  f.bins = h.bins(width, kBins);
+  return f;
+}
+
+ordered_json hist_json(const HistFigures& h) {
+  const Distribution& d = h.dist;
+  ordered_json j;
+  if (h.scale == 1.0) {
+    j = {{"count", d.count}, {"sum", d.sum}, {"mean", h.mean}, {"min", d.min}, {"p50", d.p50},
+         {"p90", d.p90},     {"p95", d.p95}, {"p99", d.p99},   {"max", d.max}};
+  } else {
+    auto shown = [&](uint64_t v) { return static_cast<double>(v) / h.scale; };
+    j = {{"count", d.count}, {"mean", h.mean},       {"min", shown(d.min)}, {"p50", shown(d.p50)},
+         {"p90", shown(d.p90)}, {"p95", shown(d.p95)}, {"p99", shown(d.p99)}, {"max", shown(d.max)}};
   }
   ordered_json bins = ordered_json::array();
-  for (uint64_t c : h.bins(width, kBins)) bins.push_back(c);
-  j["bin_width"] = static_cast<double>(width) / scale;
+  for (uint64_t c : h.bins) bins.push_back(c);
+  j["bin_width"] = h.bin_width;
   j["bins"] = bins;
   return j;
 }
 
 }  // namespace
+
+nlohmann::ordered_json summary_json(const SummaryFigures& f) {
+  const RunRecord& rec = *f.record;
+  ordered_json j;
+  j["format"] = "sheaf-summary";
+  j["format_version"] = kSummaryFormat;
+  j["counts"] = {{"read", rec.read}, {"kept", rec.kept}, {"rejected", rec.rejected}};
+  if (!rec.corpora.empty()) j["corpora"] = corpora_json(rec);
+  ordered_json funnel = ordered_json::array();
+  for (const auto& s : rec.stages) funnel.push_back(stage_count_json(s, true));
+  j["funnel"] = funnel;
+
+  ordered_json splits = ordered_json::object();
+  for (const SplitFigures& sp : f.splits) {
+    ordered_json sj = {{"pairs", sp.pairs}};
+    for (int s = 0; s < 2; ++s) {
+      const SideFigures& x = sp.side[s];
+      ordered_json side_j = {{"chars", hist_json(x.chars)}, {"words", hist_json(x.words)}};
+      if (x.tokens) {
+        ordered_json tj = hist_json(x.tokens->lengths);
+        tj["byte_token_rate"] = x.tokens->byte_token_rate;
+        tj["unknown_tokens"] = x.tokens->unknown;
+        tj["tokens_per_word"] = x.tokens->tokens_per_word;
+        side_j["tokens"] = tj;
+      }
+      sj[s ? "target" : "source"] = side_j;
+    }
+    sj["length_ratio"] = hist_json(sp.ratio);
+    splits[sp.name] = sj;
+  }
+  j["splits"] = splits;
+  ordered_json ov = ordered_json::array();
+  for (const auto& o : rec.overlaps) ov.push_back({{"split", o.a}, {"other", o.b}, {"shared_keys", o.keys}});
+  j["split_overlap"] = ov;
+  if (rec.vocabulary) {
+    ordered_json v = vocabulary_json(*rec.vocabulary);
+    ordered_json coverage = ordered_json::object();
+    for (const auto& [split, sides] : f.coverage)
+      for (const auto& [side, share] : sides) coverage[split][side] = share;
+    v["alphabet_coverage_of_other_splits"] = coverage;
+    if (rec.shards) {
+      const ShardsReport& s = *rec.shards;
+      v["unused_in_train"] = s.separate ? ordered_json{{"source", s.unused[0]}, {"target", s.unused[1]}}
+                                        : ordered_json{{"shared", s.unused[0]}};
+    }
+    j["vocabulary"] = v;
+  }
+  if (!rec.stopped_after.empty()) j["stopped_after"] = rec.stopped_after;
+  return j;
+}
 
 static Status write_summary(const StepContext& in, int threads) {
   RunRecord& rec = *in.record;
@@ -123,17 +189,8 @@ static Status write_summary(const StepContext& in, int threads) {
     if (side == "shared" || side == "target") per_side[1] = learned->vocabularies[i].get();
   }
 
-  ordered_json j;
-  j["format"] = "sheaf-summary";
-  j["format_version"] = kSummaryFormat;
-  j["counts"] = {{"read", rec.read}, {"kept", rec.kept}, {"rejected", rec.rejected}};
-  if (!rec.corpora.empty()) j["corpora"] = corpora_json(rec);
-  ordered_json funnel = ordered_json::array();
-  for (const auto& s : rec.stages) funnel.push_back(stage_count_json(s, true));
-  j["funnel"] = funnel;
-
-  ordered_json splits = ordered_json::object();
-  ordered_json coverage = ordered_json::object();
+  SummaryFigures f;
+  f.record = &rec;
   for (const auto& [name, pairs] : rec.splits) {
     // Lengths were gathered in pass 1; alphabet coverage needs a scan, done
     // only for the (small) splits other than train.
@@ -144,50 +201,42 @@ static Status write_summary(const StepContext& in, int threads) {
       if (!scanned.ok()) return scanned.error();
       st = std::move(scanned.value());
     }
-    ordered_json sj = {{"pairs", pairs}};
+    const ShardSplit* shard_split = nullptr;
+    for (size_t k = 0; rec.shards && k < rec.shards->splits.size(); ++k)
+      if (rec.shards->splits[k].split == name) shard_split = &rec.shards->splits[k];
+    SplitFigures sp;
+    sp.name = name;
+    sp.pairs = pairs;
+    std::vector<std::pair<std::string, double>> covered;
     for (int s = 0; s < 2; ++s) {
-      const char* side = s ? "target" : "source";
-      ordered_json side_j = {{"chars", hist_json(lengths.chars[s], kCharBin)},
-                             {"words", hist_json(lengths.words[s], kWordBin)}};
-      const ShardSplit* shard_split = nullptr;
-      for (size_t k = 0; rec.shards && k < rec.shards->splits.size(); ++k)
-        if (rec.shards->splits[k].split == name) shard_split = &rec.shards->splits[k];
+      SideFigures& x = sp.side[s];
+      x.chars = hist_figures(lengths.chars[s], kCharBin);
+      x.words = hist_figures(lengths.words[s], kWordBin);
       if (shard_split != nullptr) {
         const TokenLengths& t = shard_split->side[s];
-        const Histogram& h = t.lengths;
-        ordered_json tj = hist_json(h, kTokenBin);
-        tj["byte_token_rate"] = byte_token_rate(t);
-        tj["unknown_tokens"] = t.unknown;
+        TokenFigures tf;
+        tf.lengths = hist_figures(t.lengths, kTokenBin);
+        tf.byte_token_rate = byte_token_rate(t);
+        tf.unknown = t.unknown;
         uint64_t words = lengths.words[s].sum() - t.dropped_words;
-        tj["tokens_per_word"] = words ? static_cast<double>(h.sum()) / static_cast<double>(words) : 0.0;
-        side_j["tokens"] = tj;
+        tf.tokens_per_word = words ? static_cast<double>(t.lengths.sum()) / static_cast<double>(words) : 0.0;
+        x.tokens = std::move(tf);
       }
-      sj[side] = side_j;
       if (per_side[s] && name != "train" && st.side[s].letters > 0)
-        coverage[name][side] = static_cast<double>(st.side[s].covered) / static_cast<double>(st.side[s].letters);
+        covered.emplace_back(s ? "target" : "source",
+                             static_cast<double>(st.side[s].covered) / static_cast<double>(st.side[s].letters));
     }
+    if (!covered.empty()) f.coverage.emplace_back(name, std::move(covered));
     // The histogram holds each ratio floored to 0.01 (for its bins and
     // percentiles); the mean is the exact mean of the ratios.
-    sj["length_ratio"] = hist_json(lengths.ratio, kRatioBin, 100.0);
-    if (lengths.ratio.count() > 0)
-      sj["length_ratio"]["mean"] = lengths.ratio_sum / static_cast<double>(lengths.ratio.count());
-    splits[name] = sj;
+    sp.ratio = hist_figures(lengths.ratio, kRatioBin, 100.0);
+    if (lengths.ratio.count() > 0) sp.ratio.mean = lengths.ratio_sum / static_cast<double>(lengths.ratio.count());
+    f.splits.push_back(std::move(sp));
   }
-  j["splits"] = splits;
-  ordered_json ov = ordered_json::array();
-  for (const auto& o : rec.overlaps) ov.push_back({{"split", o.a}, {"other", o.b}, {"shared_keys", o.keys}});
-  j["split_overlap"] = ov;
-  if (rec.vocabulary) {
-    ordered_json v = vocabulary_json(*rec.vocabulary);
-    v["alphabet_coverage_of_other_splits"] = coverage;
-    if (rec.shards) v["unused_in_train"] = shards_json(*rec.shards)["unused_in_train"];
-    j["vocabulary"] = v;
-  }
-  if (!rec.stopped_after.empty()) j["stopped_after"] = rec.stopped_after;
 
-  std::string text = j.dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
+  std::string text = summary_json(f).dump(2, ' ', false, ordered_json::error_handler_t::replace) + "\n";
   SHEAF_TRY(write_output(*in.dir, rec, {"summary.json", "summary", "", "", 1}, text));
-  return write_output(*in.dir, rec, {"report.html", "report", "", "", 1}, render_report(text));
+  return write_output(*in.dir, rec, {"report.html", "report", "", "", 1}, render_report(f));
 }
 
 static Result<std::string> summary_text_unchecked(const std::string& summary_json);
@@ -225,7 +274,7 @@ static Result<std::string> summary_text_unchecked(const std::string& summary_jso
   for (const auto& s : j["funnel"]) {
     std::string reasons;
     for (auto& [k, v] : s["rejected"].items()) reasons += (reasons.empty() ? "" : ", ") + k + " " + num(v);
-    std::string changed = text_changes(s.dump());
+    std::string changed = text_changes(s);
     if (!changed.empty()) reasons += (reasons.empty() ? "" : "; ") + changed;
     std::snprintf(buf, sizeof buf, "  %-14s %12s %12s  ", s["name"].get<std::string>().c_str(), num(s["in"]).c_str(),
                   num(s["in"].get<uint64_t>() - s["out"].get<uint64_t>()).c_str());
