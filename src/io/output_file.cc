@@ -77,6 +77,30 @@ Status OutputFile::commit() {
   return {};
 }
 
+OutputFile::Mark OutputFile::mark() {
+  Mark m;
+  if (fd_ < 0) return m;
+  flush();
+  m.size = size_;
+  m.records = records_;
+  m.state = std::shared_ptr<XXH3_state_t>(XXH3_createState(), XXH3_freeState);
+  XXH3_copyState(m.state.get(), xxh_);
+  return m;
+}
+
+Status OutputFile::rewind(const Mark& m) {
+  if (fd_ < 0) return Error(ErrorKind::kInternal, "rewind of a file that is not open", Location{path_, 0, 0, {}});
+  buf_.clear();
+  if (!error_ && (::ftruncate(fd_, static_cast<off_t>(m.size)) != 0 ||
+                  ::lseek(fd_, static_cast<off_t>(m.size), SEEK_SET) < 0))
+    error_ = write_error(path_, errno);
+  size_ = m.size;
+  records_ = m.records;
+  if (m.state) XXH3_copyState(xxh_, m.state.get());
+  else XXH3_64bits_reset(xxh_);
+  return status();
+}
+
 void OutputFile::discard() {
   // Only a partial file this object created and still holds is removed: a
   // file never opened (path_ empty) must not unlink ".partial" in the

@@ -8,6 +8,7 @@
 #pragma once
 
 #include <cstdint>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -35,6 +36,17 @@ class OutputFile {
   Status commit();
   // Removes the partial file (after an error or interruption).
   void discard();
+
+  // A point to come back to: everything written so far (flushed to the
+  // partial file). rewind() cuts the file back to it, with its size, record
+  // count and checksum as they were, so a writer can take back the rows of
+  // a part of the work that failed.
+  struct Mark {
+    uint64_t size = 0, records = 0;
+    std::shared_ptr<XXH3_state_t> state;  // null: the empty file
+  };
+  Mark mark();
+  Status rewind(const Mark& m);
 
   const std::string& path() const { return path_; }
   uint64_t size() const { return size_; }

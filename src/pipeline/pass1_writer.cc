@@ -115,6 +115,8 @@ class Pass1WriterImpl {
           {names_[i] + ".tsv", "text", names_[i], "", files_[i]->records(), files_[i]->size(), files_[i]->checksum()});
     }
     // rejected.tsv stays open for the steps; its entry keeps its place.
+    // Its rows so far (pass 1's) are final whatever the steps do.
+    kept_rows_ = rejected_.mark();
     rejected_entry_ = rec_.outputs.size();
     rec_.outputs.push_back({"rejected.tsv", "rejected", "", "", 0, 0, 0});
     // Overlap between splits, measured on unseeded hashes of the split key
@@ -142,14 +144,17 @@ class Pass1WriterImpl {
     return {};
   }
 
+  void keep_rows() { kept_rows_ = rejected_.mark(); }
+
   // After the steps: commits rejected.tsv, removes the origin files.
-  Status close() {
+  Status close(bool take_back) {
     for (auto& f : origins_) {
       std::error_code ec;
       if (f->committed()) std::filesystem::remove(f->path(), ec);
       f->discard();
     }
     for (auto& r : origin_readers_) r.reset();
+    if (take_back) SHEAF_TRY(rejected_.rewind(kept_rows_));
     SHEAF_TRY(rejected_.commit());
     if (rejected_entry_ < rec_.outputs.size()) {
       OutputEntry& e = rec_.outputs[rejected_entry_];
@@ -366,6 +371,7 @@ class Pass1WriterImpl {
   std::vector<SplitLengths*> lengths_;
   OutputFile rejected_, spool_;
   size_t rejected_entry_ = SIZE_MAX;  // rejected.tsv's place in rec_.outputs
+  OutputFile::Mark kept_rows_;  // rejected.tsv up to the end of pass 1 or of the last step that succeeded
   std::vector<std::unique_ptr<OutputFile>> origins_;  // per split: (corpus u32, line u64) per pair
   std::vector<std::unique_ptr<std::ifstream>> origin_readers_;
   std::vector<std::unordered_set<uint64_t>> keys_;  // per split other than train: unseeded key hashes
@@ -387,7 +393,8 @@ void Pass1Writer::take(PairBatch& b) { impl_->take(b); }
 Status Pass1Writer::finish() { return impl_->finish(); }
 Status Pass1Writer::status() const { return impl_->status(); }
 void Pass1Writer::discard() { impl_->discard(); }
-Status Pass1Writer::close() { return impl_->close(); }
+void Pass1Writer::keep_rows() { impl_->keep_rows(); }
+Status Pass1Writer::close(bool take_back) { return impl_->close(take_back); }
 Result<Pass1Output::Origin> Pass1Writer::origin(size_t split, uint64_t index) { return impl_->origin(split, index); }
 void Pass1Writer::reject(const Origin& from, std::string_view stage, std::string_view reason, std::string_view source,
                          std::string_view target) {

@@ -43,9 +43,15 @@ class Pass1Writer : public Pass1Output {
   Status status() const;
   // Removes every file not yet committed.
   void discard();
+  // Marks the rows of rejected.tsv written so far as final: finish() does
+  // after pass 1, the runner after each step that succeeds.
+  void keep_rows();
   // After the steps (whether or not they succeeded): commits rejected.tsv
   // (which the steps may have added rows to) and removes the scratch files.
-  Status close();
+  // With `take_back`, the rows written since the last keep_rows() (those of
+  // a step that failed) are taken out first, so the file holds the rows of
+  // pass 1 and of the steps that completed, each complete.
+  Status close(bool take_back = false);
 
   // Pass1Output, for the steps.
   Result<Origin> origin(size_t split, uint64_t index) override;

@@ -312,7 +312,9 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
 
   // The steps after pass 1, in pipeline order (the loader checked that each
   // comes after what it needs), then the closing steps the caller gave.
-  // rejected.tsv is committed after them (a step may add rows to it).
+  // rejected.tsv is committed after them (a step may add rows to it). The
+  // rows of a step that fails are taken back out: the file then holds those
+  // of pass 1 and of the steps that completed, never a failed step's part.
   Products products;
   products.put(kPass1Product, static_cast<Pass1Output*>(&writer));
   StepContext ctx{&p, nullptr, &*dir, &rec, &products, threads};
@@ -320,8 +322,9 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   for (size_t k = 0; k < steps.size() && stepped.ok(); ++k) {
     ctx.spec = &p.stages[static_cast<size_t>(first_step) + k];
     stepped = steps[k]->run(ctx);
+    if (stepped.ok()) writer.keep_rows();
   }
-  Status closed = writer.close();
+  Status closed = writer.close(/*take_back=*/!stepped.ok());
   if (!stepped.ok()) return stepped.error();
   if (!closed.ok()) return closed.error();
   products.drop(kPass1Product);

@@ -14,6 +14,7 @@
 
 #include "core/huge_pages.h"
 #include "core/tsan.h"
+#include "stages/near_dup_table.h"
 
 namespace sheaf {
 
@@ -257,134 +258,6 @@ void NearDupSketch::band_keys(const std::vector<uint32_t>& signature, uint64_t* 
 
 namespace {
 
-// One band's keys of kept pairs, each with the index of its kept pair, in
-// 8-byte slots: open addressing, Robin Hood linear probing, doubling at 3/4
-// load. Entries stand in order of their home slot, each no nearer the start
-// than its home, so a lookup stops at the first slot whose entry is nearer
-// its home than the probe (a miss, the common case, usually reads one cache
-// line), and an insert puts the entry where that lookup stopped and moves
-// the rest of the run one slot on (a short copy, not a chain of swaps).
-//
-// A table of 2^q slots keeps the top 58 bits of a key without storing all
-// of them: the top q bits are the home slot, and a slot holds
-//   [distance from home + 1: 6 bits][the next 58 - q key bits][kept: q bits]
-// (0 = empty). The kept pair's index fits in q bits because each kept pair
-// puts exactly one key in every band's table, so the index is below the
-// table's count, below 3/4 of 2^q. On doubling, the home slot (position -
-// distance) and the stored bits give back the 58 bits, and one more of them
-// moves from the slot into the home. Two keys are taken for equal when
-// their top 58 bits are: a false match needs a 58-bit collision within a
-// band (docs/near-duplicates.md has the arithmetic).
-class BandIndex {
- public:
-  // Where a lookup stopped: the slot a missing key would take, and its
-  // distance + 1 there. Valid for insert() until the table changes.
-  struct Spot {
-    size_t pos = 0;
-    uint64_t d = 0;
-  };
-
-  BandIndex() : at_(kInitialLog2), slots_(at_.size()) {}
-
-  // The kept pair whose key agrees with `key` in its top 58 bits, or -1
-  // with `spot` set to where it would go.
-  int64_t find(uint64_t key, Spot& spot) const { return look(slots_, at_, key >> kDistBits, spot); }
-  // Starts loading the key's home slot (the tables are far larger than the
-  // caches; a pair's lookups are issued a few pairs ahead).
-  void prefetch(uint64_t key) const { __builtin_prefetch(&slots_[at_.home(key >> kDistBits)]); }
-  // Inserts a key that find() did not find, for kept pair `kept` (kept
-  // pairs are numbered 0, 1, 2, ... as they are inserted); `spot` is what
-  // that find() gave, the table unchanged since.
-  void insert(uint64_t key, uint64_t kept, Spot spot) {
-    uint64_t k = key >> kDistBits;
-    if ((size_ + 1) * 4 > slots_.size() * 3) {
-      grow();
-      look(slots_, at_, k, spot);
-    }
-    while (!shift_in(slots_, at_, k, kept, spot)) {  // a run too long for 6 bits (rare)
-      grow();
-      look(slots_, at_, k, spot);
-    }
-    ++size_;
-  }
-  size_t memory_bytes() const { return slots_.capacity() * sizeof(uint64_t); }
-
- private:
-  static constexpr int kDistBits = 6, kDistShift = 64 - kDistBits, kInitialLog2 = 12;
-  static constexpr uint64_t kMaxStored = (uint64_t{1} << kDistBits) - 1;  // distance + 1
-  static constexpr uint64_t kOneFurther = uint64_t{1} << kDistShift;
-
-  // Where the bits go in a table of 2^q slots.
-  struct Layout {
-    explicit Layout(int log2)
-        : q(log2),
-          w(64 - kDistBits - log2),
-          mask((size_t{1} << log2) - 1),
-          wmask((uint64_t{1} << w) - 1),
-          idmask((uint64_t{1} << log2) - 1) {}
-    size_t size() const { return mask + 1; }
-    size_t home(uint64_t k) const { return static_cast<size_t>(k >> w); }
-    int q, w;
-    size_t mask;
-    uint64_t wmask, idmask;
-  };
-
-  // Looks up the 58-bit key k: the kept index, or -1 and where k would go.
-  static int64_t look(const HugeVector<uint64_t>& t, const Layout& at, uint64_t k, Spot& spot) {
-    size_t i = at.home(k);
-    uint64_t rem = k & at.wmask;
-    for (uint64_t d = 1;; ++d, i = (i + 1) & at.mask) {
-      uint64_t s = t[i];
-      uint64_t sd = s >> kDistShift;
-      if (sd < d) {  // empty (0), or an entry nearer its home: ours would be here
-        spot = Spot{i, d};
-        return -1;
-      }
-      if (sd == d && ((s >> at.q) & at.wmask) == rem) return static_cast<int64_t>(s & at.idmask);
-    }
-  }
-  // Puts (k, kept) at `spot` and moves the entries from there to the next
-  // empty slot one slot on. False, with nothing changed, when a distance
-  // would not fit in its 6 bits.
-  static bool shift_in(HugeVector<uint64_t>& t, const Layout& at, uint64_t k, uint64_t kept, Spot spot) {
-    if (spot.d > kMaxStored) return false;
-    size_t e = spot.pos;
-    for (uint64_t s; (s = t[e]) != 0; e = (e + 1) & at.mask)
-      if ((s >> kDistShift) == kMaxStored) return false;
-    for (; e != spot.pos; e = (e - 1) & at.mask) t[e] = t[(e - 1) & at.mask] + kOneFurther;
-    t[spot.pos] = (spot.d << kDistShift) | ((k & at.wmask) << at.q) | kept;
-    return true;
-  }
-  // Doubles the table (or more, if an entry's run would not fit).
-  void grow() {
-    for (int q = at_.q + 1;; ++q) {
-      Layout to(q);
-      HugeVector<uint64_t> bigger(to.size());
-      bool ok = true;
-      for (size_t i = 0; i < slots_.size() && ok; ++i) {
-        uint64_t s = slots_[i];
-        if (s == 0) continue;
-        // The 58-bit key from the home slot (position - distance) and the
-        // stored bits; the kept index as it is.
-        size_t home = (i - static_cast<size_t>((s >> kDistShift) - 1)) & at_.mask;
-        uint64_t k = (static_cast<uint64_t>(home) << at_.w) | ((s >> at_.q) & at_.wmask);
-        Spot spot;
-        look(bigger, to, k, spot);
-        ok = shift_in(bigger, to, k, s & at_.idmask, spot);
-      }
-      if (ok) {
-        at_ = to;
-        slots_.swap(bigger);
-        return;
-      }
-    }
-  }
-
-  Layout at_;
-  HugeVector<uint64_t> slots_;
-  size_t size_ = 0;
-};
-
 class NearDupStage : public Stage {
  public:
   NearDupStage(const StageContext& ctx, const NearDupOptions& o, int scope)
@@ -452,7 +325,7 @@ class NearDupStage : public Stage {
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
     // The deque's blocks hold 64 values each (libstdc++: 512 bytes).
     size_t bytes = (kept_.size() + 63) / 64 * 512;
-    for (const BandIndex& t : tables_) bytes += t.memory_bytes();
+    for (const NearDupBandTable& t : tables_) bytes += t.memory_bytes();
     return {{"kept_sketches", kept_.size()}, {"table_bytes", bytes}};
   }
 
@@ -462,8 +335,8 @@ class NearDupStage : public Stage {
   const Pipeline* pipeline_;
   NearDupSketch sketch_;
   int scope_;  // 0 source, 1 target, 2 pair
-  std::vector<BandIndex> tables_;  // one per band: a partitioned run can own some bands each
-  std::vector<BandIndex::Spot> spots_;  // where each band's lookup of the current pair stopped
+  std::vector<NearDupBandTable> tables_;  // one per band: a partitioned run can own some bands each
+  std::vector<NearDupBandTable::Spot> spots_;  // where each band's lookup of the current pair stopped
   // Per kept pair: corpus << 48 | line. A deque, not a vector: it grows
   // by blocks, with no spare half and no copy at a doubling.
   std::deque<uint64_t> kept_;

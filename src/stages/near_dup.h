@@ -33,7 +33,9 @@
 // kept pair), load between 3/8 and 3/4, so 168 to 328 bytes with 15 bands
 // (docs/near-duplicates.md has the arithmetic, and why 64 is out of reach
 // while the reason names the kept line). The tables double one at a time,
-// so a doubling briefly adds 2/15 of the total, not twice it. One table per
+// so a doubling briefly adds 2/15 of the total, not twice it. Keys that
+// the slots cannot hold (crafted to share home slots) go to a small
+// overflow map, never to a bigger table (stages/near_dup_table.h). One table per
 // band is also the split a partitioned run needs: each partition can own
 // some bands and resolve their keys there.
 #pragma once

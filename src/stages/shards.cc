@@ -4,6 +4,7 @@
 #include <oneapi/tbb/parallel_pipeline.h>
 #include <oneapi/tbb/task_arena.h>
 
+#include <algorithm>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
@@ -357,7 +358,66 @@ class ShardsStep : public Step {
 
 }  // namespace
 
-Result<std::unique_ptr<Step>> make_shards_step(const Pipeline& /*p*/, const StageSpec& /*spec*/) {
+namespace {
+
+// Checks source_tag and target_tag against the vocabulary the step will
+// encode with, when the step is built (by `sheaf validate`, and by `sheaf
+// run` before pass 1): the user tokens of the vocabulary stage before this
+// one, or, when that stage reuses vocabulary files, the files' user tokens.
+// run_shards checks again against the vocabulary it is given.
+Status check_tags(const Pipeline& p, const StageSpec& spec) {
+  const Params& q = spec.params;
+  if (q.text("source_tag").empty() && q.text("target_tag").empty()) return {};
+  const StageSpec* voc = nullptr;
+  for (const StageSpec& s : p.stages) {
+    if (&s == &spec) break;
+    if (s.kind->kind == vocabulary_kind().kind) voc = &s;
+  }
+  if (voc == nullptr) return {};  // the loader names a missing vocabulary
+  auto plan = vocabulary_plan(p, *voc);
+  if (!plan.ok()) return plan.error();
+  std::vector<Vocabulary> reused;
+  for (size_t s = 0; s < 2; ++s) {
+    const char* key = s == 0 ? "source_tag" : "target_tag";
+    const std::string& t = q.text(key);
+    if (t.empty()) continue;
+    Location where = q.where(key).empty() ? spec.where : q.where(key);
+    std::string head = "stage \"" + spec.name + "\": " + key + " \"" + t + "\" ";
+    if (plan->reuse.empty()) {
+      const auto& u = plan->user_tokens;
+      if (std::find(u.begin(), u.end(), t) == u.end())
+        return Error(ErrorKind::kPipeline,
+                     head + "is not one of the user_tokens of vocabulary stage \"" + voc->name +
+                         "\"; add it to that stage's user_tokens, or set " + key + " = \"\" for no tag",
+                     where);
+      continue;
+    }
+    if (reused.empty()) {
+      for (const auto& path : plan->reuse) {
+        auto v = Vocabulary::load(path);
+        if (!v.ok()) return v.error();
+        reused.push_back(std::move(v.value()));
+      }
+    }
+    size_t file = std::min(s, reused.size() - 1);
+    if (reused[file].user_id(t) < 0) {
+      std::string have;
+      for (const auto& [tok, id] : reused[file].user_tokens()) have += (have.empty() ? "" : ", ") + tok;
+      return Error(ErrorKind::kPipeline,
+                   head + "is not a user-defined token of the vocabulary that stage \"" + voc->name + "\" reuses (" +
+                       plan->reuse[file] + ", whose user tokens are " + (have.empty() ? "none" : have) +
+                       "); use one of those, set " + key +
+                       " = \"\" for no tag, or learn a new vocabulary with it in user_tokens",
+                   where);
+    }
+  }
+  return {};
+}
+
+}  // namespace
+
+Result<std::unique_ptr<Step>> make_shards_step(const Pipeline& p, const StageSpec& spec) {
+  SHEAF_TRY(check_tags(p, spec));
   return std::unique_ptr<Step>(std::make_unique<ShardsStep>());
 }
 

@@ -170,3 +170,26 @@ def test_reusing_a_vocabulary_of_the_output_directory_never_deletes_it(tmp_path)
                   "--set", f'vocabulary.reuse=["{vocab}"]')
     assert vocab.exists(), r.stderr.decode()
     assert vocab.read_bytes() == before
+
+
+# A step that fails after writing rows: with a token limit that leaves no
+# train pair (1 id with eos on), the shards step writes a too-many-tokens
+# row for every train pair, then fails. rejected.tsv must not keep those
+# rows as if the run had completed (docs/outputs.md, "What a failed run
+# leaves"): it holds pass 1's rows only, byte for byte those of the same
+# pipeline run without a limit, and no .partial file is left.
+def test_a_failed_step_takes_its_rows_back_out_of_rejected(tmp_path, demo_run):
+    out = tmp_path / "run"
+    r = run_sheaf("run", os.path.join(SOURCE_DIR, "pipelines", "demo.toml"), "--out", str(out), "--quiet",
+                  "--threads", "2", "--set", "shards.max_source_tokens=1")
+    assert r.returncode == 1, r.stderr.decode()
+    assert not (out / "manifest.json").exists()
+    rejected = (out / "rejected.tsv").read_bytes()
+    assert b"\tshards\ttoo-many-tokens" not in rejected
+    assert rejected == (demo_run / "rejected.tsv").read_bytes()
+    assert not [p for p in out.rglob("*.partial")]
+    # The next run into the directory succeeds and writes the rows again.
+    r = run_sheaf("run", os.path.join(SOURCE_DIR, "pipelines", "demo.toml"), "--out", str(out), "--quiet",
+                  "--threads", "2", "--set", f"shards.max_source_tokens={SOURCE_LIMIT}")
+    assert r.returncode == 0, r.stderr.decode()
+    assert b"\tshards\ttoo-many-tokens:source\t" in (out / "rejected.tsv").read_bytes()

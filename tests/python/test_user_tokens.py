@@ -59,3 +59,32 @@ def test_a_tag_that_is_not_a_user_token_is_refused(tmp_path):
     r = run_sheaf("run", SOURCE_DIR + "/pipelines/demo.toml", "--out", str(tmp_path / "run"), "--quiet",
                   "--set", 'shards.source_tag="<2fr>"')
     assert r.returncode == 2 and b"user_tokens" in r.stderr, r.stderr
+
+
+# A bad tag is refused when the pipeline is built, not after the cleaning
+# pass: `sheaf validate` refuses it (exit 2), and `sheaf run` stops before
+# pass 1 has written anything. The message names the key, the tag and what
+# to do.
+def test_validate_refuses_a_tag_that_is_not_a_user_token(tmp_path):
+    pipeline = SOURCE_DIR + "/pipelines/demo.toml"
+    r = run_sheaf("validate", pipeline, "--set", 'vocabulary.user_tokens=["<2es>"]',
+                  "--set", 'shards.source_tag="<2fr>"')
+    assert r.returncode == 2, r.stderr
+    assert b'source_tag "<2fr>"' in r.stderr and b"user_tokens" in r.stderr, r.stderr
+    r = run_sheaf("validate", pipeline, "--set", 'vocabulary.user_tokens=["<2es>"]',
+                  "--set", 'shards.target_tag="<2es>"')
+    assert r.returncode == 0, r.stderr
+    out = tmp_path / "run"
+    r = run_sheaf("run", pipeline, "--out", str(out), "--quiet", "--set", 'shards.target_tag="<2fr>"')
+    assert r.returncode == 2 and b'target_tag "<2fr>"' in r.stderr, r.stderr
+    assert not (out / "train.tsv").exists() and not (out / "rejected.tsv").exists()
+
+
+def test_validate_checks_a_tag_against_a_reused_vocabulary(tmp_path, demo_run):
+    # The demo's vocabulary has no user tokens: the message says so and
+    # names the file.
+    vocab = demo_run / "vocab.shared.txt"
+    r = run_sheaf("validate", SOURCE_DIR + "/pipelines/demo.toml", "--set", f'vocabulary.reuse=["{vocab}"]',
+                  "--set", 'shards.source_tag="<2es>"')
+    assert r.returncode == 2, r.stderr
+    assert b'source_tag "<2es>"' in r.stderr and str(vocab).encode() in r.stderr and b"none" in r.stderr, r.stderr

@@ -132,6 +132,50 @@ TEST(Edges, AnOutputNeverWritesThroughALinkedPartialFile) {
   EXPECT_FALSE(std::filesystem::is_symlink(t / "train.tsv"));
 }
 
+// rewind() takes back what was written after a mark: the committed file,
+// its size, record count and checksum are those of a file that only ever
+// got the rows before the mark (checksum: XXH3-64 of the file as read back,
+// the xxHash library's own answer), also across the write buffer.
+TEST(Edges, AnOutputRewoundToAMarkIsTheFileUpToIt) {
+  test::TempDir t;
+  OutputFile f;
+  ASSERT_TRUE(f.open(t / "rejected.tsv").ok());
+  std::string kept;
+  for (int i = 0; i < 1000; ++i) {
+    std::string row = std::to_string(i) + "\tpass1\treason\t-\tline\n";
+    kept += row;
+    f.write(row);
+    f.add_record();
+  }
+  auto m = f.mark();
+  EXPECT_EQ(m.size, kept.size());
+  // More than the 1 MiB buffer after the mark: some reaches the file.
+  std::string step_row(1000, 'x');
+  for (int i = 0; i < 3000; ++i) {
+    f.write(step_row + "\n");
+    f.add_record();
+  }
+  ASSERT_TRUE(f.rewind(m).ok());
+  ASSERT_TRUE(f.commit().ok());
+  EXPECT_EQ(test::read_file(t / "rejected.tsv"), kept);
+  EXPECT_EQ(f.records(), 1000u);
+  EXPECT_EQ(f.size(), kept.size());
+  uint64_t size = 0;
+  auto sum = checksum_file(t / "rejected.tsv", &size);
+  ASSERT_TRUE(sum.ok());
+  EXPECT_EQ(f.checksum(), *sum);
+  EXPECT_EQ(f.checksum(), XXH3_64bits(kept.data(), kept.size()));
+  // A mark of a file with nothing in it rewinds to empty.
+  OutputFile g;
+  ASSERT_TRUE(g.open(t / "empty.tsv").ok());
+  auto none = g.mark();
+  g.write("row\n");
+  ASSERT_TRUE(g.rewind(none).ok());
+  ASSERT_TRUE(g.commit().ok());
+  EXPECT_EQ(test::read_file(t / "empty.tsv"), "");
+  EXPECT_EQ(g.checksum(), XXH3_64bits(nullptr, 0));
+}
+
 // A directory of someone else's files is refused, and keeps no lock file.
 TEST(Edges, ARefusedDirectoryKeepsNoLockFile) {
   test::TempDir t;
