@@ -317,6 +317,9 @@ WordShare shared_words(std::string_view side, std::string_view other) {
   WordShare r;
   for (const Word& w : s.words[0]) {
     if (w.digit || w.letters == 0) continue;
+    // An acronym or metavariable (RTS, FILE) is kept as it is in a
+    // translation: copied, it says nothing of whether the rest is.
+    if (w.upper >= 2 && w.lower == 0 && w.upper == w.letters) continue;
     ++r.words;
     r.shared += theirs.has(side, w);
   }

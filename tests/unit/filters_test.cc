@@ -5,6 +5,7 @@
 #include <unordered_map>
 
 #include "stage_util.h"
+#include "stages/own_text.h"
 #include "stages/copy.h"
 #include "stages/dedup.h"
 #include "stages/dedup_table.h"
@@ -62,6 +63,21 @@ TEST(Length, MinAboveMaxIsAPipelineError) {
   test::StageHarness h("kind = \"length\"\nsource_min = 9\nsource_max = 3");
   EXPECT_FALSE(h.ok());
   EXPECT_NE(h.error().find("source_min is above source_max"), std::string::npos) << h.error();
+}
+
+// Acronyms and metavariables in capitals (RTS, CTS, FILE) stay as they are in
+// a translation, so copied they say nothing: the copy test leaves them out
+// of the count, as own_text does. The pair is coreutils' (Debian package
+// coreutils, ja catalogue, /usr/share/locale/ja/LC_MESSAGES/coreutils.mo):
+// with them it counted "3 of 4 words copied" and was dropped as untranslated.
+TEST(Copy, CopiedAcronymsAreNoEvidence) {
+  test::StageHarness h("kind = \"copy\"", "en", "ja");
+  EXPECT_EQ(h.reason("* [-]crtscts enable RTS/CTS handshaking", "* [-]crtscts RTS/CTS フロー制御を有効にする"), "");
+  // One word of four translated is still a copy.
+  EXPECT_EQ(h.reason("Open the selected folder", "Open the selected フォルダ"), "copy:words");
+  WordShare w = shared_words("crtscts RTS CTS FILE フロー制御を有効にする", "crtscts enable RTS/CTS handshaking FILE");
+  EXPECT_EQ(w.words, 2u);   // crtscts and the clause
+  EXPECT_EQ(w.shared, 1u);  // crtscts
 }
 
 TEST(Copy, IdenticalAndOverlappingSides) {
