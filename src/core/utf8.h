@@ -9,6 +9,11 @@
 // unchanged. tests/unit/utf8_test.cc holds the cursor to U8_NEXT on every
 // scalar value and to the standard's tables on ill-formed input.
 //
+// Loops that treat ASCII apart test byte() < 0x80 and take() the byte
+// before they call next(): the test on the decoded value that would replace
+// it costs an instruction or two per character in the hottest loops
+// (measured with callgrind, docs/performance.md).
+//
 // The eight-byte ASCII step (ascii_run) hands out core/text.h's AsciiRun:
 // the loops test its bytes with core/text.h's exact bit-parallel helpers
 // (bytes_zero, bytes_equal, ascii_bytes_at_least, ascii_bytes_below).
@@ -54,6 +59,9 @@ class Utf8Cursor {
     U8_NEXT(p_, i_, n_, c);
     return c;
   }
+  // The byte at pos(), moving past it: for a caller that has seen it is
+  // ASCII (byte() < 0x80) and takes it without the decoder's checks.
+  uint8_t take() { return p_[i_++]; }
   // Moves past k bytes the caller has already judged (an ASCII byte, or the
   // ASCII bytes of an ascii_run).
   void skip(size_t k) { i_ += static_cast<int32_t>(k); }

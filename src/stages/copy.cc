@@ -20,11 +20,12 @@ void code_points(std::string_view s, std::vector<UChar32>& out) {
   out.reserve(s.size());
   Utf8Cursor u(s);
   while (!u.done()) {
-    UChar32 c = u.next();
-    if (c >= 0 && c < 0x80) {
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       out.push_back(c >= 'A' && c <= 'Z' ? c + 32 : c);
       continue;
     }
+    UChar32 c = u.next();
     out.push_back(c < 0 ? 0xFFFD : u_tolower(c));
   }
 }

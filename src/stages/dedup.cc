@@ -14,15 +14,16 @@ std::string loose_key(std::string_view text) {
   out.reserve(text.size());
   Utf8Cursor u(text);
   while (!u.done()) {
-    UChar32 c = u.next();
-    if (c < 0) continue;
-    if (c < 0x80) {
+    if (u.byte() < 0x80) {
+      UChar32 c = u.take();
       // In ASCII only letters survive: the rest is digits, punctuation,
       // symbols, spaces or controls.
       if (c >= 'a' && c <= 'z') out += static_cast<char>(c);
       else if (c >= 'A' && c <= 'Z') out += static_cast<char>(c + 32);
       continue;
     }
+    UChar32 c = u.next();
+    if (c < 0) continue;
     uint32_t mask = U_GET_GC_MASK(c);
     if (mask & (U_GC_P_MASK | U_GC_S_MASK | U_GC_ND_MASK | U_GC_Z_MASK | U_GC_C_MASK)) continue;
     c = u_tolower(c);

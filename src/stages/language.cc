@@ -138,11 +138,11 @@ bool settled_by_script(std::string_view own, const std::string& key) {
   bool any = false;
   Utf8Cursor u(own);
   while (!u.done()) {
-    UChar32 c = u.next();
-    if (c >= 0 && c < 0x80) {
-      if (static_cast<unsigned>((c | 0x20) - 'a') < 26u) return false;
+    if (u.byte() < 0x80) {
+      if (static_cast<unsigned>((u.take() | 0x20) - 'a') < 26u) return false;
       continue;
     }
+    UChar32 c = u.next();
     if (c < 0 || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
     UErrorCode st = U_ZERO_ERROR;
     const char* sole = sole_language_of_script(uscript_getScript(c, &st));

@@ -84,10 +84,15 @@ bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) 
         continue;
       }
     }
-    UChar32 c = u.next();
-    if (c < 0) {
-      *valid = false;
-      return false;
+    UChar32 c;
+    if (u.byte() < 0x80) {
+      c = u.take();
+    } else {
+      c = u.next();
+      if (c < 0) {
+        *valid = false;
+        return false;
+      }
     }
     CharClass k;
     if (c < 0x10000) {

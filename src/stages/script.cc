@@ -76,14 +76,15 @@ ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>&
   Utf8Cursor u(text);
   bool latin_expected = std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end();
   while (!u.done()) {
-    UChar32 c = u.next();
-    if (c >= 0 && c < 0x80) {
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
         ++r.letters;
         r.expected += latin_expected;
       }
       continue;
     }
+    UChar32 c = u.next();
     if (c < 0 || !u_isalpha(c) || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
     UErrorCode st = U_ZERO_ERROR;
     UScriptCode s = uscript_getScript(c, &st);
@@ -122,16 +123,17 @@ ScriptCount ScriptTable::count(std::string_view text) const {
       u.skip(static_cast<size_t>(w.ascii));
       continue;
     }
-    size_t at = u.pos();
-    UChar32 c = u.next();
-    if (c < 0) continue;
-    if (c < 0x80) {
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
         ++r.letters;
         r.expected += latin_;
       }
       continue;
     }
+    size_t at = u.pos();
+    UChar32 c = u.next();
+    if (c < 0) continue;
     if (c < 0x10000) {
       uint8_t k = bmp_[static_cast<size_t>(c)];
       r.letters += k != 0;

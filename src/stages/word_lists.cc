@@ -143,12 +143,15 @@ std::vector<std::string_view> dictionary_words(std::string_view text, size_t mos
   };
   while (!u.done() && out.size() < most) {
     auto at = static_cast<int32_t>(u.pos());
-    UChar32 c = u.next();
+    UChar32 c;
     bool letter;
-    if (c >= 0 && c < 0x80)  // most of the text: no property lookup
+    if (u.byte() < 0x80) {  // most of the text: no decoding, no property lookup
+      c = u.take();
       letter = static_cast<unsigned>((c | 0x20) - 'a') < 26u;
-    else
+    } else {
+      c = u.next();
       letter = c >= 0 && (U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK));
+    }
     bool apostrophe = c == '\'' || c == 0x2019;
     if (letter) {
       if (start < 0) start = at;
