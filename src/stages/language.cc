@@ -19,8 +19,8 @@
 #include <mutex>
 #include <vector>
 
-#include "stages/own_text.h"
 #include "core/utf8.h"
+#include "stages/own_text.h"
 #include "stages/word_lists.h"
 
 namespace sheaf {

@@ -1,5 +1,4 @@
 #include "stages/own_text.h"
-#include "core/utf8.h"
 
 #include <unicode/uchar.h>
 #include <unicode/utf8.h>
@@ -7,6 +6,8 @@
 #include <cctype>
 #include <cstdint>
 #include <vector>
+
+#include "core/utf8.h"
 
 namespace sheaf {
 

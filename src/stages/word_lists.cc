@@ -1,5 +1,4 @@
 #include "stages/word_lists.h"
-#include "core/utf8.h"
 
 #include <unicode/uchar.h>
 #include <unicode/ucnv.h>
@@ -14,6 +13,8 @@
 #include <map>
 #include <memory>
 #include <mutex>
+
+#include "core/utf8.h"
 
 namespace sheaf {
 
