@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "config/pipeline.h"
+#include "core/text.h"
 
 namespace sheaf {
 
@@ -89,8 +90,7 @@ void render_fields(std::ostringstream& out, const Params& params, const FieldLis
         continue;
       }
       // Columns count code points: the special tokens' spellings are not ASCII.
-      size_t width = 0;
-      for (char c : line) width += (static_cast<unsigned char>(c) & 0xC0) != 0x80;
+      size_t width = count_code_points(line);
       size_t pad = width < 34 ? 34 - width : 1;
       line += std::string(pad, ' ') + "# " + f.help;
     }

@@ -1,6 +1,7 @@
 #include "core/text.h"
 
 #include "core/error.h"
+#include "core/utf8.h"
 
 #include <unicode/brkiter.h>
 #include <unicode/uchar.h>
@@ -27,35 +28,22 @@ bool is_ascii(std::string_view s) {
 }
 
 bool is_valid_utf8(std::string_view s) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size());
-  int32_t i = 0;
-  while (i < n) {
-    if (p[i] < 0x80) {
-      ++i;
-      continue;
-    }
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
-    if (c < 0) return false;
-  }
+  Utf8Cursor u(s);
+  while (!u.done())
+    if (u.next() < 0) return false;
   return true;
 }
 
 size_t repair_utf8(std::string_view s, std::string& out) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size());
-  int32_t i = 0;
+  Utf8Cursor u(s);
   size_t repairs = 0;
-  while (i < n) {
-    int32_t start = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
-    if (c < 0) {
+  while (!u.done()) {
+    size_t start = u.pos();
+    if (u.next() < 0) {
       out += "\xEF\xBF\xBD";
       ++repairs;
     } else {
-      out.append(s.data() + start, static_cast<size_t>(i - start));
+      out.append(s.data() + start, u.pos() - start);
     }
   }
   return repairs;
@@ -63,7 +51,7 @@ size_t repair_utf8(std::string_view s, std::string& out) {
 
 size_t count_code_points(std::string_view s) {
   size_t n = 0;
-  for (unsigned char c : s) n += (c & 0xC0) != 0x80;
+  for (unsigned char c : s) n += !utf8_continuation(c);
   return n;
 }
 
@@ -131,17 +119,13 @@ const uint8_t* word_classes() {
   return table.data();
 }
 
-// The class of the code point at p[i], advancing i; kOther for anything the
-// fast path leaves to ICU (including ill-formed UTF-8 and supplementary
-// planes).
-inline uint8_t class_at(const uint8_t* table, const uint8_t* p, int32_t n, int32_t& i) {
-  UChar32 c;
-  if (p[i] < 0x80) {
-    c = p[i++];
-  } else {
-    U8_NEXT(p, i, n, c);
-    if (c < 0 || c > 0xFFFF) return kOther;
-  }
+// The class of the code point at the cursor, moving past it; kOther for
+// anything the fast path leaves to ICU (including ill-formed UTF-8 and
+// supplementary planes).
+inline uint8_t class_at(const uint8_t* table, Utf8Cursor& u) {
+  if (u.byte() < 0x80) return table[u.take()];
+  UChar32 c = u.next();
+  if (c < 0 || c > 0xFFFF) return kOther;
   return table[c];
 }
 
@@ -233,12 +217,12 @@ template <typename OnBreak, typename OnCount>
 bool walk_words(std::string_view s, OnBreak&& on_break, OnCount&& on_count) {
   const uint8_t* table = word_classes();
   const WordAutomaton& a = word_automaton();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0, mid = 0;
+  Utf8Cursor u(s);
+  size_t mid = 0;
   uint8_t st = kOut;
-  while (i < n) {
-    int32_t at = i;
-    uint8_t c = class_at(table, p, n, i);
+  while (!u.done()) {
+    size_t at = u.pos();
+    uint8_t c = class_at(table, u);
     if (c == kOther) return false;
     uint8_t r = a.next[st][c];
     if ((r & kBreakMid) != 0) on_break(static_cast<uint32_t>(mid));
@@ -315,6 +299,9 @@ namespace {
 bool count_words_fast(std::string_view s, size_t& count, size_t& chars) {
   const uint8_t* table = word_classes();
   const WordAutomaton& a = word_automaton();
+  // The pair loop keeps its own 32-bit index (callgrind: a size_t index
+  // shared with a cursor costs it ~2% more instructions on ASCII); the
+  // cursor steps over the rest.
   const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
   int32_t n = static_cast<int32_t>(s.size()), i = 0;
   size_t words = 0, steps = 0;
@@ -332,7 +319,9 @@ bool count_words_fast(std::string_view s, size_t& count, size_t& chars) {
       steps += 2;
     }
     if (i >= n) break;
-    uint8_t c = class_at(table, p, n, i);
+    Utf8Cursor u(s, static_cast<size_t>(i));
+    uint8_t c = class_at(table, u);
+    i = static_cast<int32_t>(u.pos());
     if (c == kOther) return false;
     uint8_t r = a.next[st][c];
     words += r >> 7;

@@ -14,20 +14,8 @@
 
 namespace sheaf {
 
-// Calls fn(c, bytes) for each code point of `s` in order: c is the code
-// point, or negative for an ill-formed sequence (one call per maximal
-// ill-formed subpart, as ICU's U8_NEXT delimits them); bytes are its UTF-8.
-template <typename Fn>
-void for_each_char(std::string_view s, Fn&& fn) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  while (i < n) {
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
-    fn(c, s.substr(static_cast<size_t>(at), static_cast<size_t>(i - at)));
-  }
-}
+// Walking text a code point at a time (the UTF-8 cursor, for_each_char)
+// is core/utf8.h.
 
 bool is_ascii(std::string_view s);
 

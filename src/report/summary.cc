@@ -11,6 +11,7 @@
 #include <sstream>
 
 #include "core/text.h"
+#include "core/utf8.h"
 #include "core/batch_pool.h"
 #include "core/tsan.h"
 #include "io/output_file.h"

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "core/text.h"
+#include "core/utf8.h"
 #include "stages/own_text.h"
 
 namespace sheaf {
@@ -17,16 +18,14 @@ namespace {
 void code_points(std::string_view s, std::vector<UChar32>& out) {
   out.clear();
   out.reserve(s.size());
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
-  int32_t n = static_cast<int32_t>(s.size()), i = 0;
-  while (i < n) {
-    if (p[i] < 0x80) {
-      unsigned char c = p[i++];
+  Utf8Cursor u(s);
+  while (!u.done()) {
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       out.push_back(c >= 'A' && c <= 'Z' ? c + 32 : c);
       continue;
     }
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+    UChar32 c = u.next();
     out.push_back(c < 0 ? 0xFFFD : u_tolower(c));
   }
 }

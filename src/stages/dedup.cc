@@ -4,6 +4,7 @@
 #include <unicode/utf8.h>
 #include <xxhash.h>
 
+#include "core/utf8.h"
 #include "stages/dedup_table.h"
 
 namespace sheaf {
@@ -11,19 +12,17 @@ namespace sheaf {
 std::string loose_key(std::string_view text) {
   std::string out;
   out.reserve(text.size());
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
-  while (i < n) {
-    UChar32 c;
-    if (p[i] < 0x80) {
-      c = p[i++];
+  Utf8Cursor u(text);
+  while (!u.done()) {
+    if (u.byte() < 0x80) {
+      UChar32 c = u.take();
       // In ASCII only letters survive: the rest is digits, punctuation,
       // symbols, spaces or controls.
       if (c >= 'a' && c <= 'z') out += static_cast<char>(c);
       else if (c >= 'A' && c <= 'Z') out += static_cast<char>(c + 32);
       continue;
     }
-    U8_NEXT(p, i, n, c);
+    UChar32 c = u.next();
     if (c < 0) continue;
     uint32_t mask = U_GET_GC_MASK(c);
     if (mask & (U_GC_P_MASK | U_GC_S_MASK | U_GC_ND_MASK | U_GC_Z_MASK | U_GC_C_MASK)) continue;

@@ -19,6 +19,7 @@
 #include <mutex>
 #include <vector>
 
+#include "core/utf8.h"
 #include "stages/own_text.h"
 #include "stages/word_lists.h"
 
@@ -135,16 +136,13 @@ const char* sole_language_of_script(UScriptCode s) {
 // `key` (kana and Han together count for Japanese only when kana appear).
 bool settled_by_script(std::string_view own, const std::string& key) {
   bool any = false;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(own.data());
-  int32_t n = static_cast<int32_t>(own.size()), i = 0;
-  while (i < n) {
-    if (p[i] < 0x80) {
-      if (static_cast<unsigned>((p[i] | 0x20) - 'a') < 26u) return false;
-      ++i;
+  Utf8Cursor u(own);
+  while (!u.done()) {
+    if (u.byte() < 0x80) {
+      if (static_cast<unsigned>((u.take() | 0x20) - 'a') < 26u) return false;
       continue;
     }
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+    UChar32 c = u.next();
     if (c < 0 || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
     UErrorCode st = U_ZERO_ERROR;
     const char* sole = sole_language_of_script(uscript_getScript(c, &st));
@@ -198,11 +196,9 @@ struct LetterEvidence {
 LetterEvidence letter_evidence(std::string_view text, const USet* own, const USet* found) {
   LetterEvidence e;
   if (!own || !found) return e;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
-  while (i < n) {
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  Utf8Cursor u(text);
+  while (!u.done()) {
+    UChar32 c = u.next();
     if (c < 0 || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
     c = u_tolower(c);
     bool a = uset_contains(own, c), b = uset_contains(found, c);
@@ -272,8 +268,11 @@ class LanguageStage : public Stage {
         if (own.size() > kMaxBytes) {
           size_t cut = own.rfind(' ', kMaxBytes);
           own.resize(cut == std::string::npos || cut == 0 ? kMaxBytes : cut);
-          while (!own.empty() && (static_cast<unsigned char>(own.back()) & 0xC0) == 0x80) own.pop_back();
-          if (!own.empty() && static_cast<unsigned char>(own.back()) >= 0xC0) own.pop_back();
+          // Back to a character start (core/utf8.h's rules by lead byte: the
+          // own text is cut, not decoded, and a lead byte left without its
+          // continuation bytes goes too).
+          while (!own.empty() && utf8_continuation(static_cast<uint8_t>(own.back()))) own.pop_back();
+          if (!own.empty() && utf8_lead_length(static_cast<uint8_t>(own.back())) > 1) own.pop_back();
         }
         // The same own text on the same side gets the same verdict: a
         // per-thread table remembers recent ones, so text that comes again

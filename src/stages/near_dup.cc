@@ -14,6 +14,7 @@
 
 #include "core/huge_pages.h"
 #include "core/tsan.h"
+#include "core/utf8.h"
 #include "stages/near_dup_table.h"
 
 namespace sheaf {
@@ -131,19 +132,20 @@ size_t canonical_form(std::string_view text, std::string& out, uint32_t* bounds)
   out.resize(text.size() * 3 / 2 + 4);
   char* w = out.data();
   char* begin = w;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  Utf8Cursor u(text);
+  const uint8_t* p = u.data();
+  const size_t n = u.end();
   bool gap = false;
   size_t words = 0;  // spaces written so far (kBounds)
   if (kBounds) bounds[0] = 0;
-  while (i < n) {
-    UChar32 c = p[i];
-    if (c < 0x80) {
+  while (!u.done()) {
+    if (u.byte() < 0x80) {
       // A run of ASCII without branches on letter or separator (they
       // alternate every few bytes, so a branch on them is mispredicted
       // often): the space and the letter are always stored and kept or not.
       // One add to w per byte: its chain sets the pace.
       bool started = w != begin;
+      size_t i = u.pos();
       do {
         char f = kFold.to[p[i]];
         unsigned letter = f != 0;
@@ -160,9 +162,10 @@ size_t canonical_form(std::string_view text, std::string& out, uint32_t* bounds)
         started |= letter;
         gap = !letter;
       } while (++i < n && p[i] < 0x80);
+      u.seek(i);
       continue;
     }
-    U8_NEXT(p, i, n, c);
+    UChar32 c = u.next();
     if (c < 0 || !(U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK | U_GC_N_MASK))) {
       gap = true;
       continue;
@@ -209,11 +212,10 @@ size_t NearDupSketch::add(std::string_view c, uint64_t salt, std::vector<uint32_
     // Code point boundaries: each code point is a "word" of the span logic.
     bounds.clear();
     for (size_t i = 0; i < c.size();) {
-      size_t len = 1;
-      unsigned char b = static_cast<unsigned char>(c[i]);
-      if (b >= 0xF0) len = 4;
-      else if (b >= 0xE0) len = 3;
-      else if (b >= 0xC0) len = 2;
+      // By lead byte, not decoded (core/utf8.h's utf8_lead_length): `c` is
+      // a canonical form, well-formed, where the two agree; on other input
+      // this keeps the units it always cut.
+      size_t len = utf8_lead_length(static_cast<uint8_t>(c[i]));
       bounds.push_back(static_cast<uint32_t>(i));
       i = std::min(c.size(), i + len);
       bounds.push_back(static_cast<uint32_t>(i));

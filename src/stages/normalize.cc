@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "core/text.h"
+#include "core/utf8.h"
 
 namespace sheaf {
 
@@ -65,32 +66,29 @@ const uint8_t* class_table() {
 // kNfcSafe/kNfkcSafe bits that hold for every character.
 bool already_clean(std::string_view in, bool strip, bool* valid, uint8_t* safe) {
   const uint8_t* table = class_table();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
-  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  Utf8Cursor u(in);
   bool clean = !in.empty() && in.front() != ' ' && in.back() != ' ';
   bool prev_space = false;
   *valid = true;
   *safe = kNfcSafe | kNfkcSafe;
-  while (i < n) {
-    // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at) when
-    // they hold no control, no DEL and no two spaces in a row.
-    if (i + 8 <= n) {
-      AsciiRun w = ascii_run_at(p + i);
-      if (w.ascii > 0) {
-        uint64_t bad = (ascii_bytes_below(w.word, 0x20) | bytes_equal(w.word, 0x7F)) & w.mask;  // controls, DEL
-        uint64_t sp = bytes_equal(w.word, ' ') & w.mask;
-        if (bad == 0 && (sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
-          prev_space = (sp >> (8 * w.ascii - 1)) & 1;
-          i += w.ascii;
-          continue;
-        }
+  while (!u.done()) {
+    // Up to eight ASCII bytes at a time (core/utf8.h's ascii_run) when they
+    // hold no control, no DEL and no two spaces in a row.
+    AsciiRun w;
+    if (u.ascii_run(w) && w.ascii > 0) {
+      uint64_t bad = (ascii_bytes_below(w.word, 0x20) | bytes_equal(w.word, 0x7F)) & w.mask;  // controls, DEL
+      uint64_t sp = bytes_equal(w.word, ' ') & w.mask;
+      if (bad == 0 && (sp & (sp >> 8)) == 0 && !(prev_space && (sp & 0x80))) {
+        prev_space = (sp >> (8 * w.ascii - 1)) & 1;
+        u.skip(static_cast<size_t>(w.ascii));
+        continue;
       }
     }
     UChar32 c;
-    if (p[i] < 0x80) {
-      c = p[i++];
+    if (u.byte() < 0x80) {
+      c = u.take();
     } else {
-      U8_NEXT(p, i, n, c);
+      c = u.next();
       if (c < 0) {
         *valid = false;
         return false;
@@ -173,13 +171,11 @@ void ascii_rewrite(std::string_view in, bool strip, bool casefold, std::string& 
 // Steps 2 and 3 on valid UTF-8. Returns true if anything changed.
 bool clean(std::string_view in, bool strip, std::string& out) {
   out.clear();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
-  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  Utf8Cursor u(in);
   bool changed = false, space = true;
-  while (i < n) {
-    int32_t start = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  while (!u.done()) {
+    size_t start = u.pos();
+    UChar32 c = u.next();
     switch (classify(c, strip)) {
       case CharClass::kSpace:
         if (c != ' ' || space) changed = true;
@@ -190,7 +186,7 @@ bool clean(std::string_view in, bool strip, std::string& out) {
         changed = true;
         break;
       case CharClass::kKeep:
-        out.append(in.data() + start, static_cast<size_t>(i - start));
+        out.append(in.data() + start, u.pos() - start);
         space = false;
         break;
     }
@@ -215,13 +211,11 @@ const Punct kPunct[] = {
 
 bool unify_punct(std::string_view in, std::string& out) {
   out.clear();
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(in.data());
-  int32_t n = static_cast<int32_t>(in.size()), i = 0;
+  Utf8Cursor u(in);
   bool changed = false;
-  while (i < n) {
-    int32_t start = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  while (!u.done()) {
+    size_t start = u.pos();
+    UChar32 c = u.next();
     const char* to = nullptr;
     if (c >= 0x2010 && c <= 0x2212)
       for (const auto& e : kPunct)
@@ -230,7 +224,7 @@ bool unify_punct(std::string_view in, std::string& out) {
       out += to;
       changed = true;
     } else {
-      out.append(in.data() + start, static_cast<size_t>(i - start));
+      out.append(in.data() + start, u.pos() - start);
     }
   }
   return changed;

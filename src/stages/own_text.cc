@@ -7,6 +7,8 @@
 #include <cstdint>
 #include <vector>
 
+#include "core/utf8.h"
+
 namespace sheaf {
 
 namespace {
@@ -188,19 +190,19 @@ void collect(std::string_view s, std::vector<Word>& out) {
       i += k ? k : 1;
       continue;
     }
-    int32_t j = static_cast<int32_t>(i);
-    UChar32 c;
-    U8_NEXT(p, j, static_cast<int32_t>(n), c);
+    Utf8Cursor u(s, i);
+    UChar32 c = u.next();
+    size_t j = u.pos();
     uint32_t mask = c < 0 ? 0 : U_GET_GC_MASK(c);
     if (mask & (U_GC_L_MASK | U_GC_M_MASK | U_GC_ND_MASK)) {
       open(i);
-      for (size_t k = i; k < static_cast<size_t>(j); ++k) mix(p[k]);
+      for (size_t k = i; k < j; ++k) mix(p[k]);
       w.letters += (mask & U_GC_L_MASK) != 0;
       w.digit |= (mask & U_GC_ND_MASK) != 0;
     } else {
       close(i);
     }
-    i = static_cast<size_t>(j);
+    i = j;
   }
   close(n);
 }

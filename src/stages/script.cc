@@ -8,6 +8,7 @@
 #include <map>
 
 #include "core/text.h"
+#include "core/utf8.h"
 #include "stages/own_text.h"
 
 namespace sheaf {
@@ -72,20 +73,18 @@ ScriptCount count_scripts(std::string_view text, const std::vector<UScriptCode>&
     if (std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end()) r.expected = r.letters;
     return r;
   }
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  Utf8Cursor u(text);
   bool latin_expected = std::find(expected.begin(), expected.end(), USCRIPT_LATIN) != expected.end();
-  while (i < n) {
-    if (p[i] < 0x80) {
-      unsigned char c = p[i++];
+  while (!u.done()) {
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
         ++r.letters;
         r.expected += latin_expected;
       }
       continue;
     }
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+    UChar32 c = u.next();
     if (c < 0 || !u_isalpha(c) || !(U_GET_GC_MASK(c) & U_GC_L_MASK)) continue;
     UErrorCode st = U_ZERO_ERROR;
     UScriptCode s = uscript_getScript(c, &st);
@@ -110,41 +109,37 @@ ScriptTable::ScriptTable(std::vector<UScriptCode> expected) : expected_(std::mov
 
 ScriptCount ScriptTable::count(std::string_view text) const {
   ScriptCount r;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
-  while (i < n) {
-    // Up to eight ASCII bytes at a time (core/text.h's ascii_run_at): a byte
-    // is a letter when, with the case bit set, it lies in 'a'..'z'.
-    if (i + 8 <= n) {
-      AsciiRun w = ascii_run_at(p + i);
-      if (w.ascii > 0) {
-        uint64_t x = w.word | (kEachByte * 0x20);
-        uint64_t letters = ascii_bytes_at_least(x, 'a') & ascii_bytes_below(x, 'z' + 1) & w.mask;
-        auto k = static_cast<uint32_t>(((letters >> 7) * 0x0101010101010101ULL) >> 56);  // sum of the bytes' flags
-        r.letters += k;
-        r.expected += latin_ ? k : 0;
-        i += w.ascii;
-        continue;
-      }
+  Utf8Cursor u(text);
+  while (!u.done()) {
+    // Up to eight ASCII bytes at a time (core/utf8.h's ascii_run): a byte is
+    // a letter when, with the case bit set, it lies in 'a'..'z'.
+    AsciiRun w;
+    if (u.ascii_run(w) && w.ascii > 0) {
+      uint64_t x = w.word | (kEachByte * 0x20);
+      uint64_t letters = ascii_bytes_at_least(x, 'a') & ascii_bytes_below(x, 'z' + 1) & w.mask;
+      auto k = static_cast<uint32_t>(((letters >> 7) * 0x0101010101010101ULL) >> 56);  // sum of the bytes' flags
+      r.letters += k;
+      r.expected += latin_ ? k : 0;
+      u.skip(static_cast<size_t>(w.ascii));
+      continue;
     }
-    if (p[i] < 0x80) {
-      unsigned char c = p[i++];
+    if (u.byte() < 0x80) {
+      unsigned char c = u.take();
       if ((c | 0x20) >= 'a' && (c | 0x20) <= 'z') {
         ++r.letters;
         r.expected += latin_;
       }
       continue;
     }
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+    size_t at = u.pos();
+    UChar32 c = u.next();
     if (c < 0) continue;
     if (c < 0x10000) {
       uint8_t k = bmp_[static_cast<size_t>(c)];
       r.letters += k != 0;
       r.expected += k == 1;
     } else {
-      ScriptCount one = count_scripts(text.substr(static_cast<size_t>(at), static_cast<size_t>(i - at)), expected_);
+      ScriptCount one = count_scripts(text.substr(at, u.pos() - at), expected_);
       r.letters += one.letters;
       r.expected += one.expected;
     }

@@ -14,6 +14,8 @@
 #include <memory>
 #include <mutex>
 
+#include "core/utf8.h"
+
 namespace sheaf {
 
 class WordList {
@@ -131,8 +133,7 @@ bool word_list_accepts(const WordList* list, std::string_view word) {
 
 std::vector<std::string_view> dictionary_words(std::string_view text, size_t most) {
   std::vector<std::string_view> out;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(text.size()), i = 0;
+  Utf8Cursor u(text);
   int32_t start = -1, end = 0;
   size_t letters = 0;
   auto flush = [&] {
@@ -141,27 +142,26 @@ std::vector<std::string_view> dictionary_words(std::string_view text, size_t mos
     start = -1;
     letters = 0;
   };
-  while (i < n && out.size() < most) {
-    int32_t at = i;
+  while (!u.done() && out.size() < most) {
+    auto at = static_cast<int32_t>(u.pos());
     UChar32 c;
     bool letter;
-    if (p[i] < 0x80) {  // most of the text: no decoding, no property lookup
-      c = p[i++];
+    if (u.byte() < 0x80) {  // most of the text: no decoding, no property lookup
+      c = u.take();
       letter = static_cast<unsigned>((c | 0x20) - 'a') < 26u;
     } else {
-      U8_NEXT(p, i, n, c);
+      c = u.next();
       letter = c >= 0 && (U_GET_GC_MASK(c) & (U_GC_L_MASK | U_GC_M_MASK));
     }
     bool apostrophe = c == '\'' || c == 0x2019;
     if (letter) {
       if (start < 0) start = at;
-      end = i;
+      end = static_cast<int32_t>(u.pos());
       letters += c < 0x80 || (U_GET_GC_MASK(c) & U_GC_L_MASK) != 0;
-    } else if (apostrophe && start >= 0 && i < n) {
+    } else if (apostrophe && start >= 0 && !u.done()) {
       // kept only between letters: "l'emplacement", not a closing quote
-      int32_t j = i;
-      UChar32 d;
-      U8_NEXT(p, j, n, d);
+      Utf8Cursor ahead = u;
+      UChar32 d = ahead.next();
       if (!(d >= 0 && (U_GET_GC_MASK(d) & U_GC_L_MASK))) flush();
     } else {
       flush();

@@ -16,6 +16,7 @@
 #include "core/batch_pool.h"
 #include "core/interrupt.h"
 #include "core/text.h"
+#include "core/utf8.h"
 #include "core/tsan.h"
 #include "io/line_blocks.h"
 #include "subword/merge_learner.h"

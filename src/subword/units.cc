@@ -4,6 +4,7 @@
 #include <unicode/utf8.h>
 
 #include "core/text.h"
+#include "core/utf8.h"
 
 namespace sheaf {
 
@@ -13,22 +14,20 @@ bool only_spaces(std::string_view s) { return s.find_first_not_of(' ') == std::s
 
 // Cuts the unit [from, to) of `text` at every decimal digit.
 void digit_ends(std::string_view text, size_t from, size_t to, std::vector<uint32_t>& ends) {
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(text.data());
-  int32_t n = static_cast<int32_t>(to), i = static_cast<int32_t>(from);
+  Utf8Cursor u(text, from, to);
   size_t start = from;
-  while (i < n) {
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  while (!u.done()) {
+    size_t at = u.pos();
+    UChar32 c = u.next();
     if (c >= 0 && (c < 0x80 ? (c >= '0' && c <= '9') : u_isdigit(c))) {
       // Everything before the digit (spaces, letters) is one unit, unless it
       // is only the spaces that lead this digit.
-      if (!only_spaces(text.substr(start, static_cast<size_t>(at) - start))) {
+      if (!only_spaces(text.substr(start, at - start))) {
         ends.push_back(static_cast<uint32_t>(at));
-        start = static_cast<size_t>(at);
+        start = at;
       }
-      ends.push_back(static_cast<uint32_t>(i));
-      start = static_cast<size_t>(i);
+      ends.push_back(static_cast<uint32_t>(u.pos()));
+      start = u.pos();
     }
   }
   if (start < to) ends.push_back(static_cast<uint32_t>(to));

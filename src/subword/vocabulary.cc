@@ -11,6 +11,7 @@
 #include <sstream>
 
 #include "core/text.h"
+#include "core/utf8.h"
 #include "io/output_file.h"
 
 namespace sheaf {
@@ -28,16 +29,14 @@ const char* token_kind_name(TokenKind k) {
 
 std::string escape_token(std::string_view bytes) {
   std::string out;
-  const uint8_t* p = reinterpret_cast<const uint8_t*>(bytes.data());
-  int32_t n = static_cast<int32_t>(bytes.size()), i = 0;
   char buf[16];
-  while (i < n) {
-    int32_t at = i;
-    UChar32 c;
-    U8_NEXT(p, i, n, c);
+  Utf8Cursor u(bytes);
+  while (!u.done()) {
+    size_t at = u.pos();
+    UChar32 c = u.next();
     if (c < 0) {
-      for (int32_t k = at; k < i; ++k) {
-        std::snprintf(buf, sizeof buf, "\\x%02X", p[k]);
+      for (size_t k = at; k < u.pos(); ++k) {
+        std::snprintf(buf, sizeof buf, "\\x%02X", u.data()[k]);
         out += buf;
       }
       continue;
@@ -58,7 +57,7 @@ std::string escape_token(std::string_view bytes) {
       std::snprintf(buf, sizeof buf, "\\u{%04X}", static_cast<unsigned>(c));
       out += buf;
     } else {
-      out.append(bytes.data() + at, static_cast<size_t>(i - at));
+      out.append(bytes.data() + at, u.pos() - at);
     }
   }
   return out;
@@ -116,11 +115,9 @@ Vocabulary Vocabulary::build(const std::array<std::string, 4>& specials, const s
   v.bmp_ids_.assign(0x10000, kNoChar);
   for (const auto& c : alphabet) {
     // Only an entry of exactly one character can ever match one.
-    int32_t i = 0, n = static_cast<int32_t>(c.size());
-    UChar32 cp = -1;
-    if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(c.data()), i, n, cp);
+    UChar32 cp = utf8_single(c);
     uint32_t id = static_cast<uint32_t>(v.tokens_.size());
-    if (cp >= 0 && i == n) {
+    if (cp >= 0) {
       if (cp < 0x10000) v.bmp_ids_[static_cast<size_t>(cp)] = id;
       else v.astral_ids_[cp] = id;
     }
@@ -148,10 +145,8 @@ int64_t Vocabulary::user_id(std::string_view text) const {
 }
 
 int64_t Vocabulary::char_id(std::string_view utf8) const {
-  int32_t i = 0, n = static_cast<int32_t>(utf8.size());
-  UChar32 c = -1;
-  if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(utf8.data()), i, n, c);
-  return i == n ? id_of(c) : -1;
+  UChar32 c = utf8_single(utf8);
+  return c >= 0 ? id_of(c) : -1;
 }
 
 void Vocabulary::initial_symbols(std::string_view text, std::vector<uint32_t>& out) const {
@@ -300,12 +295,9 @@ Result<Vocabulary> Vocabulary::parse(std::string_view text, const std::string& n
     } else if (want == TokenKind::kByte) {
       if (bytes->size() != 1 || static_cast<uint8_t>((*bytes)[0]) != id - 4) return fail(ln + 1, "byte token with the wrong byte");
     } else if (want == TokenKind::kChar) {
-      // Exactly one well-formed UTF-8 character (ICU's U8_NEXT refuses
+      // Exactly one well-formed UTF-8 character (core/utf8.h; U8_NEXT refuses
       // surrogates, overlong forms and stray bytes), and each only once.
-      int32_t at = 0, n = static_cast<int32_t>(bytes->size());
-      UChar32 cp = -1;
-      if (n > 0) U8_NEXT(reinterpret_cast<const uint8_t*>(bytes->data()), at, n, cp);
-      if (cp < 0 || at != n) return fail(ln + 1, "a character token must hold one well-formed UTF-8 character");
+      if (utf8_single(*bytes) < 0) return fail(ln + 1, "a character token must hold one well-formed UTF-8 character");
       if (!alphabet_seen.insert(*bytes).second) return fail(ln + 1, "the character token is repeated");
       alphabet.push_back(*bytes);
     } else if (want == TokenKind::kUser) {
