@@ -1,14 +1,19 @@
 #include "pipeline/pass1_writer.h"
 
+#include <oneapi/tbb/enumerable_thread_specific.h>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
 #include <xxhash.h>
 
-#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <memory>
 #include <unordered_set>
 
+#include "core/batch_pool.h"
 #include "core/text.h"
+#include "core/tsan.h"
+#include "io/line_blocks.h"
 #include "io/output_file.h"
 
 namespace sheaf {
@@ -100,7 +105,7 @@ class Pass1WriterImpl {
   }
 
   // Runs after the last batch: routes a count-mode spool, commits files.
-  Status finish() {
+  Status finish(int threads) {
     if (split_ && split_->deferred()) {
       SHEAF_TRY(spool_.commit());
       SHEAF_TRY(route_spool());
@@ -120,26 +125,51 @@ class Pass1WriterImpl {
     rejected_entry_ = rec_.outputs.size();
     rec_.outputs.push_back({"rejected.tsv", "rejected", "", "", 0, 0, 0});
     // Overlap between splits, measured on unseeded hashes of the split key
-    // (independent of the seeded hash that assigned them), gathered as the
-    // pairs were written: the keys of train in a vector (8 bytes a pair,
-    // freed here), the other splits' (small) in sets.
+    // (independent of the seeded hash that assigned them). Non-train keys are
+    // held in memory (those splits are small); train is read back once, in
+    // blocks looked up on all threads.
     if (split_) {
-      std::sort(train_keys_.begin(), train_keys_.end());
+      std::vector<uint64_t> train_hits(names_.size(), 0);
+      std::ifstream in(files_[0]->path(), std::ios::binary);
+      std::string carry;
+      BatchPool<std::string> pool(static_cast<size_t>(threads) * 4);
+      tbb::enumerable_thread_specific<std::vector<uint64_t>> hits(std::vector<uint64_t>(names_.size(), 0));
+      tbb::task_arena arena(threads);
+      try {
+        arena.execute([&] {
+          pool.run_pipeline(
+              line_block_source(in, carry, pool, 1 << 18, [](std::string& block) -> std::string& { return block; }) &
+                  tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
+                    TaskBody body;
+                    handoff_acquire(block);
+                    std::vector<uint64_t>& mine = hits.local();
+                    Pair p;
+                    for_each_line(*block, [&](std::string_view line) {
+                      auto side = tsv_sides(line);
+                      p.text = {side[0], side[1]};
+                      std::string k = split_->key_text(p);
+                      uint64_t h = XXH3_64bits(k.data(), k.size());
+                      for (size_t b = 1; b < names_.size(); ++b) mine[b] += keys_[b].count(h);
+                    });
+                    pool.release(block);
+                  }));
+        });
+      } catch (const ErrorException& e) {
+        return e.error;  // interrupted
+      }
+      for (const auto& mine : hits)
+        for (size_t b = 1; b < names_.size(); ++b) train_hits[b] += mine[b];
       for (size_t a = 0; a < names_.size(); ++a) {
         for (size_t b = a + 1; b < names_.size(); ++b) {
           uint64_t shared = 0;
-          for (uint64_t h : keys_[b]) {
-            if (a == 0) {
-              auto [lo, hi] = std::equal_range(train_keys_.begin(), train_keys_.end(), h);
-              shared += static_cast<uint64_t>(hi - lo);  // train pairs with that key
-            } else {
-              shared += keys_[a].count(h);
-            }
+          if (a == 0) {
+            shared = train_hits[b];
+          } else {
+            for (uint64_t h : keys_[b]) shared += keys_[a].count(h);
           }
           rec_.overlaps.push_back({names_[a], names_[b], shared});
         }
       }
-      std::vector<uint64_t>().swap(train_keys_);
     }
     return {};
   }
@@ -256,19 +286,9 @@ class Pass1WriterImpl {
     o.write(std::string_view(reinterpret_cast<const char*>(&p.corpus), 4));
     o.write(std::string_view(reinterpret_cast<const char*>(&p.line), 8));
     if (!rec_.corpora.empty()) ++rec_.corpora[p.corpus].splits[names_[static_cast<size_t>(split)]];
-    if (split_) {
-      // The split stage's map left the unseeded hash in key[1]; a spooled
-      // pair (count mode) carries only the seeded one.
-      uint64_t h = p.key[1];
-      if (split_->deferred()) {
-        std::string k = split_->key_text(p);
-        h = XXH3_64bits(k.data(), k.size());
-      }
-      if (split == 0) {
-        train_keys_.push_back(h);
-      } else {
-        keys_[static_cast<size_t>(split)].insert(h);
-      }
+    if (split_ && split != 0) {
+      std::string k = split_->key_text(p);
+      keys_[static_cast<size_t>(split)].insert(XXH3_64bits(k.data(), k.size()));
     }
   }
 
@@ -374,8 +394,7 @@ class Pass1WriterImpl {
   OutputFile::Mark kept_rows_;  // rejected.tsv up to the end of pass 1 or of the last step that succeeded
   std::vector<std::unique_ptr<OutputFile>> origins_;  // per split: (corpus u32, line u64) per pair
   std::vector<std::unique_ptr<std::ifstream>> origin_readers_;
-  std::vector<std::unordered_set<uint64_t>> keys_;  // per split other than train: unseeded key hashes
-  std::vector<uint64_t> train_keys_;                 // train's, one per pair
+  std::vector<std::unordered_set<uint64_t>> keys_;
 };
 
 }  // namespace
@@ -390,7 +409,7 @@ Pass1Writer::Pass1Writer(const RunDir& dir, RunRecord& rec, const std::vector<st
 Pass1Writer::~Pass1Writer() = default;
 Status Pass1Writer::open() { return impl_->open(); }
 void Pass1Writer::take(PairBatch& b) { impl_->take(b); }
-Status Pass1Writer::finish() { return impl_->finish(); }
+Status Pass1Writer::finish(int threads) { return impl_->finish(threads); }
 Status Pass1Writer::status() const { return impl_->status(); }
 void Pass1Writer::discard() { impl_->discard(); }
 void Pass1Writer::keep_rows() { impl_->keep_rows(); }

@@ -39,7 +39,7 @@ class Pass1Writer : public Pass1Output {
   void take(PairBatch& b);
   // After the last batch: routes a spool, commits the files, lists them in
   // the record, measures the overlap between splits (on `threads`).
-  Status finish();
+  Status finish(int threads);
   Status status() const;
   // Removes every file not yet committed.
   void discard();

@@ -287,7 +287,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
       if (auto st = s->finish(); !st.ok()) failed = st;
   }
   if (failed.ok()) {
-    failed = writer.finish();
+    failed = writer.finish(threads);
   }
   if (failed.ok() && !longs.path().empty()) {
     failed = longs.commit();

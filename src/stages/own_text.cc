@@ -317,11 +317,16 @@ WordShare shared_words(std::string_view side, std::string_view other) {
   collect(other, s.words[1]);
   OtherWords theirs(other, s.words[1], s.sets[0]);
   WordShare r;
+  auto capitals = [](const Word& w) { return w.upper >= 2 && w.lower == 0 && w.upper == w.letters; };
+  // An acronym or metavariable (RTS, FILE) is kept as it is in a
+  // translation: copied, it says nothing of whether the rest is. Unless the
+  // whole side is in capitals (a heading, a warning): then its words count.
+  bool all_capitals = true;
+  for (const Word& w : s.words[0])
+    if (!w.digit && w.letters > 0 && !capitals(w)) all_capitals = false;
   for (const Word& w : s.words[0]) {
     if (w.digit || w.letters == 0) continue;
-    // An acronym or metavariable (RTS, FILE) is kept as it is in a
-    // translation: copied, it says nothing of whether the rest is.
-    if (w.upper >= 2 && w.lower == 0 && w.upper == w.letters) continue;
+    if (!all_capitals && capitals(w)) continue;
     ++r.words;
     r.shared += theirs.has(side, w);
   }

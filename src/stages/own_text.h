@@ -35,7 +35,8 @@ size_t own_text(std::string_view side, std::string_view other, std::string& out)
 void own_texts(std::string_view source, std::string_view target, std::string out[2], size_t letters[2]);
 
 // How much of `side` is copied from `other`: its words with letters (outside
-// markup, placeholders and skipped tokens, and without digits), and how many
+// markup, placeholders and skipped tokens, without digits, and without
+// acronyms in capitals unless the whole side is in capitals), and how many
 // of them also occur in `other` (compared as own_text compares them).
 struct WordShare {
   size_t words = 0, shared = 0;

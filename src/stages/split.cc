@@ -64,7 +64,6 @@ void SplitStage::map(PairBatch& batch) {
     if (!p.kept()) continue;
     std::string k = key_text(p);
     p.key[0] = group_hash(k);
-    p.key[1] = XXH3_64bits(k.data(), k.size());  // unseeded: the writer's overlap check
     if (!deferred()) p.split = assign(p.key[0]);
   }
 }

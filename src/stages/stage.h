@@ -51,9 +51,7 @@ class SplitRouter {
   // The split of a pair of `corpus` with this group hash; -1 when it must be
   // dropped (held-out-key) because its corpus cannot join that split.
   virtual int assign(uint64_t group_hash, uint32_t corpus) const = 0;
-  // The text the split key is computed from. The split stage's map leaves
-  // the unseeded XXH3-64 of it in a kept pair's key[1], which the writer
-  // uses to measure the overlap between splits without reading them back.
+  // The text the split key is computed from.
   virtual std::string key_text(const Pair& p) const = 0;
 };
 

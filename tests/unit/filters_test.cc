@@ -78,6 +78,11 @@ TEST(Copy, CopiedAcronymsAreNoEvidence) {
   WordShare w = shared_words("crtscts RTS CTS FILE フロー制御を有効にする", "crtscts enable RTS/CTS handshaking FILE");
   EXPECT_EQ(w.words, 2u);   // crtscts and the clause
   EXPECT_EQ(w.shared, 1u);  // crtscts
+  // A target all in capitals is judged on all its words (a review's case).
+  test::StageHarness es("kind = \"copy\"");
+  EXPECT_EQ(es.reason("REMOVE THE TEMPORARY FILE BEFORE YOU INSTALL THE NEW PACKAGE FROM THE OFFICIAL MIRROR TODAY",
+                      "ELIMINAR: THE TEMPORARY FILE BEFORE YOU INSTALL"),
+            "copy:words");
 }
 
 TEST(Copy, IdenticalAndOverlappingSides) {
