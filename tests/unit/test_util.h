@@ -3,6 +3,7 @@
 #pragma once
 
 #include <gtest/gtest.h>
+#include <unicode/utf8.h>
 
 #include <cstdio>
 #include <cstdlib>
@@ -17,6 +18,14 @@
 namespace sheaf::test {
 
 namespace fs = std::filesystem;
+
+// The UTF-8 bytes of one code point (ICU's encoder).
+inline std::string utf8_of(UChar32 c) {
+  char buf[4];
+  int32_t n = 0;
+  U8_APPEND_UNSAFE(buf, n, c);
+  return std::string(buf, static_cast<size_t>(n));
+}
 
 inline std::string source_dir() { return SHEAF_SOURCE_DIR; }
 // SHEAF_TEST_BINARY runs the tests against another build (to see a new test

@@ -1,5 +1,7 @@
 // Word boundaries, scripts and hashes against published references.
 #include <gtest/gtest.h>
+
+#include "test_util.h"
 #include <unicode/utf8.h>
 #include <xxhash.h>
 
@@ -16,12 +18,6 @@
 namespace sheaf {
 namespace {
 
-std::string utf8(UChar32 c) {
-  char buf[4];
-  int32_t n = 0;
-  U8_APPEND_UNSAFE(buf, n, c);
-  return std::string(buf, static_cast<size_t>(n));
-}
 
 // Source: Unicode 15.0 auxiliary/WordBreakTest.txt (UAX #29 test data, Debian
 // package unicode-data). "÷" marks a boundary, "×" none; our word cutter's
@@ -46,7 +42,7 @@ TEST(WordBoundaries, MatchWordBreakTestTxt) {
       } else {
         UChar32 c = static_cast<UChar32>(std::stoul(tok, nullptr, 16));
         if (c >= 0xD800 && c <= 0xDFFF) surrogate = true;
-        text += utf8(c);
+        text += test::utf8_of(c);
       }
     }
     if (surrogate) continue;  // not representable in UTF-8
@@ -150,7 +146,7 @@ TEST(Scripts, MatchScriptsTxt) {
       hi = static_cast<UChar32>(std::stoul(range.substr(dots + 2), nullptr, 16));
     for (UChar32 c = lo; c <= hi; ++c) {
       if (++n % 7 != 0 && script == "Han") continue;  // a sample of the 98,000 ideographs
-      std::string s = utf8(c);
+      std::string s = test::utf8_of(c);
       ScriptCount own = count_scripts(s, {it->second});
       ScriptCount fast = tables.at(it->second).count(s);
       ASSERT_EQ(fast.letters, own.letters) << std::hex << c;

@@ -10,6 +10,8 @@
 #include "core/utf8.h"
 
 #include <gtest/gtest.h>
+
+#include "test_util.h"
 #include <unicode/utf8.h>
 
 #include <random>
@@ -56,17 +58,11 @@ std::string bytes(std::initializer_list<int> b) {
   return s;
 }
 
-std::string encode(UChar32 c) {
-  char buf[4];
-  int32_t k = 0;
-  U8_APPEND_UNSAFE(buf, k, c);
-  return std::string(buf, static_cast<size_t>(k));
-}
 
 TEST(Utf8Cursor, EveryScalarValueAgreesWithIcu) {
   for (UChar32 c = 0; c <= 0x10FFFF; ++c) {
     if (c >= 0xD800 && c <= 0xDFFF) continue;
-    std::string e = encode(c);
+    std::string e = test::utf8_of(c);
     // Alone, then between ASCII and another character (the cursor must stop
     // exactly at the sequence's end).
     Utf8Cursor u(e);
@@ -86,7 +82,7 @@ TEST(Utf8Cursor, SurrogatesAreIllFormed) {
   // Table 3-7: after ED the second byte is 80..9F; ED A0..BF would encode a
   // surrogate. ED alone is the maximal subpart, then each trailing byte.
   for (UChar32 c = 0xD800; c <= 0xDFFF; ++c) {
-    std::string e = encode(c);
+    std::string e = test::utf8_of(c);
     std::vector<Step> want = {{-1, 1}, {-1, 1}, {-1, 1}};
     ASSERT_EQ(cursor_steps(e), want) << std::hex << c;
     ASSERT_EQ(icu_steps(e), want);
@@ -154,7 +150,7 @@ TEST(Utf8Cursor, MaximalSubpartsOfSection3_9) {
     std::string repaired;
     repair_utf8(k.s, repaired);
     std::string want;
-    for (UChar32 c : k.want) want += c < 0 ? std::string("\xEF\xBF\xBD") : encode(c);
+    for (UChar32 c : k.want) want += c < 0 ? std::string("\xEF\xBF\xBD") : test::utf8_of(c);
     EXPECT_EQ(repaired, want) << k.table;
   }
 }
