@@ -5,8 +5,8 @@
 //    ("Well-Formed UTF-8 Byte Sequences") for the edges of each row, and
 //    section 3.9's worked examples of "U+FFFD Substitution of Maximal
 //    Subparts" (Tables 3-8 to 3-11). The byte rows of those four tables
-//    are transcribed from memory of the standard's text; U8_NEXT is checked
-//    against the same expectations, so a mistranscription would show here.
+//    are written from memory of the standard's text; U8_NEXT is checked
+//    against the same expectations, so a row copied wrongly would show here.
 #include "core/utf8.h"
 
 #include <gtest/gtest.h>
