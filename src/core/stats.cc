@@ -2,7 +2,6 @@
 
 #include <algorithm>
 #include <cmath>
-#include <nlohmann/json.hpp>
 
 namespace sheaf {
 
@@ -28,12 +27,6 @@ Distribution distribution_of(std::vector<uint64_t>& v) {
   d.p99 = nearest_rank(v, 99);
   d.mean = static_cast<double>(d.sum) / static_cast<double>(d.count);
   return d;
-}
-
-std::string distribution_json(const Distribution& d) {
-  nlohmann::ordered_json j = {{"count", d.count}, {"sum", d.sum}, {"mean", d.mean}, {"min", d.min}, {"p50", d.p50},
-                              {"p90", d.p90},     {"p95", d.p95}, {"p99", d.p99},   {"max", d.max}};
-  return j.dump();
 }
 
 }  // namespace sheaf

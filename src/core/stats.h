@@ -23,9 +23,6 @@ struct Distribution {
 // Sorts `values` in place.
 Distribution distribution_of(std::vector<uint64_t>& values);
 
-// JSON object text of a distribution.
-std::string distribution_json(const Distribution& d);
-
 }  // namespace sheaf
 
 namespace sheaf {
