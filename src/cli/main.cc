@@ -15,6 +15,7 @@
 
 #include "pipeline/pipeline.h"
 #include "pipeline/runner.h"
+#include "pipeline/spread.h"
 #include "run/run_record.h"
 #include "report/summary.h"
 #include "shards/inspect.h"
@@ -59,7 +60,7 @@ bool read_text(const std::string& path, std::string& out) {
 
 // The subcommands, for "unknown command" (CLI11 would only say that one is
 // required).
-const std::vector<std::string> kCommands = {"init", "validate", "run", "encode", "decode", "inspect", "stats"};
+const std::vector<std::string> kCommands = {"init", "validate", "run", "spread", "encode", "decode", "inspect", "stats"};
 
 // init: the values it is given must make a file that loads; the same checks
 // as validate and run, with the option named.
@@ -174,6 +175,49 @@ int run_command(int argc, char** argv) {
   run->add_option("--set", rsets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
   run->add_flag("--force", ro.force, "write into a directory that is not a sheaf run");
   run->add_flag("--quiet", quiet, "no progress and no summary");
+
+  // spread: the same run as jobs sharing a file system (docs/cluster.md)
+  auto* spread = app.add_subcommand("spread", "the same run cut into jobs: on this machine, or on a Slurm cluster");
+  spread->require_subcommand(1);
+  std::string sp_file, sp_work, sp_out;
+  std::vector<std::string> sp_sets, sp_sbatch;
+  int sp_parts = 0, sp_threads = 0, sp_jobs = 0;
+  size_t sp_part = 0;
+  bool sp_force = false, sp_quiet = false, sp_submit = false;
+  auto planned = [&](CLI::App* c) {
+    c->add_option("file", sp_file, "pipeline file")->required();
+    c->add_option("--parts", sp_parts, "about how many parts to cut the input into")->required()->check(
+        CLI::Range(1, 100000));
+    c->add_option("--work", sp_work, "work directory the jobs share (plan, parts, logs)")->required();
+    c->add_option("--set", sp_sets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
+  };
+  auto* sp_plan = spread->add_subcommand("plan", "cut the input into parts at line ends and write WORK/plan.json");
+  planned(sp_plan);
+  auto* sp_map = spread->add_subcommand("map", "run one map job: part K of a plan");
+  sp_map->add_option("work", sp_work, "work directory")->required();
+  sp_map->add_option("--part", sp_part, "the part, from 0")->required();
+  sp_map->add_option("--threads", sp_threads, "worker threads (default: all cores)")->check(CLI::Range(1, 1024));
+  auto* sp_reduce = spread->add_subcommand("reduce", "run the reduce job: the rest of the run from the parts");
+  sp_reduce->add_option("work", sp_work, "work directory")->required();
+  auto reduce_opts = [&](CLI::App* c) {
+    c->add_option("--out", sp_out, "output directory (overrides [output].dir)");
+    c->add_option("--threads", sp_threads, "worker threads per job (default: all cores)")->check(CLI::Range(1, 1024));
+    c->add_flag("--force", sp_force, "write into a directory that is not a sheaf run");
+    c->add_flag("--quiet", sp_quiet, "no summary");
+  };
+  reduce_opts(sp_reduce);
+  auto* sp_local = spread->add_subcommand("local", "plan, run the map jobs as processes here, then reduce");
+  planned(sp_local);
+  reduce_opts(sp_local);
+  sp_local->add_option("--jobs", sp_jobs, "map jobs at a time (default: 1)")->check(CLI::Range(1, 1024));
+  auto* sp_slurm = spread->add_subcommand("slurm", "plan, and write Slurm job scripts (submit them with --submit)");
+  planned(sp_slurm);
+  sp_slurm->add_option("--out", sp_out, "output directory of the reduce job (overrides [output].dir)");
+  sp_slurm->add_option("--threads", sp_threads, "CPUs per job (default: 2)")->check(CLI::Range(1, 1024));
+  sp_slurm->add_option("--sbatch", sp_sbatch, "a line for both scripts' #SBATCH header, e.g. \"--partition=long\"");
+  sp_slurm->add_flag("--submit", sp_submit, "submit the jobs with sbatch, chained by dependency");
+  auto* sp_status = spread->add_subcommand("status", "say which map jobs of a plan are done");
+  sp_status->add_option("work", sp_work, "work directory")->required();
 
   // encode
   auto* encode = app.add_subcommand("encode", "text lines on standard input to token ids on standard output");
@@ -353,6 +397,68 @@ int run_command(int argc, char** argv) {
     Status st =
         std::filesystem::is_directory(ipath, ec) ? inspect_run(ipath, std::cout) : inspect_shard(ipath, std::cout);
     if (!st.ok()) return fail(st.error());
+    return 0;
+  }
+  if (spread->parsed()) {
+    handle_stop_signals();
+    std::signal(SIGXFSZ, SIG_IGN);
+    std::error_code ec;
+    std::string self = std::filesystem::read_symlink("/proc/self/exe", ec).string();
+    // Jobs work in the plan's directory; paths given here are made absolute.
+    if (!sp_work.empty()) sp_work = std::filesystem::absolute(sp_work, ec).lexically_normal().string();
+    if (!sp_out.empty()) sp_out = std::filesystem::absolute(sp_out, ec).lexically_normal().string();
+    if (sp_plan->parsed() || sp_local->parsed() || sp_slurm->parsed()) {
+      auto plan = spread_plan(sp_file, sp_sets, sp_parts, sp_work);
+      if (!plan.ok()) return fail(plan.error());
+      if (sp_plan->parsed()) {
+        std::cout << "planned " << plan->parts.size() << " parts in " << sp_work << "/plan.json\n";
+        return 0;
+      }
+    }
+    if (sp_map->parsed()) {
+      if (auto st = spread_map(sp_work, sp_part, sp_threads); !st.ok()) return fail(st.error());
+      return 0;
+    }
+    if (sp_status->parsed()) {
+      auto s = spread_status(sp_work);
+      if (!s.ok()) return fail(s.error());
+      std::cout << (s->parts - s->missing.size()) << " of " << s->parts << " parts done";
+      if (!s->missing.empty()) {
+        std::cout << "; not done:";
+        for (size_t k : s->missing) std::cout << ' ' << k;
+      }
+      std::cout << "\n";
+      return s->missing.empty() ? 0 : 1;
+    }
+    if (sp_slurm->parsed()) {
+      auto cmds = spread_slurm(self, sp_work, sp_threads > 0 ? sp_threads : 2, sp_sbatch, sp_out, sp_submit);
+      if (!cmds.ok()) return fail(cmds.error());
+      if (sp_submit)
+        std::cout << "submitted; job ids:\n" << *cmds;
+      else
+        std::cout << "job scripts written to " << sp_work << "; submit them with:\n" << *cmds;
+      return 0;
+    }
+    if (sp_local->parsed()) {
+      if (auto st = spread_run_maps(self, sp_work, sp_jobs > 0 ? sp_jobs : 1, sp_threads); !st.ok())
+        return fail(st.error());
+    }
+    RunOptions so;
+    so.out_dir = sp_out;
+    so.threads = sp_threads;
+    so.force = sp_force;
+    so.closing_steps.push_back(make_summary_step);
+    auto rec = spread_reduce(sp_work, so);
+    if (!rec.ok()) return fail(rec.error());
+    if (!sp_quiet) {
+      auto plan = read_spread_plan(sp_work);
+      auto ov = plan.ok() ? overrides(plan->sets) : Result<std::vector<Override>>(plan.error());
+      auto p = ov.ok() ? load_pipeline(plan->pipeline, *ov) : Result<Pipeline>(ov.error());
+      if (!sp_out.empty())
+        print_summary(sp_out);
+      else if (p.ok())
+        print_summary(p->resolve(p->output_dir));
+    }
     return 0;
   }
   if (run->parsed()) {

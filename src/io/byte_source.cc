@@ -10,6 +10,7 @@
 #include <zlib.h>
 #include <zstd.h>
 
+#include <algorithm>
 #include <cerrno>
 #include <cstring>
 #include <vector>
@@ -377,6 +378,57 @@ const char* wide_encoding(std::string_view head) {
   if (zero_at[1] + zero_at[3] >= 2 * q * 9 / 10 && zero_at[0] + zero_at[2] < q) return "UTF-16 (little-endian, no byte-order mark)";
   if (zero_at[0] + zero_at[2] >= 2 * q * 9 / 10 && zero_at[1] + zero_at[3] < q) return "UTF-16 (big-endian, no byte-order mark)";
   return nullptr;
+}
+
+namespace {
+
+class RangeSource : public ByteSource {
+ public:
+  RangeSource(int fd, std::string name, uint64_t begin, uint64_t end)
+      : fd_(fd), at_(begin), end_(end), xxh_(XXH3_createState()) {
+    name_ = std::move(name);
+    XXH3_64bits_reset(xxh_);
+  }
+  ~RangeSource() override {
+    ::close(fd_);
+    XXH3_freeState(xxh_);
+  }
+  Result<size_t> read(char* buf, size_t n) override {
+    if (interrupt_requested().load(std::memory_order_relaxed)) return interrupted_error();
+    n = static_cast<size_t>(std::min<uint64_t>(n, end_ - at_));
+    for (;;) {
+      if (n == 0) return size_t{0};
+      ssize_t r = ::pread(fd_, buf, n, static_cast<off_t>(at_));
+      if (r < 0 && errno == EINTR) continue;
+      if (r < 0) return io_error(name_, "cannot read input");
+      if (r == 0)
+        return Error(ErrorKind::kInput, "the file is shorter than when the run was planned; plan it again",
+                     Location{name_, 0, 0, at_});
+      at_ += static_cast<uint64_t>(r);
+      consumed_ += static_cast<uint64_t>(r);
+      XXH3_64bits_update(xxh_, buf, static_cast<size_t>(r));
+      return static_cast<size_t>(r);
+    }
+  }
+  uint64_t consumed() const override { return consumed_; }
+  Compression compression() const override { return Compression::kNone; }
+  uint64_t checksum() const override { return XXH3_64bits_digest(xxh_); }
+  uint64_t file_bytes() const override { return consumed_; }
+
+ private:
+  int fd_;
+  uint64_t at_, end_, consumed_ = 0;
+  XXH3_state_t* xxh_;
+};
+
+}  // namespace
+
+Result<std::unique_ptr<ByteSource>> open_byte_range(const std::string& path, uint64_t begin, uint64_t end) {
+  int fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
+  if (fd < 0)
+    return Error(ErrorKind::kInput, std::string("cannot open input: ") + std::strerror(errno), Location{path, 0, 0, {}});
+  ::posix_fadvise(fd, static_cast<off_t>(begin), static_cast<off_t>(end - begin), POSIX_FADV_SEQUENTIAL);
+  return std::unique_ptr<ByteSource>(std::make_unique<RangeSource>(fd, path, begin, std::max(begin, end)));
 }
 
 Result<std::unique_ptr<ByteSource>> open_byte_source(const std::string& path) {

@@ -43,6 +43,12 @@ class ByteSource {
 // Opens `path` ("-" = standard input) and wraps it in the right decompressor.
 Result<std::unique_ptr<ByteSource>> open_byte_source(const std::string& path);
 
+// Opens bytes [begin, end) of an uncompressed file, for one part of a
+// partitioned run (pipeline/spread.h). No format is detected: the planner
+// cuts only plain files, at line ends. checksum() and file_bytes() describe
+// the range.
+Result<std::unique_ptr<ByteSource>> open_byte_range(const std::string& path, uint64_t begin, uint64_t end);
+
 // Names the wide encoding (UTF-16/32, with or without byte-order mark) that
 // `head`, the first bytes of a decompressed stream, looks like, or nullptr.
 const char* wide_encoding(std::string_view head);

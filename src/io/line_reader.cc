@@ -50,7 +50,7 @@ Result<size_t> LineReader::fill() {
 // end. One stray CR in a long first line, or in a one-pair file, is content
 // (the line is kept, or streamed as an over-long line) and loses nothing.
 Status LineReader::check_cr_only(size_t end) const {
-  if (number_ != 0 || end <= begin_ + 1) return {};
+  if (number_ != 0 || mid_ || end <= begin_ + 1) return {};
   const char* p = buf_.data() + begin_;
   const char* stop = buf_.data() + end;
   size_t inner = 0, longest = 0;

@@ -40,6 +40,13 @@ class LineReader {
 
   LineReader(std::unique_ptr<ByteSource> src, size_t max_line_bytes);
   void set_oversize_sink(OversizeSink sink) { sink_ = std::move(sink); }
+  // The source starts at a line start inside a file (one part of a
+  // partitioned run): no byte-order mark, wide-encoding or CR-only check,
+  // which belong to the file's start. Call before the first next().
+  void set_mid_stream() {
+    first_ = false;
+    mid_ = true;
+  }
 
   // Reads the next line; returns false at the end of the stream.
   Result<bool> next(Line& line);
@@ -64,6 +71,7 @@ class LineReader {
   uint64_t number_ = 0;
   bool eof_ = false;
   bool first_ = true;
+  bool mid_ = false;
   size_t bom_ = 0;  // bytes of a byte-order mark at the start of the stream
   OversizeSink sink_;
 };

@@ -2,6 +2,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
 #include <cstring>
 
 namespace sheaf {
@@ -25,6 +26,27 @@ Result<std::unique_ptr<PairReader>> PairReader::open(const std::vector<CorpusSpe
     sources.push_back(std::move(s));
   }
   return std::unique_ptr<PairReader>(new PairReader(std::move(sources)));
+}
+
+Result<std::unique_ptr<PairReader>> PairReader::open_part(const std::vector<CorpusSpec>& corpora,
+                                                          const std::vector<std::vector<std::string>>& paths,
+                                                          size_t corpus, bool whole, uint64_t begin, uint64_t end) {
+  std::vector<Source> sources(corpora.size());
+  for (size_t c = 0; c < corpora.size(); ++c) sources[c].spec = corpora[c];
+  if (corpus >= corpora.size() || (!whole && paths[corpus].size() != 1))
+    return Error(ErrorKind::kInternal, "a part names a corpus or file the pipeline does not have");
+  Source& s = sources[corpus];
+  s.paths = paths[corpus];
+  for (const auto& path : paths[corpus]) {
+    auto src = whole ? open_byte_source(path) : open_byte_range(path, begin, end);
+    if (!src.ok()) return src.error();
+    s.readers.push_back(std::make_unique<LineReader>(std::move(src.value()), corpora[corpus].max_line_bytes));
+    if (!whole && begin > 0) s.readers.back()->set_mid_stream();
+  }
+  auto r = std::unique_ptr<PairReader>(new PairReader(std::move(sources)));
+  r->current_ = corpus;
+  r->stop_ = corpus + 1;
+  return r;
 }
 
 void PairReader::set_oversize_sink(const OversizeSink& sink) {
@@ -129,7 +151,7 @@ void PairReader::parse_jsonl(const CorpusSpec& spec, PairBatch& b, Pair& p, std:
 }
 
 Result<bool> PairReader::next(PairBatch& b, size_t max_pairs, size_t max_bytes) {
-  while (current_ < sources_.size()) {
+  while (current_ < std::min(sources_.size(), stop_)) {
     auto more = next_from(sources_[current_], b, max_pairs, max_bytes);
     if (!more.ok() || *more) {
       if (more.ok())

@@ -16,6 +16,7 @@
 // numbers count within each corpus.
 #pragma once
 
+#include <cstdint>
 #include <functional>
 #include <memory>
 #include <string>
@@ -43,6 +44,15 @@ class PairReader {
   // Several corpora, read in this order; paths[i] are corpora[i]'s files.
   static Result<std::unique_ptr<PairReader>> open(const std::vector<CorpusSpec>& corpora,
                                                   const std::vector<std::vector<std::string>>& paths);
+
+  // One part of a partitioned run (pipeline/spread.h): corpus `corpus`
+  // only, its files whole when `whole`, else bytes [begin, end) of its one
+  // uncompressed file, cut at line ends by the planner. Line numbers count
+  // from 1 within the part; the reduce job adds the lines of the parts
+  // before it.
+  static Result<std::unique_ptr<PairReader>> open_part(const std::vector<CorpusSpec>& corpora,
+                                                       const std::vector<std::vector<std::string>>& paths,
+                                                       size_t corpus, bool whole, uint64_t begin, uint64_t end);
 
   // Appends up to `max_pairs` pairs (or about `max_bytes` of input) to an
   // empty batch. Returns false when the input is exhausted and nothing was read.
@@ -74,6 +84,7 @@ class PairReader {
 
   std::vector<Source> sources_;
   size_t current_ = 0;
+  size_t stop_ = SIZE_MAX;  // one past the last corpus read
 };
 
 }  // namespace sheaf

@@ -36,7 +36,7 @@ bool has_tsv_breaker(std::string_view s) {
 // Streams the bytes of over-long lines into rejected-long.tsv: per line
 // "LINE<TAB>SIDE<TAB>" then its bytes then LF (a line holds no LF); LINE is
 // "CORPUS:LINE" with named corpora, as in rejected.tsv.
-void stream_long_lines(PairReader& rd, const Pipeline& p, const RunDir& dir, OutputFile& longs, bool& in_line) {
+void stream_long_lines(BatchSource& rd, const Pipeline& p, const RunDir& dir, OutputFile& longs, bool& in_line) {
   rd.set_oversize_sink([&p, &dir, &longs, &in_line](size_t corpus, std::string_view side, uint64_t line,
                                                     std::string_view bytes, bool last) -> Status {
     if (longs.path().empty()) {
@@ -61,6 +61,120 @@ void stream_long_lines(PairReader& rd, const Pipeline& p, const RunDir& dir, Out
 }
 
 }  // namespace
+
+Result<std::vector<std::unique_ptr<Stage>>> build_streaming_stages(const Pipeline& p) {
+  // Each stage knows only the rewrites before it (`canonical` is called
+  // while a stage is built, never later).
+  std::vector<std::unique_ptr<Stage>> stages;
+  for (int i = 0; i < static_cast<int>(p.stages.size()); ++i) {
+    const StageSpec& spec = p.stages[static_cast<size_t>(i)];
+    if (spec.kind->role == StageRole::kStep) break;
+    StageContext ctx;
+    ctx.pipeline = &p;
+    ctx.spec = &spec;
+    ctx.index = i;
+    ctx.canonical = [&stages](std::string& text, int side) {
+      for (const auto& s : stages)
+        if (!s->rewrite(text, side)) return false;
+      return true;
+    };
+    auto st = make_stage(ctx);
+    if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
+    if (!st.ok()) return st.error();
+    stages.push_back(std::move(st.value()));
+  }
+  return stages;
+}
+
+Status stream_pass(const StreamPass& ps) {
+  int threads = ps.threads < 1 ? 1 : ps.threads;
+  BatchPool<PairBatch> pool(static_cast<size_t>(threads) * 4);
+  uint64_t seq = 0;
+  BatchSource& rd = *ps.source;
+  auto first =
+      tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
+        TaskBody body;
+        SerialTurn turn(&rd);
+        throw_if_interrupted();
+        PairBatch* b = pool.acquire();
+        b->pairs.clear();
+        b->raw.clear();
+        b->raw_target.clear();
+        b->arena.reset();
+        auto more = rd.next(*b, ps.batch_pairs, 4 << 20);
+        if (!more.ok()) {
+          pool.release(b);
+          throw ErrorException{more.error()};
+        }
+        if (!*more) {
+          pool.release(b);
+          fc.stop();
+          return nullptr;
+        }
+        b->seq = seq++;
+        if (ps.bytes_read) *ps.bytes_read = rd.consumed();
+        if (ps.pairs_read) *ps.pairs_read += b->pairs.size();
+        handoff_release(b);
+        return b;
+      });
+  tbb::filter<void, PairBatch*> chain = first;
+  for (Stage* st : ps.stages) {
+    chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [st](PairBatch* b) {
+              TaskBody body;
+              handoff_acquire(b);
+              st->map(*b);
+              handoff_release(b);
+              return b;
+            });
+    if (st->has_reduce())
+      chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::serial_in_order, [st](PairBatch* b) {
+                TaskBody body;
+                SerialTurn turn(st);
+                handoff_acquire(b);
+                st->reduce(*b);
+                handoff_release(b);
+                return b;
+              });
+  }
+  // The output check (a field must never break the TSV it is written to) and
+  // the lengths for the summary, in parallel; then the taker, in order.
+  if (ps.output_check)
+    chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [](PairBatch* b) {
+              TaskBody body;
+              handoff_acquire(b);
+              for (Pair& pr : b->pairs) {
+                if (!pr.kept()) continue;
+                for (int side = 0; side < 2 && pr.kept(); ++side)
+                  if (has_tsv_breaker(pr.text[side]))
+                    b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
+                if (!pr.kept()) continue;
+                for (size_t side = 0; side < 2; ++side) {
+                  if (pr.chars[side] == kUnmeasured)
+                    pr.chars[side] = static_cast<uint32_t>(count_code_points(pr.text[side]));
+                  if (pr.words[side] == kUnmeasured)
+                    pr.words[side] = static_cast<uint32_t>(count_words(pr.text[side]));
+                }
+              }
+              handoff_release(b);
+              return b;
+            });
+  const auto& take = ps.take;
+  auto last_filter = tbb::make_filter<PairBatch*, void>(tbb::filter_mode::serial_in_order, [&](PairBatch* b) {
+    TaskBody body;
+    SerialTurn turn(&take);
+    handoff_acquire(b);
+    Status st = take(*b);
+    pool.release(b);
+    if (!st.ok()) throw ErrorException{st.error()};
+  });
+  try {
+    tbb::task_arena arena(threads);
+    arena.execute([&] { pool.run_pipeline(chain & last_filter); });
+  } catch (const ErrorException& e) {
+    return e.error;
+  }
+  return {};
+}
 
 Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o) {
   Pipeline p = pipeline_in;
@@ -105,26 +219,11 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   // (the same checks as validate, check_stages): the streaming stages, each
   // knowing only the rewrites before it, then the steps. Those after
   // --until are built only to be checked.
-  std::vector<std::unique_ptr<Stage>> stages;
+  auto built = build_streaming_stages(p);
+  if (!built.ok()) return built.error();
+  std::vector<std::unique_ptr<Stage>> stages = std::move(built.value());
   const SplitRouter* split = nullptr;
   int streaming_end = 0;
-  for (int i = 0; i < static_cast<int>(p.stages.size()); ++i) {
-    const StageSpec& spec = p.stages[static_cast<size_t>(i)];
-    if (spec.kind->role == StageRole::kStep) break;
-    StageContext ctx;
-    ctx.pipeline = &p;
-    ctx.spec = &spec;
-    ctx.index = i;
-    ctx.canonical = [&stages](std::string& text, int side) {
-      for (const auto& s : stages)
-        if (!s->rewrite(text, side)) return false;
-      return true;
-    };
-    auto st = make_stage(ctx);
-    if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
-    if (!st.ok()) return st.error();
-    stages.push_back(std::move(st.value()));
-  }
   const int first_step = static_cast<int>(stages.size());  // index of the first step in p.stages
   std::vector<std::unique_ptr<Step>> steps;
   for (size_t i = stages.size(); i < p.stages.size(); ++i) {
@@ -145,25 +244,37 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   auto lock = RunDir::lock(out_dir);
   if (!lock.ok()) return lock.error();
 
-  std::vector<std::vector<std::string>> paths;
-  for (const auto& c : p.corpora) {
-    paths.emplace_back();
-    for (const auto& f : c.files) paths.back().push_back(o.inputs.empty() ? p.resolve(f) : f);
+  std::unique_ptr<BatchSource> source;
+  if (o.source) {
+    auto made = o.source(p);
+    if (!made.ok()) {
+      RunDir::abandon(out_dir, lock.value());
+      return made.error();
+    }
+    source = std::move(made.value());
+  } else {
+    std::vector<std::vector<std::string>> paths;
+    for (const auto& c : p.corpora) {
+      paths.emplace_back();
+      for (const auto& f : c.files) paths.back().push_back(o.inputs.empty() ? p.resolve(f) : f);
+    }
+    auto reader = PairReader::open(p.corpora, paths);
+    if (!reader.ok()) {
+      RunDir::abandon(out_dir, lock.value());
+      // Say where a relative path was looked for.
+      const Error& e = reader.error();
+      for (size_t c = 0; c < paths.size() && o.inputs.empty(); ++c)
+        for (size_t i = 0; i < paths[c].size(); ++i)
+          if (e.where().file == paths[c][i] && paths[c][i] != p.corpora[c].files[i])
+            return Error(e.kind(),
+                         e.message() + " (\"" + p.corpora[c].files[i] +
+                             "\" is read relative to the pipeline file's folder, " + p.base_dir + ")",
+                         e.where());
+      return e;
+    }
+    source = std::make_unique<ReaderSource>(std::move(reader.value()));
   }
-  auto reader = PairReader::open(p.corpora, paths);
-  if (!reader.ok()) {
-    RunDir::abandon(out_dir, lock.value());
-    // Say where a relative path was looked for.
-    const Error& e = reader.error();
-    for (size_t c = 0; c < paths.size() && o.inputs.empty(); ++c)
-      for (size_t i = 0; i < paths[c].size(); ++i)
-        if (e.where().file == paths[c][i] && paths[c][i] != p.corpora[c].files[i])
-          return Error(e.kind(),
-                       e.message() + " (\"" + p.corpora[c].files[i] +
-                           "\" is read relative to the pipeline file's folder, " + p.base_dir + ")",
-                       e.where());
-    return e;
-  }
+  const size_t from = std::min(source->first_stage(), static_cast<size_t>(streaming_end));
 
   auto dir = RunDir::prepare(out_dir, o.force, std::move(lock.value()));
   if (!dir.ok()) return dir.error();
@@ -180,7 +291,7 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   // into rejected-long.tsv (created at the first one) as it skips them.
   OutputFile longs;
   bool in_long_line = false;
-  stream_long_lines(*reader.value(), p, *dir, longs, in_long_line);
+  stream_long_lines(*source, p, *dir, longs, in_long_line);
 
   std::vector<std::string> split_names = split ? split->names() : std::vector<std::string>{"train"};
   Pass1Writer writer(*dir, rec, split_names, split, p);
@@ -191,100 +302,24 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
 
   int threads = o.threads > 0 ? o.threads : static_cast<int>(std::thread::hardware_concurrency());
   if (threads < 1) threads = 1;
-  size_t tokens = static_cast<size_t>(threads) * 4;
-  BatchPool<PairBatch> pool(tokens);
-
   std::atomic<uint64_t> bytes_read{0}, pairs_read{0};
   Progress progress(o.progress, bytes_read, pairs_read);
-  uint64_t seq = 0;
-  PairReader& rd = *reader.value();
-
-  auto first =
-      tbb::make_filter<void, PairBatch*>(tbb::filter_mode::serial_in_order, [&](tbb::flow_control& fc) -> PairBatch* {
-        TaskBody body;
-        SerialTurn turn(&rd);
-        throw_if_interrupted();
-        PairBatch* b = pool.acquire();
-        b->pairs.clear();
-        b->raw.clear();
-        b->raw_target.clear();
-        b->arena.reset();
-        auto more = rd.next(*b, o.batch_pairs, 4 << 20);
-        if (!more.ok()) {
-          pool.release(b);
-          throw ErrorException{more.error()};
-        }
-        if (!*more) {
-          pool.release(b);
-          fc.stop();
-          return nullptr;
-        }
-        b->seq = seq++;
-        bytes_read = rd.consumed();
-        pairs_read += b->pairs.size();
-        handoff_release(b);
-        return b;
-      });
-  tbb::filter<void, PairBatch*> chain = first;
-  for (auto& s : stages) {
-    Stage* st = s.get();
-    chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [st](PairBatch* b) {
-              TaskBody body;
-              handoff_acquire(b);
-              st->map(*b);
-              handoff_release(b);
-              return b;
-            });
-    if (st->has_reduce())
-      chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::serial_in_order, [st](PairBatch* b) {
-                TaskBody body;
-                SerialTurn turn(st);
-                handoff_acquire(b);
-                st->reduce(*b);
-                handoff_release(b);
-                return b;
-              });
-  }
-  // The output check (a field must never break the TSV it is written to) and
-  // the lengths for the summary, in parallel; then the writer, in order.
-  chain = chain & tbb::make_filter<PairBatch*, PairBatch*>(tbb::filter_mode::parallel, [](PairBatch* b) {
-            TaskBody body;
-            handoff_acquire(b);
-            for (Pair& pr : b->pairs) {
-              if (!pr.kept()) continue;
-              for (int side = 0; side < 2 && pr.kept(); ++side)
-                if (has_tsv_breaker(pr.text[side]))
-                  b->drop(pr, kOutputStage, std::string("unsafe-field:") + side_name(side));
-              if (!pr.kept()) continue;
-              for (size_t side = 0; side < 2; ++side) {
-                if (pr.chars[side] == kUnmeasured)
-                  pr.chars[side] = static_cast<uint32_t>(count_code_points(pr.text[side]));
-                if (pr.words[side] == kUnmeasured) pr.words[side] = static_cast<uint32_t>(count_words(pr.text[side]));
-              }
-            }
-            handoff_release(b);
-            return b;
-          });
-  auto last_filter = tbb::make_filter<PairBatch*, void>(tbb::filter_mode::serial_in_order, [&](PairBatch* b) {
-    TaskBody body;
-    SerialTurn turn(&writer);
-    handoff_acquire(b);
-    writer.take(*b);
-    pool.release(b);
-    if (auto st = writer.status(); !st.ok()) throw ErrorException{st.error()};
-  });
-
-  Status failed;
-  try {
-    tbb::task_arena arena(threads);
-    arena.execute([&] { pool.run_pipeline(chain & last_filter); });
-  } catch (const ErrorException& e) {
-    failed = e.error;
-  }
+  StreamPass pass;
+  pass.source = source.get();
+  for (size_t i = from; i < stages.size(); ++i) pass.stages.push_back(stages[i].get());
+  pass.take = [&writer](PairBatch& b) {
+    writer.take(b);
+    return writer.status();
+  };
+  pass.threads = threads;
+  pass.batch_pairs = o.batch_pairs;
+  pass.bytes_read = &bytes_read;
+  pass.pairs_read = &pairs_read;
+  Status failed = stream_pass(pass);
   progress.stop();
   if (failed.ok()) {
-    for (auto& s : stages)
-      if (auto st = s->finish(); !st.ok()) failed = st;
+    for (size_t i = from; i < stages.size() && failed.ok(); ++i)
+      if (auto st = stages[i]->finish(); !st.ok()) failed = st;
   }
   if (failed.ok()) {
     failed = writer.finish(threads);
@@ -299,8 +334,15 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
     longs.discard();
     return failed.error();
   }
-  rec.inputs = rd.inputs();
-  for (size_t c = 0; c < rec.corpora.size(); ++c) rec.corpora[c].inputs = rd.inputs(c);
+  for (size_t c = 0; c < p.corpora.size(); ++c) {
+    auto in = source->inputs(c);
+    if (!in.ok()) {
+      writer.discard();
+      return in.error();
+    }
+    for (const auto& i : *in) rec.inputs.push_back(i);
+    if (c < rec.corpora.size()) rec.corpora[c].inputs = *in;
+  }
   if (!rec.splits.empty() && rec.splits.front().second == 0) {
     SHEAF_TRY(writer.close());
     return Error(ErrorKind::kData,
@@ -308,7 +350,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
                      std::to_string(rec.kept) + "); see rejected.tsv for why, and relax the filters",
                  Location{dir->file("train.tsv"), 0, 0, {}});
   }
-  for (size_t i = 0; i < stages.size(); ++i) rec.stages[i + 1].counters = stages[i]->counters();
+  for (size_t i = 0; i < stages.size(); ++i)
+    rec.stages[i + 1].counters = i < from ? source->counters(i) : stages[i]->counters();
 
   // The steps after pass 1, in pipeline order (the loader checked that each
   // comes after what it needs), then the closing steps the caller gave.

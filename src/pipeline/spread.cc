@@ -1,0 +1,722 @@
+#include "pipeline/spread.h"
+
+#include <fcntl.h>
+#include <spawn.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
+#include <unistd.h>
+#include <xxhash.h>
+
+#include <nlohmann/json.hpp>
+
+#include <algorithm>
+#include <array>
+#include <bit>
+#include <cerrno>
+#include <cstdio>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <memory>
+#include <optional>
+#include <sstream>
+
+#include "io/byte_source.h"
+#include "io/output_file.h"
+#include "io/pair_reader.h"
+#include "pipeline/pipeline.h"
+#include "stages/stage.h"
+
+extern char** environ;
+
+namespace sheaf {
+
+static_assert(std::endian::native == std::endian::little, "part files are written in the host's byte order");
+
+namespace {
+
+using json = nlohmann::json;
+namespace fs = std::filesystem;
+
+constexpr int kFormat = 1;
+
+std::string part_path(const std::string& work, size_t k, const char* ext) {
+  return work + "/parts/" + std::to_string(k) + ext;
+}
+
+Error plan_error(const std::string& path, const std::string& what) {
+  return Error(ErrorKind::kInput, what, Location{path, 0, 0, {}});
+}
+
+Result<std::string> read_small(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return Error(ErrorKind::kInput, "cannot read it", Location{path, 0, 0, {}});
+  std::stringstream s;
+  s << in.rdbuf();
+  if (in.bad()) return Error(ErrorKind::kIo, "cannot read it", Location{path, 0, 0, {}});
+  return s.str();
+}
+
+Status write_small(const std::string& path, const std::string& text) {
+  OutputFile f;
+  SHEAF_TRY(f.open(path));
+  f.write(text);
+  return f.commit();
+}
+
+std::string hash_hex(uint64_t v) { return hex64(v); }
+
+// The pipeline as the plan names it, with the hash every job checks.
+Result<Pipeline> load_planned(const SpreadPlan& plan) {
+  if (::chdir(plan.cwd.c_str()) != 0)
+    return Error(ErrorKind::kInput,
+                 std::string("cannot work in the plan's directory: ") + std::strerror(errno) +
+                     "; every job needs the same file system as the plan",
+                 Location{plan.cwd, 0, 0, {}});
+  std::vector<Override> ov;
+  for (const auto& s : plan.sets) {
+    auto o = parse_override(s);
+    if (!o.ok()) return o.error();
+    ov.push_back(o.value());
+  }
+  auto p = load_pipeline(plan.pipeline, ov);
+  if (!p.ok()) return p.error();
+  std::string r = render_pipeline(*p);
+  if (XXH3_64bits(r.data(), r.size()) != plan.pipeline_hash)
+    return Error(ErrorKind::kInput,
+                 "the pipeline file (or a file it names) changed since the run was planned; plan it again",
+                 Location{plan.pipeline, 0, 0, {}});
+  return p;
+}
+
+std::vector<std::vector<std::string>> resolved_paths(const Pipeline& p) {
+  std::vector<std::vector<std::string>> paths;
+  for (const auto& c : p.corpora) {
+    paths.emplace_back();
+    for (const auto& f : c.files) paths.back().push_back(p.resolve(f));
+  }
+  return paths;
+}
+
+// The first streaming stage that keeps state across pairs: the map jobs run
+// the stages before it.
+size_t stateless_prefix(const std::vector<std::unique_ptr<Stage>>& stages) {
+  size_t k = 0;
+  while (k < stages.size() && !stages[k]->has_reduce()) ++k;
+  return k;
+}
+
+// The byte just after the first LF at or after `at` in `path` (`size` when
+// none): parts start at line starts.
+Result<uint64_t> next_line_start(int fd, const std::string& path, uint64_t at, uint64_t size) {
+  char buf[1 << 16];
+  while (at < size) {
+    ssize_t r = ::pread(fd, buf, sizeof buf, static_cast<off_t>(at));
+    if (r < 0 && errno == EINTR) continue;
+    if (r <= 0) return Error(ErrorKind::kIo, "cannot read input", Location{path, 0, 0, at});
+    const void* nl = std::memchr(buf, '\n', static_cast<size_t>(r));
+    if (nl) return at + static_cast<uint64_t>(static_cast<const char*>(nl) - buf) + 1;
+    at += static_cast<uint64_t>(r);
+  }
+  return size;
+}
+
+// Fixed fields of one pair record in K.pairs (docs/cluster.md).
+struct PairHead {
+  uint64_t line;
+  uint32_t corpus;
+  int32_t drop_stage;
+  int32_t split;
+  uint32_t pad;
+  uint64_t key[2];
+  uint32_t words[2], chars[2];
+  uint32_t len[5];  // reason, raw, raw_target, source text, target text
+  uint32_t pad2;
+};
+static_assert(sizeof(PairHead) == 80);
+
+}  // namespace
+
+Result<SpreadPlan> read_spread_plan(const std::string& work) {
+  std::string path = work + "/plan.json";
+  auto text = read_small(path);
+  if (!text.ok()) return Error(ErrorKind::kInput, "no plan here: run `sheaf spread plan` first", Location{path, 0, 0, {}});
+  auto j = json::parse(*text, nullptr, false);
+  SpreadPlan plan;
+  try {
+    if (j.is_discarded() || j.value("format", "") != "sheaf-spread-plan" || j.value("version", 0) != kFormat)
+      return plan_error(path, "not a sheaf plan of format version 1");
+    plan.pipeline = j.at("pipeline").get<std::string>();
+    plan.cwd = j.at("cwd").get<std::string>();
+    plan.sets = j.at("sets").get<std::vector<std::string>>();
+    plan.pipeline_hash = std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16);
+    for (const auto& pj : j.at("parts")) {
+      SpreadPart part;
+      part.corpus = pj.at("corpus").get<uint32_t>();
+      part.whole = pj.at("whole").get<bool>();
+      if (!part.whole) {
+        part.file = pj.at("file").get<std::string>();
+        part.begin = pj.at("begin").get<uint64_t>();
+        part.end = pj.at("end").get<uint64_t>();
+      }
+      plan.parts.push_back(std::move(part));
+    }
+  } catch (const std::exception& e) {
+    return plan_error(path, std::string("damaged plan (") + e.what() + "); plan the run again");
+  }
+  if (plan.parts.empty()) return plan_error(path, "the plan has no part; plan the run again");
+  return plan;
+}
+
+Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
+                               const std::string& work) {
+  if (parts < 1) return Error(ErrorKind::kUsage, "--parts must be at least 1");
+  SpreadPlan plan;
+  std::error_code ec;
+  plan.pipeline = pipeline;
+  plan.cwd = fs::current_path(ec).string();
+  plan.sets = sets;
+  std::vector<Override> ov;
+  for (const auto& s : sets) {
+    auto o = parse_override(s);
+    if (!o.ok()) return o.error();
+    ov.push_back(o.value());
+  }
+  auto p = load_pipeline(plan.pipeline, ov);
+  if (!p.ok()) return p.error();
+  SHEAF_TRY(check_stages(*p));
+  // A file named by a relative path is read relative to `cwd`.
+  std::string r = render_pipeline(*p);
+  plan.pipeline_hash = XXH3_64bits(r.data(), r.size());
+  auto paths = resolved_paths(*p);
+
+  // Sizes first: parts are cut to about total / parts bytes each.
+  uint64_t total = 0;
+  std::vector<uint64_t> sizes(paths.size(), 0);
+  std::vector<bool> cuttable(paths.size(), false);
+  for (size_t c = 0; c < paths.size(); ++c) {
+    for (const auto& f : paths[c]) {
+      if (f == "-") return Error(ErrorKind::kUsage, "a spread run cannot read standard input; name a file");
+      struct stat st {};
+      if (::stat(f.c_str(), &st) != 0 || !S_ISREG(st.st_mode))
+        return Error(ErrorKind::kInput, "cannot read input: not a regular file", Location{f, 0, 0, {}});
+      sizes[c] += static_cast<uint64_t>(st.st_size);
+    }
+    total += sizes[c];
+    if (paths[c].size() == 1 && p->corpora[c].layout != Layout::kAligned) {
+      auto src = open_byte_source(paths[c][0]);
+      if (!src.ok()) return src.error();
+      cuttable[c] = src.value()->compression() == Compression::kNone;
+    }
+  }
+  uint64_t target = std::max<uint64_t>(1, (total + static_cast<uint64_t>(parts) - 1) / static_cast<uint64_t>(parts));
+  for (size_t c = 0; c < paths.size(); ++c) {
+    uint64_t n = cuttable[c] ? std::max<uint64_t>(1, (sizes[c] + target / 2) / target) : 1;
+    if (n == 1) {
+      plan.parts.push_back({static_cast<uint32_t>(c), true, {}, 0, 0});
+      continue;
+    }
+    const std::string& f = paths[c][0];
+    int fd = ::open(f.c_str(), O_RDONLY | O_CLOEXEC);
+    if (fd < 0) return Error(ErrorKind::kInput, std::string("cannot open input: ") + std::strerror(errno), Location{f, 0, 0, {}});
+    uint64_t at = 0;
+    for (uint64_t i = 1; i <= n && at < sizes[c]; ++i) {
+      uint64_t end = sizes[c];
+      if (i < n) {
+        auto cut = next_line_start(fd, f, std::max(at, sizes[c] / n * i) , sizes[c]);
+        if (!cut.ok()) {
+          ::close(fd);
+          return cut.error();
+        }
+        end = *cut;
+      }
+      if (end > at) plan.parts.push_back({static_cast<uint32_t>(c), false, f, at, end});
+      at = end;
+    }
+    ::close(fd);
+    if (plan.parts.empty() || plan.parts.back().corpus != c)  // an empty file
+      plan.parts.push_back({static_cast<uint32_t>(c), true, {}, 0, 0});
+  }
+
+  fs::create_directories(work + "/parts", ec);
+  if (ec) return Error(ErrorKind::kIo, "cannot make the work directory: " + ec.message(), Location{work, 0, 0, {}});
+  json j;
+  j["format"] = "sheaf-spread-plan";
+  j["version"] = kFormat;
+  j["pipeline"] = plan.pipeline;
+  j["cwd"] = plan.cwd;
+  j["sets"] = plan.sets;
+  j["pipeline_hash"] = hash_hex(plan.pipeline_hash);
+  j["parts"] = json::array();
+  for (const auto& part : plan.parts) {
+    json pj{{"corpus", part.corpus}, {"whole", part.whole}};
+    if (!part.whole) {
+      pj["file"] = part.file;
+      pj["begin"] = part.begin;
+      pj["end"] = part.end;
+    }
+    j["parts"].push_back(pj);
+  }
+  // A new plan makes the parts of an old one stale: they are removed.
+  for (const auto& e : fs::directory_iterator(work + "/parts", ec)) fs::remove(e.path(), ec);
+  SHEAF_TRY(write_small(work + "/plan.json", j.dump(1) + "\n"));
+  return plan;
+}
+
+Status spread_map(const std::string& work, size_t k, int threads) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  if (k >= plan->parts.size())
+    return Error(ErrorKind::kUsage, "the plan has " + std::to_string(plan->parts.size()) + " parts (0 to " +
+                                        std::to_string(plan->parts.size() - 1) + "); --part " + std::to_string(k) +
+                                        " is not one of them");
+  auto p = load_planned(*plan);
+  if (!p.ok()) return p.error();
+  const SpreadPart& part = plan->parts[k];
+  auto built = build_streaming_stages(*p);
+  if (!built.ok()) return built.error();
+  auto& stages = built.value();
+  size_t prefix = stateless_prefix(stages);
+
+  // A re-run replaces what an earlier attempt left.
+  std::error_code ec;
+  for (const char* ext : {".json", ".pairs", ".long"}) {
+    fs::remove(part_path(work, k, ext), ec);
+    fs::remove(part_path(work, k, ext) + ".partial", ec);
+  }
+  auto rd = PairReader::open_part(p->corpora, resolved_paths(*p), part.corpus, part.whole, part.begin, part.end);
+  if (!rd.ok()) return rd.error();
+  OutputFile pairs, longs;
+  SHEAF_TRY(pairs.open(part_path(work, k, ".pairs")));
+  SHEAF_TRY(longs.open(part_path(work, k, ".long")));
+  rd.value()->set_oversize_sink([&longs](size_t corpus, std::string_view side, uint64_t line, std::string_view bytes,
+                                         bool last) -> Status {
+    char head[18];
+    uint32_t c = static_cast<uint32_t>(corpus), n = static_cast<uint32_t>(bytes.size());
+    std::memcpy(head, &line, 8);
+    std::memcpy(head + 8, &c, 4);
+    head[12] = last ? 1 : 0;
+    head[13] = static_cast<char>(side.size());
+    std::memcpy(head + 14, &n, 4);
+    longs.write(std::string_view(head, sizeof head));
+    longs.write(side);
+    longs.write(bytes);
+    return longs.status();
+  });
+  ReaderSource source(std::move(rd.value()));
+  StreamPass pass;
+  pass.source = &source;
+  for (size_t i = 0; i < prefix; ++i) pass.stages.push_back(stages[i].get());
+  pass.output_check = false;
+  pass.threads = threads;
+  uint64_t count = 0;
+  pass.take = [&pairs, &count](PairBatch& b) -> Status {
+    for (const Pair& pr : b.pairs) {
+      bool kept = pr.kept();
+      std::string_view fields[5] = {pr.reason, pr.raw, pr.raw_target, kept ? pr.text[0] : std::string_view(),
+                                    kept ? pr.text[1] : std::string_view()};
+      PairHead h{};
+      h.line = pr.line;
+      h.corpus = pr.corpus;
+      h.drop_stage = pr.drop_stage;
+      h.split = pr.split;
+      h.key[0] = pr.key[0];
+      h.key[1] = pr.key[1];
+      for (int s = 0; s < 2; ++s) {
+        h.words[s] = pr.words[static_cast<size_t>(s)];
+        h.chars[s] = pr.chars[static_cast<size_t>(s)];
+      }
+      for (int f = 0; f < 5; ++f) {
+        if (fields[f].size() > UINT32_MAX)
+          return Error(ErrorKind::kInput, "a line of 4 GiB or more cannot go into a part; lower max_line_bytes");
+        h.len[f] = static_cast<uint32_t>(fields[f].size());
+      }
+      pairs.write(std::string_view(reinterpret_cast<const char*>(&h), sizeof h));
+      for (const auto& f : fields) pairs.write(f);
+      pairs.add_record();
+      ++count;
+    }
+    return pairs.status();
+  };
+  Status st = stream_pass(pass);
+  for (size_t i = 0; i < prefix && st.ok(); ++i) st = stages[i]->finish();
+  if (st.ok()) st = pairs.commit();
+  if (st.ok()) st = longs.commit();
+  if (!st.ok()) {
+    pairs.discard();
+    longs.discard();
+    return st;
+  }
+  auto inputs = source.inputs(part.corpus);
+  json j;
+  j["format"] = "sheaf-spread-part";
+  j["version"] = kFormat;
+  j["part"] = k;
+  j["pipeline_hash"] = hash_hex(plan->pipeline_hash);
+  j["first_stage"] = prefix;
+  j["pairs"] = count;
+  j["lines"] = inputs.ok() && !inputs->empty() ? inputs->front().lines : 0;
+  j["pairs_bytes"] = pairs.size();
+  j["pairs_checksum"] = hash_hex(pairs.checksum());
+  j["long_bytes"] = longs.size();
+  j["long_checksum"] = hash_hex(longs.checksum());
+  j["counters"] = json::array();
+  for (size_t i = 0; i < prefix; ++i) {
+    json cs = json::array();
+    for (const auto& [name, v] : stages[i]->counters()) cs.push_back(json::array({name, v}));
+    j["counters"].push_back(cs);
+  }
+  j["inputs"] = json::array();
+  if (part.whole && inputs.ok())
+    for (const auto& in : *inputs)
+      j["inputs"].push_back({{"path", in.path},
+                             {"bytes", in.bytes},
+                             {"checksum", hash_hex(in.checksum)},
+                             {"compression", in.compression},
+                             {"lines", in.lines}});
+  return write_small(part_path(work, k, ".json"), j.dump(1) + "\n");
+}
+
+namespace {
+
+struct PartInfo {
+  uint64_t pairs = 0, lines = 0, pairs_bytes = 0, pairs_checksum = 0, long_bytes = 0, long_checksum = 0;
+  size_t first_stage = 0;
+  std::vector<std::vector<std::pair<std::string, uint64_t>>> counters;
+  std::vector<InputInfo> inputs;
+};
+
+Result<PartInfo> read_part_info(const std::string& work, size_t k, const SpreadPlan& plan) {
+  std::string path = part_path(work, k, ".json");
+  auto text = read_small(path);
+  if (!text.ok())
+    return Error(ErrorKind::kInput,
+                 "part " + std::to_string(k) + " is not done: run `sheaf spread map " + work + " --part " +
+                     std::to_string(k) + "`",
+                 Location{path, 0, 0, {}});
+  auto j = json::parse(*text, nullptr, false);
+  PartInfo info;
+  try {
+    if (j.is_discarded() || j.value("format", "") != "sheaf-spread-part" || j.value("version", 0) != kFormat)
+      return plan_error(path, "not a sheaf part record of format version 1; run its map job again");
+    if (j.at("part").get<size_t>() != k ||
+        std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16) != plan.pipeline_hash)
+      return plan_error(path, "this part belongs to another plan; run its map job again");
+    info.pairs = j.at("pairs").get<uint64_t>();
+    info.lines = j.at("lines").get<uint64_t>();
+    info.pairs_bytes = j.at("pairs_bytes").get<uint64_t>();
+    info.pairs_checksum = std::stoull(j.at("pairs_checksum").get<std::string>(), nullptr, 16);
+    info.long_bytes = j.at("long_bytes").get<uint64_t>();
+    info.long_checksum = std::stoull(j.at("long_checksum").get<std::string>(), nullptr, 16);
+    info.first_stage = j.at("first_stage").get<size_t>();
+    for (const auto& cs : j.at("counters")) {
+      info.counters.emplace_back();
+      for (const auto& c : cs) info.counters.back().emplace_back(c.at(0).get<std::string>(), c.at(1).get<uint64_t>());
+    }
+    for (const auto& in : j.at("inputs"))
+      info.inputs.push_back({in.at("path").get<std::string>(), in.at("bytes").get<uint64_t>(),
+                             std::stoull(in.at("checksum").get<std::string>(), nullptr, 16),
+                             in.at("compression").get<std::string>(), in.at("lines").get<uint64_t>()});
+  } catch (const std::exception& e) {
+    return plan_error(path, std::string("damaged part record (") + e.what() + "); run its map job again");
+  }
+  return info;
+}
+
+// The parts' pairs, in input order, as pass 1's batches.
+class PartsSource : public BatchSource {
+ public:
+  PartsSource(std::string work, SpreadPlan plan, std::vector<PartInfo> infos)
+      : work_(std::move(work)), plan_(std::move(plan)), infos_(std::move(infos)) {
+    // Each part's first line follows the lines of the earlier parts of its
+    // corpus.
+    std::vector<uint64_t> lines_before(64, 0);
+    for (size_t k = 0; k < plan_.parts.size(); ++k) {
+      uint32_t c = plan_.parts[k].corpus;
+      if (c >= lines_before.size()) lines_before.resize(c + 1, 0);
+      offset_.push_back(lines_before[c]);
+      lines_before[c] += infos_[k].lines;
+    }
+  }
+  ~PartsSource() override {
+    if (in_) std::fclose(in_);
+  }
+
+  Result<bool> next(PairBatch& b, size_t max_pairs, size_t max_bytes) override {
+    for (;;) {
+      if (!in_) {
+        if (next_part_ >= plan_.parts.size()) return false;
+        SHEAF_TRY(open_part(next_part_++));
+      }
+      std::vector<std::array<size_t, 4>> at;  // raw offset, raw length, target offset, target length
+      while (at.size() < max_pairs && b.raw.size() + b.raw_target.size() < max_bytes && left_ > 0) {
+        PairHead h;
+        SHEAF_TRY(read_exact(&h, sizeof h));
+        Pair pr;
+        pr.line = h.line + offset_[current_];
+        pr.corpus = h.corpus;
+        pr.drop_stage = h.drop_stage;
+        pr.split = h.split;
+        pr.key = {h.key[0], h.key[1]};
+        pr.words = {h.words[0], h.words[1]};
+        pr.chars = {h.chars[0], h.chars[1]};
+        std::string field;
+        SHEAF_TRY(read_field(h.len[0], field));
+        pr.reason = field;
+        at.push_back({b.raw.size(), h.len[1], b.raw_target.size(), h.len[2]});
+        SHEAF_TRY(read_field(h.len[1], field));
+        b.raw += field;
+        SHEAF_TRY(read_field(h.len[2], field));
+        b.raw_target += field;
+        for (int s = 0; s < 2; ++s) {
+          SHEAF_TRY(read_field(h.len[3 + s], field));
+          pr.text[static_cast<size_t>(s)] = b.arena.copy(field);
+        }
+        b.pairs.push_back(std::move(pr));
+        --left_;
+      }
+      for (size_t i = 0; i < at.size(); ++i) {
+        Pair& pr = b.pairs[b.pairs.size() - at.size() + i];
+        pr.raw = std::string_view(b.raw).substr(at[i][0], at[i][1]);
+        pr.raw_target = std::string_view(b.raw_target).substr(at[i][2], at[i][3]);
+      }
+      if (left_ == 0) SHEAF_TRY(close_part());
+      if (!b.pairs.empty()) return true;
+    }
+  }
+
+  uint64_t consumed() const override { return consumed_; }
+  void set_oversize_sink(const PairReader::OversizeSink& sink) override { sink_ = sink; }
+
+  Result<std::vector<InputInfo>> inputs(size_t corpus) const override {
+    std::vector<InputInfo> out;
+    uint64_t lines = 0;
+    const SpreadPart* cut = nullptr;
+    for (size_t k = 0; k < plan_.parts.size(); ++k) {
+      if (plan_.parts[k].corpus != corpus) continue;
+      if (plan_.parts[k].whole) return infos_[k].inputs;
+      cut = &plan_.parts[k];
+      lines += infos_[k].lines;
+    }
+    if (!cut) return out;
+    uint64_t size = 0;
+    auto sum = checksum_file(cut->file, &size);
+    if (!sum.ok()) return sum.error();
+    if (size != cut->end)
+      return Error(ErrorKind::kInput, "the input changed size since the run was planned; plan it again",
+                   Location{cut->file, 0, 0, {}});
+    out.push_back({cut->file, size, *sum, compression_name(Compression::kNone), lines});
+    return out;
+  }
+
+  size_t first_stage() const override { return infos_.empty() ? 0 : infos_[0].first_stage; }
+  std::vector<std::pair<std::string, uint64_t>> counters(size_t stage) const override {
+    std::vector<std::pair<std::string, uint64_t>> sum;
+    for (const auto& info : infos_) {
+      if (stage >= info.counters.size()) continue;
+      const auto& cs = info.counters[stage];
+      if (sum.empty()) {
+        sum = cs;
+        continue;
+      }
+      for (size_t i = 0; i < cs.size() && i < sum.size(); ++i) sum[i].second += cs[i].second;
+    }
+    return sum;
+  }
+
+ private:
+  Status open_part(size_t k) {
+    current_ = k;
+    // The part's over-long lines first (they go to their own file, in order).
+    if (infos_[k].long_bytes > 0) SHEAF_TRY(replay_long(k));
+    std::string path = part_path(work_, k, ".pairs");
+    in_ = std::fopen(path.c_str(), "rb");
+    if (!in_) return Error(ErrorKind::kInput, "cannot read part: run its map job again", Location{path, 0, 0, {}});
+    std::setvbuf(in_, nullptr, _IOFBF, 1 << 20);
+    left_ = infos_[k].pairs;
+    read_bytes_ = 0;
+    if (!xxh_) xxh_.reset(XXH3_createState());
+    XXH3_64bits_reset(xxh_.get());
+    return {};
+  }
+
+  Status close_part() {
+    std::fclose(in_);
+    in_ = nullptr;
+    std::string path = part_path(work_, current_, ".pairs");
+    if (read_bytes_ != infos_[current_].pairs_bytes || XXH3_64bits_digest(xxh_.get()) != infos_[current_].pairs_checksum)
+      return Error(ErrorKind::kData, "the part does not match its record (damaged or replaced); run its map job again",
+                   Location{path, 0, 0, {}});
+    return {};
+  }
+
+  Status read_exact(void* to, size_t n) {
+    if (n > 0 && std::fread(to, 1, n, in_) != n)
+      return Error(ErrorKind::kData, "the part ends early (damaged); run its map job again",
+                   Location{part_path(work_, current_, ".pairs"), 0, 0, read_bytes_});
+    XXH3_64bits_update(xxh_.get(), to, n);
+    read_bytes_ += n;
+    consumed_ += n;
+    return {};
+  }
+  Status read_field(uint32_t n, std::string& out) {
+    if (n > infos_[current_].pairs_bytes)
+      return Error(ErrorKind::kData, "the part holds a field longer than itself (damaged); run its map job again",
+                   Location{part_path(work_, current_, ".pairs"), 0, 0, read_bytes_});
+    out.resize(n);
+    return read_exact(out.data(), n);
+  }
+
+  Status replay_long(size_t k) {
+    std::string path = part_path(work_, k, ".long");
+    auto sum = checksum_file(path);
+    if (!sum.ok()) return sum.error();
+    if (*sum != infos_[k].long_checksum)
+      return Error(ErrorKind::kData, "the part does not match its record; run its map job again", Location{path, 0, 0, {}});
+    std::ifstream in(path, std::ios::binary);
+    std::string side, bytes;
+    for (;;) {
+      char head[18];
+      if (!in.read(head, sizeof head)) break;
+      uint64_t line;
+      uint32_t corpus, n;
+      std::memcpy(&line, head, 8);
+      std::memcpy(&corpus, head + 8, 4);
+      std::memcpy(&n, head + 14, 4);
+      side.resize(static_cast<unsigned char>(head[13]));
+      bytes.resize(n);
+      if (!in.read(side.data(), static_cast<std::streamsize>(side.size())) ||
+          !in.read(bytes.data(), static_cast<std::streamsize>(n)))
+        return Error(ErrorKind::kData, "the part ends early; run its map job again", Location{path, 0, 0, {}});
+      if (sink_) SHEAF_TRY(sink_(corpus, side, line + offset_[k], bytes, head[12] != 0));
+    }
+    return {};
+  }
+
+  struct XxhFree {
+    void operator()(XXH3_state_t* s) const { XXH3_freeState(s); }
+  };
+  std::string work_;
+  SpreadPlan plan_;
+  std::vector<PartInfo> infos_;
+  std::vector<uint64_t> offset_;
+  PairReader::OversizeSink sink_;
+  size_t next_part_ = 0, current_ = 0;
+  FILE* in_ = nullptr;
+  uint64_t left_ = 0, read_bytes_ = 0, consumed_ = 0;
+  std::unique_ptr<XXH3_state_t, XxhFree> xxh_;
+};
+
+}  // namespace
+
+Result<SpreadStatus> spread_status(const std::string& work) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  SpreadStatus s;
+  s.parts = plan->parts.size();
+  for (size_t k = 0; k < s.parts; ++k)
+    if (!read_part_info(work, k, *plan).ok()) s.missing.push_back(k);
+  return s;
+}
+
+Result<RunRecord> spread_reduce(const std::string& work, RunOptions o) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  auto p = load_planned(*plan);
+  if (!p.ok()) return p.error();
+  std::vector<PartInfo> infos;
+  for (size_t k = 0; k < plan->parts.size(); ++k) {
+    auto info = read_part_info(work, k, *plan);
+    if (!info.ok()) return info.error();
+    if (!infos.empty() && info->first_stage != infos.front().first_stage)
+      return plan_error(part_path(work, k, ".json"), "the parts were mapped by different builds; run them again");
+    infos.push_back(std::move(info.value()));
+  }
+  o.inputs.clear();
+  o.until.clear();
+  o.source = [&work, &plan, &infos](const Pipeline&) -> Result<std::unique_ptr<BatchSource>> {
+    return std::unique_ptr<BatchSource>(std::make_unique<PartsSource>(work, *plan, infos));
+  };
+  return run_pipeline(*p, o);
+}
+
+Status spread_run_maps(const std::string& self, const std::string& work, int jobs, int threads) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  if (jobs < 1) jobs = 1;
+  size_t next = 0, n = plan->parts.size();
+  std::vector<std::pair<pid_t, size_t>> running;
+  std::optional<size_t> failed;
+  std::string t = std::to_string(threads);
+  while ((next < n && !failed) || !running.empty()) {
+    while (next < n && !failed && running.size() < static_cast<size_t>(jobs)) {
+      std::string k = std::to_string(next);
+      std::vector<std::string> args = {self, "spread", "map", work, "--part", k, "--threads", t};
+      std::vector<char*> argv;
+      for (auto& a : args) argv.push_back(a.data());
+      argv.push_back(nullptr);
+      pid_t pid = 0;
+      if (int e = posix_spawn(&pid, self.c_str(), nullptr, nullptr, argv.data(), environ); e != 0)
+        return Error(ErrorKind::kIo, std::string("cannot start a map job: ") + std::strerror(e), Location{self, 0, 0, {}});
+      running.emplace_back(pid, next++);
+    }
+    int status = 0;
+    pid_t done = ::waitpid(-1, &status, 0);
+    if (done < 0 && errno == EINTR) continue;
+    if (done < 0) break;
+    auto it = std::find_if(running.begin(), running.end(), [done](const auto& r) { return r.first == done; });
+    if (it == running.end()) continue;
+    if (!(WIFEXITED(status) && WEXITSTATUS(status) == 0) && (!failed || it->second < *failed)) failed = it->second;
+    running.erase(it);
+  }
+  if (failed)
+    return Error(ErrorKind::kData, "map job " + std::to_string(*failed) + " failed (its message is above); re-run it with `sheaf spread map " +
+                                       work + " --part " + std::to_string(*failed) + "`");
+  return {};
+}
+
+Result<std::string> spread_slurm(const std::string& self, const std::string& work, int threads,
+                                 const std::vector<std::string>& extra, const std::string& out_dir, bool submit) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  std::error_code ec;
+  std::string abs_work = fs::absolute(work, ec).lexically_normal().string();
+  auto quote = [](const std::string& s) {
+    std::string q = "'";
+    for (char c : s) q += c == '\'' ? std::string("'\\''") : std::string(1, c);
+    return q + "'";
+  };
+  std::string header = "#!/bin/sh\n";
+  auto common = [&](const std::string& name) {
+    std::string h = header + "#SBATCH --job-name=" + name + "\n#SBATCH --cpus-per-task=" + std::to_string(threads) +
+                    "\n#SBATCH --output=" + abs_work + "/logs/%x-%A_%a.log\n";
+    for (const auto& e : extra) h += "#SBATCH " + e + "\n";
+    return h;
+  };
+  fs::create_directories(abs_work + "/logs", ec);
+  std::string map = common("sheaf-map") + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
+                    "\nexec " + quote(self) + " spread map " + quote(abs_work) +
+                    " --part \"$SLURM_ARRAY_TASK_ID\" --threads " + std::to_string(threads) + "\n";
+  std::string reduce = common("sheaf-reduce") + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
+                       " --threads " + std::to_string(threads) + (out_dir.empty() ? "" : " --out " + quote(out_dir)) +
+                       " --force\n";
+  SHEAF_TRY(write_small(abs_work + "/map.sbatch", map));
+  SHEAF_TRY(write_small(abs_work + "/reduce.sbatch", reduce));
+  std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n" +
+                     "sbatch --parsable --dependency=afterok:${map%%;*} " + quote(abs_work + "/reduce.sbatch") + "\n";
+  if (!submit) return cmds;
+  std::string script = abs_work + "/submit.sh";
+  SHEAF_TRY(write_small(script, "#!/bin/sh\nset -e\n" + cmds));
+  std::string run = "sh " + quote(script);
+  FILE* pipe = ::popen(run.c_str(), "r");
+  if (!pipe) return Error(ErrorKind::kIo, "cannot run sbatch");
+  std::string out;
+  char buf[256];
+  while (size_t got = std::fread(buf, 1, sizeof buf, pipe)) out.append(buf, got);
+  int rc = ::pclose(pipe);
+  if (rc != 0)
+    return Error(ErrorKind::kIo, "sbatch failed (is Slurm running? `sinfo` says); the scripts are in " + abs_work);
+  return out;
+}
+
+}  // namespace sheaf

@@ -1,0 +1,83 @@
+// Spread: one run cut into jobs that share only a file system (a cluster's
+// nodes, or processes on one machine), with outputs byte-identical to
+// `sheaf run` of the same pipeline file. docs/cluster.md describes the flow
+// and every file between the jobs.
+//
+//   plan     cuts each corpus's input into parts at line ends (an
+//            uncompressed one-file corpus by byte ranges; any other corpus is
+//            one part) and writes WORK/plan.json;
+//   map K    reads part K, runs the streaming stages that need no state
+//            shared across pairs (those before the first stage with a
+//            reduce half), and writes WORK/parts/K.pairs, K.long and, last,
+//            K.json (a part is complete or absent; re-running K replaces it);
+//   reduce   reads the parts in input order, adds the lines of earlier parts
+//            to each part's line numbers, and runs the rest of the pipeline
+//            (the stateful stages, pass 1's writer, the steps, the summary)
+//            exactly as `sheaf run` does, into the run directory.
+// The map jobs do the costly per-pair work (normalization, markup, script
+// and language checks when they come before the first stateful stage); the
+// reduce job's memory is that of a one-machine run's stateful stages.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "core/error.h"
+#include "pipeline/runner.h"
+#include "run/run_record.h"
+
+namespace sheaf {
+
+struct SpreadPart {
+  uint32_t corpus = 0;
+  bool whole = true;       // the corpus's files whole (any layout, compressed)
+  std::string file;        // when cut: the one file, resolved
+  uint64_t begin = 0, end = 0;  // when cut: bytes [begin, end), at line starts
+};
+
+struct SpreadPlan {
+  std::string pipeline;            // the pipeline file, as given
+  std::string cwd;                 // the directory the plan was made in: every job works there
+  std::vector<std::string> sets;   // the --set overrides, as given
+  uint64_t pipeline_hash = 0;      // of the resolved pipeline (render_pipeline)
+  std::vector<SpreadPart> parts;   // in input order
+};
+
+// Paths: a job changes to the plan's directory before it loads the
+// pipeline, so that the run reads and records the same paths as `sheaf run`
+// from there; `work` and output directories are made absolute first.
+//
+// Loads `pipeline` with `sets` and cuts its inputs into about `parts` parts
+// (at least one per corpus); writes WORK/plan.json and makes WORK/parts.
+Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
+                               const std::string& work);
+Result<SpreadPlan> read_spread_plan(const std::string& work);
+
+// Runs map job `part` (from 0) of the plan in `work` on `threads`.
+Status spread_map(const std::string& work, size_t part, int threads);
+
+// Which parts are done (their K.json is there and names this plan).
+struct SpreadStatus {
+  size_t parts = 0;
+  std::vector<size_t> missing;
+};
+Result<SpreadStatus> spread_status(const std::string& work);
+
+// The reduce job: the rest of the run from the parts in `work`. `o` as for
+// run_pipeline (out_dir, threads, force, closing steps); o.source and
+// o.inputs are set here.
+Result<RunRecord> spread_reduce(const std::string& work, RunOptions o);
+
+// The map jobs as processes of `self` (this program) on this machine, `jobs`
+// at a time, each on `threads`; fails naming the first part that failed.
+Status spread_run_maps(const std::string& self, const std::string& work, int jobs, int threads);
+
+// Job scripts for Slurm: WORK/map.sbatch (an array, one task a part) and
+// WORK/reduce.sbatch; `extra` lines go under the #SBATCH header of both
+// (a partition, an account, a time limit). Returns the command lines that
+// submit them chained (afterok); with `submit`, runs them.
+Result<std::string> spread_slurm(const std::string& self, const std::string& work, int threads,
+                                 const std::vector<std::string>& extra, const std::string& out_dir, bool submit);
+
+}  // namespace sheaf
