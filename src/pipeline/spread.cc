@@ -651,7 +651,8 @@ Status spread_run_maps(const std::string& self, const std::string& work, int job
   while ((next < n && !failed) || !running.empty()) {
     while (next < n && !failed && running.size() < static_cast<size_t>(jobs)) {
       std::string k = std::to_string(next);
-      std::vector<std::string> args = {self, "spread", "map", work, "--part", k, "--threads", t};
+      std::vector<std::string> args = {self, "spread", "map", work, "--part", k};
+      if (threads > 0) args.insert(args.end(), {"--threads", t});
       std::vector<char*> argv;
       for (auto& a : args) argv.push_back(a.data());
       argv.push_back(nullptr);

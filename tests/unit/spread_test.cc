@@ -1,0 +1,226 @@
+// The partitioned run (sheaf spread, docs/cluster.md): the same pipeline
+// cut into map jobs and a reduce job writes every file byte for byte as
+// `sheaf run` does; a map job re-run after a failure changes nothing; a
+// damaged or stale part is refused; the Slurm scripts chain the jobs, and,
+// where a cluster answers (scripts/slurm-local start), a submitted run gives
+// the same files.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <chrono>
+#include <regex>
+#include <set>
+#include <thread>
+
+#include "test_util.h"
+
+namespace sheaf::test {
+namespace {
+
+// Every regular file of `a` and `b` (not the lock and housekeeping files,
+// whose names start with '.'), compared byte for byte; the differences, or
+// "" when the two directories hold the same files.
+std::string differences(const std::string& a, const std::string& b) {
+  std::string out;
+  std::set<std::string> names;
+  for (const auto* dir : {&a, &b})
+    for (const auto& e : fs::recursive_directory_iterator(*dir))
+      if (e.is_regular_file() && fs::relative(e.path(), *dir).string()[0] != '.')
+        names.insert(fs::relative(e.path(), *dir).string());
+  for (const auto& n : names) {
+    if (!fs::exists(a + "/" + n) || !fs::exists(b + "/" + n))
+      out += n + ": only in one\n";
+    else if (read_file(a + "/" + n) != read_file(b + "/" + n))
+      out += n + ": differs\n";
+  }
+  return names.empty() ? "no files" : out;
+}
+
+// `sheaf run ARGS` and `sheaf spread local ARGS --parts N`, from `cwd`.
+std::string run_both(const std::string& cwd, const std::string& args, int parts, const TempDir& t,
+                     const std::string& tag, size_t* planned = nullptr) {
+  std::string one = t / (tag + "-one"), spread = t / (tag + "-spread"), work = t / (tag + "-work");
+  Ran r = run_shell("cd " + cwd + " && " + binary() + " run " + args + " --quiet --force --threads 2 --out " + one);
+  if (r.status != 0) return "run failed: " + r.err;
+  Ran s = run_shell("cd " + cwd + " && " + binary() + " spread local " + args + " --parts " + std::to_string(parts) +
+                    " --work " + work + " --jobs 2 --threads 1 --quiet --force --out " + spread);
+  if (s.status != 0) return "spread failed: " + s.err;
+  if (planned) *planned = std::distance(fs::directory_iterator(work + "/parts"), fs::directory_iterator()) / 3;
+  return differences(one, spread);
+}
+
+TEST(Spread, TheDemoIsTheSameAtOneFourAndSixteenParts) {
+  TempDir t;
+  for (int parts : {1, 4, 16}) {
+    size_t made = 0;
+    EXPECT_EQ(run_both(source_dir(), "pipelines/demo.toml", parts, t, std::to_string(parts), &made), "")
+        << parts << " parts";
+    EXPECT_EQ(made, static_cast<size_t>(parts));  // one uncompressed file: cut into as many as asked
+  }
+}
+
+TEST(Spread, EverySamplePipelineIsTheSame) {
+  TempDir t;
+  std::string garden = source_dir() + "/samples/garden-en-es.tsv";
+  std::string in = " --set corpus.files='[\"" + garden + "\"]'";
+  EXPECT_EQ(run_both(source_dir(), "pipelines/multi-corpus.toml", 9, t, "multi"), "");
+  EXPECT_EQ(run_both(source_dir(), "pipelines/clean-only.toml", 5, t, "clean"), "");
+  EXPECT_EQ(run_both(source_dir(), "pipelines/demo.toml --set vocabulary.shared='\"separate\"'", 3, t, "sep"), "");
+  EXPECT_EQ(run_both(source_dir(), "tests/bench/clean-near-dup.toml" + in, 6, t, "near"), "");
+  EXPECT_EQ(run_both(source_dir(), "tests/bench/full.toml" + in + " --set vocabulary.size=2000", 6, t, "full"), "");
+}
+
+// Cuts fall between lines of every kind: a byte-order mark on line 1, CRLF
+// ends, lines over max_line_bytes (streamed to rejected-long.tsv), NUL
+// bytes, a line without a tab, a CR inside a line, no LF at the end.
+TEST(Spread, CutsAtLineEndsLoseNothingOnHostileLines) {
+  TempDir t;
+  std::string text = "\xEF\xBB\xBFthe first line\tla primera l\xC3\xADnea\r\n";
+  for (int i = 0; i < 600; ++i) {
+    std::string n = std::to_string(i);
+    switch (i % 7) {
+      case 0: text += "a line numbered " + n + "\tuna l\xC3\xADnea " + n + "\r\n"; break;
+      case 1: text += std::string(300 + i, 'x') + "\t" + std::string(10, 'y') + "\n"; break;  // over the cap
+      case 2: text += "nul" + std::string(1, '\0') + n + "\tx\n"; break;
+      case 3: text += "no tab here " + n + "\n"; break;
+      case 4: text += "a CR\rinside " + n + "\tdentro " + n + "\n"; break;
+      default: text += "plain pair " + n + " of words\tpar sencillo " + n + " de palabras\n"; break;
+    }
+  }
+  text += "the last line\tla \xC3\xBAltima";  // no LF
+  write_file(t / "corpus.tsv", text);
+  write_file(t / "p.toml", pipeline_text("layout = \"tsv\"\nfiles = [\"corpus.tsv\"]\nmax_line_bytes = 256",
+                                         "[[stage]]\nkind = \"normalize\"\n[[stage]]\nkind = \"dedup\"\n"
+                                         "[[stage]]\nkind = \"split\"\ndev = 0.1\ntest = 0.1\n"));
+  for (int parts : {2, 7, 31}) EXPECT_EQ(run_both(t.path(), "p.toml", parts, t, std::to_string(parts)), "") << parts;
+  // The over-long lines are all there, once each.
+  std::string longs = read_file(t / "31-spread/rejected-long.tsv");
+  EXPECT_EQ(std::count(longs.begin(), longs.end(), '\n'), 86);
+}
+
+// A compressed file, or two aligned files, are one part each; the run is
+// still the same.
+TEST(Spread, CompressedAndAlignedCorporaAreWholeParts) {
+  TempDir t;
+  std::string garden = source_dir() + "/samples/garden-en-es.tsv";
+  ASSERT_EQ(run_shell("(gzip -n -c " + garden + " > " + (t / "g.tsv.gz") + " && cut -f1 " + garden + " > " +
+                      (t / "en.txt") + " && cut -f2 " + garden + " > " + (t / "es.txt") + ")")
+                .status,
+            0);
+  std::string stages = "[[stage]]\nkind = \"normalize\"\n[[stage]]\nkind = \"length\"\n[[stage]]\nkind = \"dedup\"\n"
+                       "[[stage]]\nkind = \"split\"\ndev = 100\ntest = 100\n";
+  write_file(t / "gz.toml", pipeline_text("layout = \"tsv\"\nfiles = [\"g.tsv.gz\"]", stages));
+  write_file(t / "al.toml", pipeline_text("layout = \"aligned\"\nfiles = [\"en.txt\", \"es.txt\"]", stages));
+  size_t made = 0;
+  EXPECT_EQ(run_both(t.path(), "gz.toml", 4, t, "gz", &made), "");
+  EXPECT_EQ(made, 1u);
+  EXPECT_EQ(run_both(t.path(), "al.toml", 4, t, "al", &made), "");
+  EXPECT_EQ(made, 1u);
+}
+
+// A map job that died (its part absent, a .partial left behind) is named
+// by status and by reduce; re-running it writes the same bytes, and the
+// run is then the same as one run: no pair lost or doubled.
+TEST(Spread, ARerunMapJobChangesNothing) {
+  TempDir t;
+  std::string src = source_dir();
+  std::string work = t / "work";
+  auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
+  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 5 --work " + work).status, 0);
+  for (int k = 0; k < 5; ++k) ASSERT_EQ(sheaf("spread map " + work + " --part " + std::to_string(k) + " --threads 2").status, 0);
+  std::string before = read_file(work + "/parts/3.pairs");
+  ASSERT_FALSE(before.empty());
+  // As if part 3's job was killed while writing.
+  fs::remove(work + "/parts/3.json");
+  fs::remove(work + "/parts/3.pairs");
+  write_file(work + "/parts/3.pairs.partial", before.substr(0, before.size() / 2));
+  Ran st = sheaf("spread status " + work);
+  EXPECT_EQ(st.status, 1);
+  EXPECT_EQ(st.out, "4 of 5 parts done; not done: 3\n");
+  Ran red = sheaf("spread reduce " + work + " --quiet --out " + (t / "early"));
+  EXPECT_NE(red.status, 0);
+  EXPECT_NE(red.err.find("part 3 is not done: run `sheaf spread map " + work + " --part 3`"), std::string::npos) << red.err;
+  EXPECT_FALSE(fs::exists(t / "early/manifest.json"));
+  // Re-run (twice: a second run of a finished part replaces it alike).
+  for (int i = 0; i < 2; ++i) ASSERT_EQ(sheaf("spread map " + work + " --part 3 --threads 1").status, 0);
+  EXPECT_EQ(read_file(work + "/parts/3.pairs"), before);
+  EXPECT_FALSE(fs::exists(work + "/parts/3.pairs.partial"));
+  EXPECT_EQ(sheaf("spread status " + work).out, "5 of 5 parts done\n");
+  ASSERT_EQ(sheaf("spread reduce " + work + " --quiet --out " + (t / "spread")).status, 0);
+  ASSERT_EQ(sheaf("run pipelines/demo.toml --quiet --out " + (t / "one")).status, 0);
+  EXPECT_EQ(differences(t / "one", t / "spread"), "");
+}
+
+TEST(Spread, ADamagedOrStalePartIsRefused) {
+  TempDir t;
+  std::string src = source_dir();
+  std::string work = t / "work";
+  auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
+  ASSERT_EQ(sheaf("spread local pipelines/demo.toml --parts 3 --work " + work + " --quiet --out " + (t / "a")).status, 0);
+  // One byte changed in the middle of part 1.
+  std::string bytes = read_file(work + "/parts/1.pairs");
+  bytes[bytes.size() / 2] ^= 0x20;
+  write_file(work + "/parts/1.pairs", bytes);
+  Ran r = sheaf("spread reduce " + work + " --quiet --out " + (t / "b"));
+  EXPECT_NE(r.status, 0);
+  EXPECT_NE(r.err.find("1.pairs"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("run its map job again"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(t / "b/manifest.json"));
+  // A pipeline file changed after planning: every job refuses it.
+  std::string text = read_file(src + "/pipelines/demo.toml");
+  text = std::regex_replace(text, std::regex("\\.\\./samples"), src + "/samples");
+  write_file(t / "demo.toml", text);
+  ASSERT_EQ(sheaf("spread plan " + (t / "demo.toml") + " --parts 2 --work " + (t / "w2")).status, 0);
+  write_file(t / "demo.toml", std::regex_replace(text, std::regex("source_max = 80"), "source_max = 79"));
+  Ran m = sheaf("spread map " + (t / "w2") + " --part 0");
+  EXPECT_NE(m.status, 0);
+  EXPECT_NE(m.err.find("changed since the run was planned"), std::string::npos) << m.err;
+  Ran bad = sheaf("spread map " + (t / "w2") + " --part 2");
+  EXPECT_NE(bad.status, 0);
+  EXPECT_NE(bad.err.find("--part 2 is not one of them"), std::string::npos) << bad.err;
+}
+
+// The job scripts: an array with one task a part, a reduce job, the
+// #SBATCH lines asked for, and the commands that chain them.
+TEST(Spread, SlurmScriptsChainTheJobs) {
+  TempDir t;
+  std::string work = t / "work";
+  Ran r = run_shell("cd " + source_dir() + " && " + binary() + " spread slurm pipelines/demo.toml --parts 6 --work " +
+                    work + " --threads 4 --sbatch --partition=long --sbatch --time=2:00:00 --out " + (t / "out"));
+  ASSERT_EQ(r.status, 0) << r.err;
+  std::string map = read_file(work + "/map.sbatch"), reduce = read_file(work + "/reduce.sbatch");
+  EXPECT_NE(map.find("#SBATCH --array=0-5\n"), std::string::npos) << map;
+  EXPECT_NE(map.find("#SBATCH --cpus-per-task=4\n"), std::string::npos);
+  EXPECT_NE(map.find("#SBATCH --partition=long\n#SBATCH --time=2:00:00\n"), std::string::npos);
+  EXPECT_NE(map.find("spread map '" + work + "' --part \"$SLURM_ARRAY_TASK_ID\" --threads 4"), std::string::npos) << map;
+  EXPECT_NE(reduce.find("spread reduce '" + work + "' --threads 4 --out '" + (t / "out") + "'"), std::string::npos)
+      << reduce;
+  EXPECT_EQ(reduce.find("--array"), std::string::npos);
+  EXPECT_NE(r.out.find("--dependency=afterok:"), std::string::npos) << r.out;
+}
+
+// A real cluster, where one answers (scripts/slurm-local start): the jobs
+// are submitted with sbatch and the outputs are those of one run.
+TEST(Spread, OnARealSlurmClusterTheRunIsTheSame) {
+  Ran info = run_shell("sinfo -h -o %T 2>/dev/null");
+  if (info.status != 0 || (info.out.find("idle") == std::string::npos && info.out.find("mixed") == std::string::npos))
+    GTEST_SKIP() << "no Slurm cluster answers here; start one with scripts/slurm-local start";
+  TempDir t;
+  std::string work = t / "work";
+  fs::permissions(t.path(), fs::perms::all);
+  Ran r = run_shell("cd " + source_dir() + " && " + binary() + " spread slurm pipelines/demo.toml --parts 4 --work " +
+                    work + " --threads 1 --submit --out " + (t / "spread"));
+  ASSERT_EQ(r.status, 0) << r.err;
+  // Wait for both jobs to leave the queue (at most three minutes).
+  for (int i = 0; i < 180 && !fs::exists(t / "spread/manifest.json"); ++i) {
+    Ran q = run_shell("squeue -h -n sheaf-map,sheaf-reduce -o %i");
+    if (q.out.empty() && i > 2) break;
+    std::this_thread::sleep_for(std::chrono::seconds(1));
+  }
+  ASSERT_TRUE(fs::exists(t / "spread/manifest.json")) << run_shell("cat " + work + "/logs/*").out;
+  ASSERT_EQ(run_shell("cd " + source_dir() + " && " + binary() + " run pipelines/demo.toml --quiet --out " + (t / "one")).status, 0);
+  EXPECT_EQ(differences(t / "one", t / "spread"), "");
+}
+
+}  // namespace
+}  // namespace sheaf::test
