@@ -434,7 +434,7 @@ int run_command(int argc, char** argv) {
       auto cmds = spread_slurm(self, sp_work, sp_threads > 0 ? sp_threads : 2, sp_sbatch, sp_out, sp_submit);
       if (!cmds.ok()) return fail(cmds.error());
       if (sp_submit)
-        std::cout << "submitted; job ids:\n" << *cmds;
+        std::cout << "submitted " << sp_work << " to Slurm; " << *cmds;
       else
         std::cout << "job scripts written to " << sp_work << "; submit them with:\n" << *cmds;
       return 0;

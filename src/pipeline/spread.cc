@@ -688,23 +688,24 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
     return q + "'";
   };
   std::string header = "#!/bin/sh\n";
-  auto common = [&](const std::string& name) {
+  auto common = [&](const std::string& name, const char* log) {
     std::string h = header + "#SBATCH --job-name=" + name + "\n#SBATCH --cpus-per-task=" + std::to_string(threads) +
-                    "\n#SBATCH --output=" + abs_work + "/logs/%x-%A_%a.log\n";
+                    "\n#SBATCH --output=" + abs_work + "/logs/" + log + "\n";
     for (const auto& e : extra) h += "#SBATCH " + e + "\n";
     return h;
   };
   fs::create_directories(abs_work + "/logs", ec);
-  std::string map = common("sheaf-map") + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
+  std::string map = common("sheaf-map", "map-%A_%a.log") + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
                     "\nexec " + quote(self) + " spread map " + quote(abs_work) +
                     " --part \"$SLURM_ARRAY_TASK_ID\" --threads " + std::to_string(threads) + "\n";
-  std::string reduce = common("sheaf-reduce") + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
+  std::string reduce = common("sheaf-reduce", "reduce-%j.log") + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
                        " --threads " + std::to_string(threads) + (out_dir.empty() ? "" : " --out " + quote(out_dir)) +
                        " --force\n";
   SHEAF_TRY(write_small(abs_work + "/map.sbatch", map));
   SHEAF_TRY(write_small(abs_work + "/reduce.sbatch", reduce));
   std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n" +
-                     "sbatch --parsable --dependency=afterok:${map%%;*} " + quote(abs_work + "/reduce.sbatch") + "\n";
+                     "reduce=$(sbatch --parsable --dependency=afterok:${map%%;*} " + quote(abs_work + "/reduce.sbatch") +
+                     ")\necho \"map jobs: $map; reduce job: $reduce\"\n";
   if (!submit) return cmds;
   std::string script = abs_work + "/submit.sh";
   SHEAF_TRY(write_small(script, "#!/bin/sh\nset -e\n" + cmds));
