@@ -127,12 +127,26 @@ struct PairHead {
   uint32_t corpus;
   int32_t drop_stage;
   int32_t split;
-  uint32_t pad;
+  uint32_t source_at;  // kStored, or where the source text starts in the raw line
   uint64_t key[2];
   uint32_t words[2], chars[2];
   uint32_t len[5];  // reason, raw, raw_target, source text, target text
-  uint32_t pad2;
+  uint32_t target_at;  // kStored, or where the target text starts in its raw line
 };
+constexpr uint32_t kStored = UINT32_MAX;
+
+// The raw line a side's text is cut from when it was not rewritten: the
+// target line for two aligned files, else the one line.
+std::string_view text_base(std::string_view raw, std::string_view raw_target, int side) {
+  return side == 1 && !raw_target.empty() ? raw_target : raw;
+}
+
+// Where `text` starts inside `base`, or kStored when it is not a piece of it.
+uint32_t offset_in(std::string_view base, std::string_view text) {
+  auto b = reinterpret_cast<uintptr_t>(base.data()), t = reinterpret_cast<uintptr_t>(text.data());
+  if (text.empty() || t < b || t + text.size() > b + base.size()) return kStored;
+  return static_cast<uint32_t>(t - b);
+}
 static_assert(sizeof(PairHead) == 80);
 
 }  // namespace
@@ -313,9 +327,16 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   pass.take = [&pairs, &count](PairBatch& b) -> Status {
     for (const Pair& pr : b.pairs) {
       bool kept = pr.kept();
-      std::string_view fields[5] = {pr.reason, pr.raw, pr.raw_target, kept ? pr.text[0] : std::string_view(),
-                                    kept ? pr.text[1] : std::string_view()};
+      // A side's text that is still a piece of its raw line is written as
+      // its place there, not again.
+      uint32_t at[2] = {kStored, kStored};
+      for (int s = 0; s < 2 && kept; ++s) at[s] = offset_in(text_base(pr.raw, pr.raw_target, s), pr.text[static_cast<size_t>(s)]);
+      std::string_view fields[5] = {pr.reason, pr.raw, pr.raw_target,
+                                    kept && at[0] == kStored ? pr.text[0] : std::string_view(),
+                                    kept && at[1] == kStored ? pr.text[1] : std::string_view()};
       PairHead h{};
+      h.source_at = at[0];
+      h.target_at = at[1];
       h.line = pr.line;
       h.corpus = pr.corpus;
       h.drop_stage = pr.drop_stage;
@@ -327,10 +348,12 @@ Status spread_map(const std::string& work, size_t k, int threads) {
         h.chars[s] = pr.chars[static_cast<size_t>(s)];
       }
       for (int f = 0; f < 5; ++f) {
-        if (fields[f].size() > UINT32_MAX)
+        if (fields[f].size() >= UINT32_MAX)
           return Error(ErrorKind::kInput, "a line of 4 GiB or more cannot go into a part; lower max_line_bytes");
         h.len[f] = static_cast<uint32_t>(fields[f].size());
       }
+      for (int s = 0; s < 2; ++s)
+        if (at[s] != kStored) h.len[3 + s] = static_cast<uint32_t>(pr.text[static_cast<size_t>(s)].size());
       pairs.write(std::string_view(reinterpret_cast<const char*>(&h), sizeof h));
       for (const auto& f : fields) pairs.write(f);
       pairs.add_record();
@@ -448,7 +471,8 @@ class PartsSource : public BatchSource {
         if (next_part_ >= plan_.parts.size()) return false;
         SHEAF_TRY(open_part(next_part_++));
       }
-      std::vector<std::array<size_t, 4>> at;  // raw offset, raw length, target offset, target length
+      std::vector<std::array<size_t, 4>> at;      // raw offset, raw length, target offset, target length
+      std::vector<std::array<uint32_t, 4>> texts;  // source at, length, target at, length
       while (at.size() < max_pairs && b.raw.size() + b.raw_target.size() < max_bytes && left_ > 0) {
         PairHead h;
         SHEAF_TRY(read_exact(&h, sizeof h));
@@ -468,10 +492,19 @@ class PartsSource : public BatchSource {
         b.raw += field;
         SHEAF_TRY(read_field(h.len[2], field));
         b.raw_target += field;
+        uint32_t text_at[2] = {h.source_at, h.target_at};
         for (int s = 0; s < 2; ++s) {
+          if (text_at[s] != kStored) {
+            uint64_t base = s == 1 && h.len[2] > 0 ? h.len[2] : h.len[1];
+            if (uint64_t{text_at[s]} + h.len[3 + s] > base)
+              return Error(ErrorKind::kData, "the part places a text outside its line (damaged); run its map job again",
+                           Location{part_path(work_, current_, ".pairs"), 0, 0, read_bytes_});
+            continue;  // a view of the raw line, set below once the buffer stops moving
+          }
           SHEAF_TRY(read_field(h.len[3 + s], field));
           pr.text[static_cast<size_t>(s)] = b.arena.copy(field);
         }
+        texts.push_back({text_at[0], h.len[3], text_at[1], h.len[4]});
         b.pairs.push_back(std::move(pr));
         --left_;
       }
@@ -479,6 +512,10 @@ class PartsSource : public BatchSource {
         Pair& pr = b.pairs[b.pairs.size() - at.size() + i];
         pr.raw = std::string_view(b.raw).substr(at[i][0], at[i][1]);
         pr.raw_target = std::string_view(b.raw_target).substr(at[i][2], at[i][3]);
+        for (int s = 0; s < 2; ++s)
+          if (texts[i][2 * s] != kStored)
+            pr.text[static_cast<size_t>(s)] =
+                text_base(pr.raw, pr.raw_target, s).substr(texts[i][2 * s], texts[i][2 * s + 1]);
       }
       if (left_ == 0) SHEAF_TRY(close_part());
       if (!b.pairs.empty()) return true;
