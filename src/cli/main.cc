@@ -181,8 +181,8 @@ int run_command(int argc, char** argv) {
   spread->require_subcommand(1);
   std::string sp_file, sp_work, sp_out;
   std::vector<std::string> sp_sets, sp_sbatch;
-  int sp_parts = 0, sp_threads = 0, sp_jobs = 0;
-  size_t sp_part = 0;
+  int sp_parts = 0, sp_threads = 0, sp_jobs = 0, sp_buckets = -1;
+  size_t sp_part = 0, sp_bucket_no = 0;
   bool sp_force = false, sp_quiet = false, sp_submit = false;
   auto planned = [&](CLI::App* c) {
     c->add_option("file", sp_file, "pipeline file")->required();
@@ -190,6 +190,9 @@ int run_command(int argc, char** argv) {
         CLI::Range(1, 100000));
     c->add_option("--work", sp_work, "work directory the jobs share (plan, parts, logs)")->required();
     c->add_option("--set", sp_sets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
+    c->add_option("--buckets", sp_buckets,
+                  "bucket jobs that deduplicate by key (default: as many as parts; 0: the reduce job does it)")
+        ->check(CLI::Range(0, 100000));
   };
   auto* sp_plan = spread->add_subcommand("plan", "cut the input into parts at line ends and write WORK/plan.json");
   planned(sp_plan);
@@ -197,6 +200,9 @@ int run_command(int argc, char** argv) {
   sp_map->add_option("work", sp_work, "work directory")->required();
   sp_map->add_option("--part", sp_part, "the part, from 0")->required();
   sp_map->add_option("--threads", sp_threads, "worker threads (default: all cores)")->check(CLI::Range(1, 1024));
+  auto* sp_bucket = spread->add_subcommand("bucket", "run one bucket job: the first pair of each key in bucket J");
+  sp_bucket->add_option("work", sp_work, "work directory")->required();
+  sp_bucket->add_option("--bucket", sp_bucket_no, "the bucket, from 0")->required();
   auto* sp_reduce = spread->add_subcommand("reduce", "run the reduce job: the rest of the run from the parts");
   sp_reduce->add_option("work", sp_work, "work directory")->required();
   auto reduce_opts = [&](CLI::App* c) {
@@ -408,15 +414,20 @@ int run_command(int argc, char** argv) {
     if (!sp_work.empty()) sp_work = std::filesystem::absolute(sp_work, ec).lexically_normal().string();
     if (!sp_out.empty()) sp_out = std::filesystem::absolute(sp_out, ec).lexically_normal().string();
     if (sp_plan->parsed() || sp_local->parsed() || sp_slurm->parsed()) {
-      auto plan = spread_plan(sp_file, sp_sets, sp_parts, sp_work);
+      auto plan = spread_plan(sp_file, sp_sets, sp_parts, sp_work, sp_buckets);
       if (!plan.ok()) return fail(plan.error());
       if (sp_plan->parsed()) {
-        std::cout << "planned " << plan->parts.size() << " parts in " << sp_work << "/plan.json\n";
+        std::cout << "planned " << plan->parts.size() << " parts and " << plan->buckets << " buckets in " << sp_work
+                  << "/plan.json\n";
         return 0;
       }
     }
     if (sp_map->parsed()) {
       if (auto st = spread_map(sp_work, sp_part, sp_threads); !st.ok()) return fail(st.error());
+      return 0;
+    }
+    if (sp_bucket->parsed()) {
+      if (auto st = spread_bucket(sp_work, sp_bucket_no); !st.ok()) return fail(st.error());
       return 0;
     }
     if (sp_status->parsed()) {
@@ -428,7 +439,15 @@ int run_command(int argc, char** argv) {
         for (size_t k : s->missing) std::cout << ' ' << k;
       }
       std::cout << "\n";
-      return s->missing.empty() ? 0 : 1;
+      if (s->buckets > 0) {
+        std::cout << (s->buckets - s->missing_buckets.size()) << " of " << s->buckets << " buckets done";
+        if (!s->missing_buckets.empty()) {
+          std::cout << "; not done:";
+          for (size_t b : s->missing_buckets) std::cout << ' ' << b;
+        }
+        std::cout << "\n";
+      }
+      return s->missing.empty() && s->missing_buckets.empty() ? 0 : 1;
     }
     if (sp_slurm->parsed()) {
       auto cmds = spread_slurm(self, sp_work, sp_threads > 0 ? sp_threads : 2, sp_sbatch, sp_out, sp_submit);
@@ -442,6 +461,7 @@ int run_command(int argc, char** argv) {
     if (sp_local->parsed()) {
       if (auto st = spread_run_maps(self, sp_work, sp_jobs > 0 ? sp_jobs : 1, sp_threads); !st.ok())
         return fail(st.error());
+      if (auto st = spread_run_buckets(self, sp_work, sp_jobs > 0 ? sp_jobs : 1); !st.ok()) return fail(st.error());
     }
     RunOptions so;
     so.out_dir = sp_out;

@@ -43,23 +43,29 @@ Status OutputFile::open(const std::string& path) {
 
 void OutputFile::flush() {
   if (buf_.empty() || fd_ < 0) return;
-  XXH3_64bits_update(xxh_, buf_.data(), buf_.size());
-  size_ += buf_.size();
-  if (!error_) {
-    const char* p = buf_.data();
-    size_t left = buf_.size();
-    while (left > 0) {
-      ssize_t w = ::write(fd_, p, left);
-      if (w < 0 && errno == EINTR) continue;
-      if (w < 0) {
-        error_ = write_error(path_, errno);
-        break;
-      }
-      p += w;
-      left -= static_cast<size_t>(w);
-    }
-  }
+  put(buf_.data(), buf_.size());
   buf_.clear();
+}
+
+void OutputFile::write_now(std::string_view bytes) {
+  flush();
+  if (fd_ >= 0) put(bytes.data(), bytes.size());
+}
+
+void OutputFile::put(const char* p, size_t left) {
+  XXH3_64bits_update(xxh_, p, left);
+  size_ += left;
+  if (error_) return;
+  while (left > 0) {
+    ssize_t w = ::write(fd_, p, left);
+    if (w < 0 && errno == EINTR) continue;
+    if (w < 0) {
+      error_ = write_error(path_, errno);
+      break;
+    }
+    p += w;
+    left -= static_cast<size_t>(w);
+  }
 }
 
 Status OutputFile::commit() {

@@ -31,6 +31,9 @@ class OutputFile {
     if (buf_.size() + bytes.size() > kBuffer) flush();
     buf_.append(bytes);
   }
+  // Writes `bytes` to the file at once, past the buffer (for a writer that
+  // buffers for itself, with many files open).
+  void write_now(std::string_view bytes);
   void add_record() { ++records_; }
   Status status() const { return error_ ? Status(*error_) : Status(); }
   Status commit();
@@ -57,6 +60,7 @@ class OutputFile {
  private:
   static constexpr size_t kBuffer = 1 << 20;
   void flush();
+  void put(const char* p, size_t n);
   std::string path_;
   int fd_ = -1;
   std::string buf_;

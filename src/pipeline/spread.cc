@@ -17,14 +17,17 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <memory>
 #include <optional>
+#include <queue>
 #include <sstream>
 
 #include "io/byte_source.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
 #include "pipeline/pipeline.h"
+#include "stages/dedup_table.h"
 #include "stages/stage.h"
 
 extern char** environ;
@@ -39,6 +42,7 @@ using json = nlohmann::json;
 namespace fs = std::filesystem;
 
 constexpr int kFormat = 1;
+constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;  // a key row's line; the corpus is in the top 16 bits
 
 std::string part_path(const std::string& work, size_t k, const char* ext) {
   return work + "/parts/" + std::to_string(k) + ext;
@@ -149,6 +153,95 @@ uint32_t offset_in(std::string_view base, std::string_view text) {
 }
 static_assert(sizeof(PairHead) == 80);
 
+
+std::string keys_path(const std::string& work, size_t k, uint32_t bucket) {
+  return work + "/parts/" + std::to_string(k) + ".keys." + std::to_string(bucket);
+}
+std::string bucket_path(const std::string& work, size_t b, const char* ext) {
+  return work + "/buckets/" + std::to_string(b) + ext;
+}
+
+// The bucket of a key: its first word (0 counted as 1, as the dedup table
+// does) scaled to [0, buckets).
+uint32_t bucket_of(uint64_t key0, uint32_t buckets) {
+  if (key0 == 0) key0 = 1;
+  __extension__ using u128 = unsigned __int128;
+  return static_cast<uint32_t>((static_cast<u128>(key0) * buckets) >> 64);
+}
+
+// A stage's map() alone: the map jobs compute the bucketed stage's keys.
+class MapOnly : public Stage {
+ public:
+  explicit MapOnly(Stage* inner) : inner_(inner) {}
+  void map(PairBatch& b) override { inner_->map(b); }
+
+ private:
+  Stage* inner_;
+};
+
+// A map job's key rows, one file per bucket (docs/cluster.md: K.keys.J):
+// the key's words, the pair's index in the part, its corpus and line.
+class BucketWriter {
+ public:
+  BucketWriter(const std::string& work, size_t part, uint32_t buckets, uint32_t words)
+      : words_(words), buf_(buckets), rows_(buckets, 0), bytes_(buckets, 0), sums_(buckets, 0) {
+    for (uint32_t b = 0; b < buckets; ++b) paths_.push_back(keys_path(work, part, b));
+  }
+  ~BucketWriter() { discard(); }
+  Status open() {
+    for (const auto& path : paths_) {
+      files_.emplace_back(std::make_unique<OutputFile>());
+      SHEAF_TRY(files_.back()->open(path));
+    }
+    return {};
+  }
+  void add(const Pair& p, uint64_t index) {
+    uint32_t b = bucket_of(p.key[0], static_cast<uint32_t>(buf_.size()));
+    std::string& out = buf_[b];
+    uint64_t row[4] = {p.key[0], p.key[1], index, (uint64_t{p.corpus} << 48) | (p.line & kLineMask)};
+    if (words_ == 1) {
+      out.append(reinterpret_cast<const char*>(&row[0]), 8);
+      out.append(reinterpret_cast<const char*>(&row[2]), 16);
+    } else {
+      out.append(reinterpret_cast<const char*>(row), 32);
+    }
+    ++rows_[b];
+    held_ += words_ == 1 ? 24 : 32;
+    if (held_ >= kHold) flush();
+  }
+  void flush() {
+    for (size_t b = 0; b < buf_.size(); ++b) {
+      if (buf_[b].empty()) continue;
+      files_[b]->write_now(buf_[b]);
+      buf_[b].clear();
+    }
+    held_ = 0;
+  }
+  Status commit() {
+    flush();
+    for (size_t b = 0; b < files_.size(); ++b) {
+      SHEAF_TRY(files_[b]->commit());
+      bytes_[b] = files_[b]->size();
+      sums_[b] = files_[b]->checksum();
+    }
+    return {};
+  }
+  void discard() {
+    for (auto& f : files_)
+      if (!f->committed()) f->discard();
+  }
+  uint64_t rows(uint32_t b) const { return rows_[b]; }
+  uint64_t bytes(uint32_t b) const { return bytes_[b]; }
+  uint64_t checksum(uint32_t b) const { return sums_[b]; }
+
+ private:
+  static constexpr size_t kHold = 4 << 20;  // bytes held before they go to the files
+  uint32_t words_;
+  std::vector<std::string> paths_, buf_;
+  std::vector<std::unique_ptr<OutputFile>> files_;
+  std::vector<uint64_t> rows_, bytes_, sums_;
+  size_t held_ = 0;
+};
 }  // namespace
 
 Result<SpreadPlan> read_spread_plan(const std::string& work) {
@@ -164,6 +257,10 @@ Result<SpreadPlan> read_spread_plan(const std::string& work) {
     plan.cwd = j.at("cwd").get<std::string>();
     plan.sets = j.at("sets").get<std::vector<std::string>>();
     plan.pipeline_hash = std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16);
+    plan.buckets = j.at("buckets").get<uint32_t>();
+    plan.key_words = j.at("key_words").get<uint32_t>();
+    if (plan.buckets > 0 && (plan.key_words < 1 || plan.key_words > 2))
+      return plan_error(path, "damaged plan (key_words); plan the run again");
     for (const auto& pj : j.at("parts")) {
       SpreadPart part;
       part.corpus = pj.at("corpus").get<uint32_t>();
@@ -183,7 +280,7 @@ Result<SpreadPlan> read_spread_plan(const std::string& work) {
 }
 
 Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
-                               const std::string& work) {
+                               const std::string& work, int buckets) {
   if (parts < 1) return Error(ErrorKind::kUsage, "--parts must be at least 1");
   SpreadPlan plan;
   std::error_code ec;
@@ -252,7 +349,19 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
       plan.parts.push_back({static_cast<uint32_t>(c), true, {}, 0, 0});
   }
 
+  // Bucket jobs, when the first stateful stage keeps the first pair of each key.
+  {
+    auto built = build_streaming_stages(*p);
+    if (!built.ok()) return built.error();
+    size_t prefix = stateless_prefix(built.value());
+    int words = prefix < built->size() ? built.value()[prefix]->first_of_key_words() : 0;
+    if (words > 0 && buckets != 0) {
+      plan.key_words = static_cast<uint32_t>(words);
+      plan.buckets = static_cast<uint32_t>(buckets < 0 ? static_cast<int>(plan.parts.size()) : buckets);
+    }
+  }
   fs::create_directories(work + "/parts", ec);
+  fs::create_directories(work + "/buckets", ec);
   if (ec) return Error(ErrorKind::kIo, "cannot make the work directory: " + ec.message(), Location{work, 0, 0, {}});
   json j;
   j["format"] = "sheaf-spread-plan";
@@ -261,6 +370,8 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
   j["cwd"] = plan.cwd;
   j["sets"] = plan.sets;
   j["pipeline_hash"] = hash_hex(plan.pipeline_hash);
+  j["buckets"] = plan.buckets;
+  j["key_words"] = plan.key_words;
   j["parts"] = json::array();
   for (const auto& part : plan.parts) {
     json pj{{"corpus", part.corpus}, {"whole", part.whole}};
@@ -272,7 +383,8 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
     j["parts"].push_back(pj);
   }
   // A new plan makes the parts of an old one stale: they are removed.
-  for (const auto& e : fs::directory_iterator(work + "/parts", ec)) fs::remove(e.path(), ec);
+  for (const char* sub : {"/parts", "/buckets"})
+    for (const auto& e : fs::directory_iterator(work + sub, ec)) fs::remove(e.path(), ec);
   SHEAF_TRY(write_small(work + "/plan.json", j.dump(1) + "\n"));
   return plan;
 }
@@ -298,6 +410,16 @@ Status spread_map(const std::string& work, size_t k, int threads) {
     fs::remove(part_path(work, k, ext), ec);
     fs::remove(part_path(work, k, ext) + ".partial", ec);
   }
+  for (uint32_t b = 0; b < plan->buckets; ++b) {
+    fs::remove(keys_path(work, k, b), ec);
+    fs::remove(keys_path(work, k, b) + ".partial", ec);
+  }
+  const bool bucketed = plan->buckets > 0;
+  if (bucketed && (prefix >= stages.size() || stages[prefix]->first_of_key_words() != static_cast<int>(plan->key_words)))
+    return Error(ErrorKind::kInternal, "the plan's bucketed stage is not the pipeline's; plan the run again");
+  MapOnly key_maker(bucketed ? stages[prefix].get() : nullptr);
+  BucketWriter keys(work, k, plan->buckets, plan->key_words);
+  if (bucketed) SHEAF_TRY(keys.open());
   auto rd = PairReader::open_part(p->corpora, resolved_paths(*p), part.corpus, part.whole, part.begin, part.end);
   if (!rd.ok()) return rd.error();
   OutputFile pairs, longs;
@@ -321,12 +443,14 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   StreamPass pass;
   pass.source = &source;
   for (size_t i = 0; i < prefix; ++i) pass.stages.push_back(stages[i].get());
+  if (bucketed) pass.stages.push_back(&key_maker);  // the keys, not the table
   pass.output_check = false;
   pass.threads = threads;
   uint64_t count = 0;
-  pass.take = [&pairs, &count](PairBatch& b) -> Status {
+  pass.take = [&pairs, &count, &keys, bucketed](PairBatch& b) -> Status {
     for (const Pair& pr : b.pairs) {
       bool kept = pr.kept();
+      if (kept && bucketed) keys.add(pr, count);
       // A side's text that is still a piece of its raw line is written as
       // its place there, not again.
       uint32_t at[2] = {kStored, kStored};
@@ -365,9 +489,11 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   for (size_t i = 0; i < prefix && st.ok(); ++i) st = stages[i]->finish();
   if (st.ok()) st = pairs.commit();
   if (st.ok()) st = longs.commit();
+  if (st.ok() && bucketed) st = keys.commit();
   if (!st.ok()) {
     pairs.discard();
     longs.discard();
+    keys.discard();
     return st;
   }
   auto inputs = source.inputs(part.corpus);
@@ -383,6 +509,9 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   j["pairs_checksum"] = hash_hex(pairs.checksum());
   j["long_bytes"] = longs.size();
   j["long_checksum"] = hash_hex(longs.checksum());
+  j["keys"] = json::array();
+  for (uint32_t b = 0; b < plan->buckets; ++b)
+    j["keys"].push_back({{"rows", keys.rows(b)}, {"bytes", keys.bytes(b)}, {"checksum", hash_hex(keys.checksum(b))}});
   j["counters"] = json::array();
   for (size_t i = 0; i < prefix; ++i) {
     json cs = json::array();
@@ -404,6 +533,10 @@ namespace {
 
 struct PartInfo {
   uint64_t pairs = 0, lines = 0, pairs_bytes = 0, pairs_checksum = 0, long_bytes = 0, long_checksum = 0;
+  struct Keys {
+    uint64_t rows = 0, bytes = 0, checksum = 0;
+  };
+  std::vector<Keys> keys;  // per bucket
   size_t first_stage = 0;
   std::vector<std::vector<std::pair<std::string, uint64_t>>> counters;
   std::vector<InputInfo> inputs;
@@ -432,6 +565,11 @@ Result<PartInfo> read_part_info(const std::string& work, size_t k, const SpreadP
     info.long_bytes = j.at("long_bytes").get<uint64_t>();
     info.long_checksum = std::stoull(j.at("long_checksum").get<std::string>(), nullptr, 16);
     info.first_stage = j.at("first_stage").get<size_t>();
+    for (const auto& kj : j.at("keys"))
+      info.keys.push_back({kj.at("rows").get<uint64_t>(), kj.at("bytes").get<uint64_t>(),
+                           std::stoull(kj.at("checksum").get<std::string>(), nullptr, 16)});
+    if (info.keys.size() != plan.buckets)
+      return plan_error(path, "the part's key buckets are not the plan's; run its map job again");
     for (const auto& cs : j.at("counters")) {
       info.counters.emplace_back();
       for (const auto& c : cs) info.counters.back().emplace_back(c.at(0).get<std::string>(), c.at(1).get<uint64_t>());
@@ -446,20 +584,129 @@ Result<PartInfo> read_part_info(const std::string& work, size_t k, const SpreadP
   return info;
 }
 
+// Where each part's lines and pairs start in the whole input: its first
+// line follows the lines of the earlier parts of its corpus; its first pair
+// follows every pair of the earlier parts.
+void part_starts(const SpreadPlan& plan, const std::vector<PartInfo>& infos, std::vector<uint64_t>& line0,
+                 std::vector<uint64_t>& pair0) {
+  std::vector<uint64_t> lines_before;
+  uint64_t pairs = 0;
+  for (size_t k = 0; k < plan.parts.size(); ++k) {
+    uint32_t c = plan.parts[k].corpus;
+    if (c >= lines_before.size()) lines_before.resize(c + 1, 0);
+    line0.push_back(lines_before[c]);
+    lines_before[c] += infos[k].lines;
+    pair0.push_back(pairs);
+    pairs += infos[k].pairs;
+  }
+}
+
+Result<std::vector<PartInfo>> read_part_infos(const std::string& work, const SpreadPlan& plan) {
+  std::vector<PartInfo> infos;
+  for (size_t k = 0; k < plan.parts.size(); ++k) {
+    auto info = read_part_info(work, k, plan);
+    if (!info.ok()) return info.error();
+    if (!infos.empty() && info->first_stage != infos.front().first_stage)
+      return plan_error(part_path(work, k, ".json"), "the parts were mapped by different builds; run them again");
+    infos.push_back(std::move(info.value()));
+  }
+  return infos;
+}
+
+// A file read whole in order, checked against its record's size and XXH3-64.
+class CheckedReader {
+ public:
+  ~CheckedReader() {
+    if (f_) std::fclose(f_);
+    if (x_) XXH3_freeState(x_);
+  }
+  Status open(const std::string& path, uint64_t bytes, uint64_t checksum) {
+    path_ = path;
+    bytes_ = bytes;
+    checksum_ = checksum;
+    f_ = std::fopen(path.c_str(), "rb");
+    if (!f_) return Error(ErrorKind::kInput, "cannot read it; run the job that makes it again", Location{path, 0, 0, {}});
+    std::setvbuf(f_, nullptr, _IOFBF, 1 << 16);
+    x_ = XXH3_createState();
+    XXH3_64bits_reset(x_);
+    return {};
+  }
+  Status read(void* to, size_t n) {
+    if (read_ + n > bytes_ || std::fread(to, 1, n, f_) != n)
+      return Error(ErrorKind::kData, "it ends early (damaged); run the job that makes it again",
+                   Location{path_, 0, 0, read_});
+    XXH3_64bits_update(x_, to, n);
+    read_ += n;
+    return {};
+  }
+  Status finish() {
+    if (read_ != bytes_ || XXH3_64bits_digest(x_) != checksum_)
+      return Error(ErrorKind::kData, "it does not match its record (damaged or replaced); run the job that makes it again",
+                   Location{path_, 0, 0, {}});
+    return {};
+  }
+
+ private:
+  std::string path_;
+  FILE* f_ = nullptr;
+  XXH3_state_t* x_ = nullptr;
+  uint64_t bytes_ = 0, checksum_ = 0, read_ = 0;
+};
+
+struct BucketInfo {
+  uint64_t distinct = 0, verdicts = 0, bytes = 0, checksum = 0;
+};
+
+Result<BucketInfo> read_bucket_info(const std::string& work, size_t b, const SpreadPlan& plan) {
+  std::string path = bucket_path(work, b, ".json");
+  auto text = read_small(path);
+  if (!text.ok())
+    return Error(ErrorKind::kInput,
+                 "bucket " + std::to_string(b) + " is not done: run `sheaf spread bucket " + work + " --bucket " +
+                     std::to_string(b) + "`",
+                 Location{path, 0, 0, {}});
+  auto j = json::parse(*text, nullptr, false);
+  BucketInfo info;
+  try {
+    if (j.is_discarded() || j.value("format", "") != "sheaf-spread-bucket" || j.value("version", 0) != kFormat ||
+        j.at("bucket").get<size_t>() != b ||
+        std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16) != plan.pipeline_hash)
+      return plan_error(path, "not this plan's bucket record; run its bucket job again");
+    info.distinct = j.at("distinct").get<uint64_t>();
+    info.verdicts = j.at("verdicts").get<uint64_t>();
+    info.bytes = j.at("bytes").get<uint64_t>();
+    info.checksum = std::stoull(j.at("checksum").get<std::string>(), nullptr, 16);
+  } catch (const std::exception& e) {
+    return plan_error(path, std::string("damaged bucket record (") + e.what() + "); run its bucket job again");
+  }
+  if (info.bytes != info.verdicts * 16) return plan_error(path, "damaged bucket record; run its bucket job again");
+  return info;
+}
+
 // The parts' pairs, in input order, as pass 1's batches.
 class PartsSource : public BatchSource {
  public:
-  PartsSource(std::string work, SpreadPlan plan, std::vector<PartInfo> infos)
+  // `keyed`: the bucketed stage (owned with the other stages in `stages`),
+  // whose drops come from the bucket jobs' verdicts; nullptr: none.
+  PartsSource(std::string work, SpreadPlan plan, std::vector<PartInfo> infos, std::vector<BucketInfo> buckets,
+              std::vector<std::unique_ptr<Stage>> stages, const Stage* keyed)
       : work_(std::move(work)), plan_(std::move(plan)), infos_(std::move(infos)) {
-    // Each part's first line follows the lines of the earlier parts of its
-    // corpus.
-    std::vector<uint64_t> lines_before(64, 0);
-    for (size_t k = 0; k < plan_.parts.size(); ++k) {
-      uint32_t c = plan_.parts[k].corpus;
-      if (c >= lines_before.size()) lines_before.resize(c + 1, 0);
-      offset_.push_back(lines_before[c]);
-      lines_before[c] += infos_[k].lines;
+    buckets_ = std::move(buckets);
+    stages_ = std::move(stages);
+    keyed_ = keyed;
+    std::vector<uint64_t> pair0;
+    part_starts(plan_, infos_, offset_, pair0);
+  }
+
+  // Opens the verdict files and reads each one's first row.
+  Status open_verdicts() {
+    verdicts_.resize(buckets_.size());
+    for (size_t b = 0; b < buckets_.size(); ++b) {
+      SHEAF_TRY(verdicts_[b].in.open(bucket_path(work_, b, ".verdicts"), buckets_[b].bytes, buckets_[b].checksum));
+      verdicts_[b].left = buckets_[b].verdicts;
+      SHEAF_TRY(advance(b));
     }
+    return {};
   }
   ~PartsSource() override {
     if (in_) std::fclose(in_);
@@ -468,7 +715,15 @@ class PartsSource : public BatchSource {
   Result<bool> next(PairBatch& b, size_t max_pairs, size_t max_bytes) override {
     for (;;) {
       if (!in_) {
-        if (next_part_ >= plan_.parts.size()) return false;
+        if (next_part_ >= plan_.parts.size()) {
+          if (!heap_.empty())
+            return Error(ErrorKind::kData, "a bucket's verdict names a pair past the end of the parts (damaged); run "
+                                           "the bucket jobs again",
+                         Location{bucket_path(work_, heap_.top().second, ".verdicts"), 0, 0, {}});
+          for (auto& v : verdicts_) SHEAF_TRY(v.in.finish());
+          verdicts_.clear();
+          return false;
+        }
         SHEAF_TRY(open_part(next_part_++));
       }
       std::vector<std::array<size_t, 4>> at;      // raw offset, raw length, target offset, target length
@@ -505,6 +760,19 @@ class PartsSource : public BatchSource {
           pr.text[static_cast<size_t>(s)] = b.arena.copy(field);
         }
         texts.push_back({text_at[0], h.len[3], text_at[1], h.len[4]});
+        if (!heap_.empty() && heap_.top().first == ordinal_) {
+          size_t from = heap_.top().second;
+          heap_.pop();
+          const uint64_t first = verdicts_[from].row[1];
+          if (!pr.kept())
+            return Error(ErrorKind::kData, "a bucket's verdict names a pair that was dropped before it (damaged); run "
+                                           "the bucket jobs again",
+                         Location{bucket_path(work_, from, ".verdicts"), 0, 0, {}});
+          pr.drop_stage = static_cast<int>(infos_[0].first_stage);
+          pr.reason = keyed_->repeat_reason(static_cast<uint32_t>(first >> 48), first & kLineMask);
+          SHEAF_TRY(advance(from));
+        }
+        ++ordinal_;
         b.pairs.push_back(std::move(pr));
         --left_;
       }
@@ -546,8 +814,13 @@ class PartsSource : public BatchSource {
     return out;
   }
 
-  size_t first_stage() const override { return infos_.empty() ? 0 : infos_[0].first_stage; }
+  size_t first_stage() const override { return (infos_.empty() ? 0 : infos_[0].first_stage) + (keyed_ ? 1 : 0); }
   std::vector<std::pair<std::string, uint64_t>> counters(size_t stage) const override {
+    if (keyed_ && stage == infos_[0].first_stage) {
+      uint64_t distinct = 0;
+      for (const auto& b : buckets_) distinct += b.distinct;
+      return keyed_->counters_after(distinct);
+    }
     std::vector<std::pair<std::string, uint64_t>> sum;
     for (const auto& info : infos_) {
       if (stage >= info.counters.size()) continue;
@@ -630,6 +903,28 @@ class PartsSource : public BatchSource {
     return {};
   }
 
+  // The next verdict of bucket b onto the heap (none when it has no more).
+  Status advance(size_t b) {
+    Verdicts& v = verdicts_[b];
+    if (v.left == 0) return {};
+    SHEAF_TRY(v.in.read(v.row, sizeof v.row));
+    --v.left;
+    heap_.push({v.row[0], b});
+    return {};
+  }
+
+  struct Verdicts {
+    CheckedReader in;
+    uint64_t left = 0;
+    uint64_t row[2] = {0, 0};  // the pair's index in the input, where its key first appeared
+  };
+  std::vector<BucketInfo> buckets_;
+  std::vector<std::unique_ptr<Stage>> stages_;
+  const Stage* keyed_ = nullptr;
+  std::vector<Verdicts> verdicts_;
+  std::priority_queue<std::pair<uint64_t, size_t>, std::vector<std::pair<uint64_t, size_t>>, std::greater<>> heap_;
+  uint64_t ordinal_ = 0;  // pairs handed out so far
+
   struct XxhFree {
     void operator()(XXH3_state_t* s) const { XXH3_freeState(s); }
   };
@@ -651,9 +946,86 @@ Result<SpreadStatus> spread_status(const std::string& work) {
   if (!plan.ok()) return plan.error();
   SpreadStatus s;
   s.parts = plan->parts.size();
+  s.buckets = plan->buckets;
   for (size_t k = 0; k < s.parts; ++k)
     if (!read_part_info(work, k, *plan).ok()) s.missing.push_back(k);
+  for (size_t b = 0; b < s.buckets; ++b)
+    if (!read_bucket_info(work, b, *plan).ok()) s.missing_buckets.push_back(b);
   return s;
+}
+
+Status spread_bucket(const std::string& work, size_t bucket) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  if (bucket >= plan->buckets)
+    return Error(ErrorKind::kUsage, "the plan has " + std::to_string(plan->buckets) + " buckets; --bucket " +
+                                        std::to_string(bucket) + " is not one of them");
+  auto infos = read_part_infos(work, *plan);
+  if (!infos.ok()) return infos.error();
+  std::vector<uint64_t> line0, pair0;
+  part_starts(*plan, *infos, line0, pair0);
+  std::error_code ec;
+  for (const char* ext : {".json", ".verdicts"}) {
+    fs::remove(bucket_path(work, bucket, ext), ec);
+    fs::remove(bucket_path(work, bucket, ext) + ".partial", ec);
+  }
+  // The first pair of each key wins, in input order: parts in order, rows
+  // in each part in order. The table is the dedup stage's own, holding
+  // (corpus, line) of each key's first pair, so a repeat's reason names the
+  // same line as in one run.
+  OutputFile out;
+  SHEAF_TRY(out.open(bucket_path(work, bucket, ".verdicts")));
+  uint64_t distinct = 0, verdicts = 0;
+  auto resolve = [&](auto& table) -> Status {
+    const size_t words = plan->key_words, row_bytes = 8 * words + 16;
+    std::vector<char> row(row_bytes);
+    for (size_t k = 0; k < plan->parts.size(); ++k) {
+      const PartInfo::Keys& keys = (*infos)[k].keys[bucket];
+      if (keys.bytes != keys.rows * row_bytes)
+        return plan_error(part_path(work, k, ".json"), "damaged part record (keys); run its map job again");
+      CheckedReader in;
+      SHEAF_TRY(in.open(keys_path(work, k, static_cast<uint32_t>(bucket)), keys.bytes, keys.checksum));
+      for (uint64_t r = 0; r < keys.rows; ++r) {
+        SHEAF_TRY(in.read(row.data(), row_bytes));
+        uint64_t key[2] = {0, 0}, index = 0, origin = 0;
+        std::memcpy(key, row.data(), 8 * words);
+        std::memcpy(&index, row.data() + 8 * words, 8);
+        std::memcpy(&origin, row.data() + 8 * words + 8, 8);
+        uint64_t line = (origin & kLineMask) + line0[k];
+        uint64_t here = (origin & ~kLineMask) | (line & kLineMask);
+        if (uint64_t first = table.insert(key, here)) {
+          uint64_t v[2] = {pair0[k] + index, first};
+          out.write(std::string_view(reinterpret_cast<const char*>(v), sizeof v));
+          ++verdicts;
+        }
+      }
+      SHEAF_TRY(in.finish());
+    }
+    distinct = table.size();
+    return {};
+  };
+  Status st;
+  if (plan->key_words == 1) {
+    DedupTable<1> table;
+    st = resolve(table);
+  } else {
+    DedupTable<2> table;
+    st = resolve(table);
+  }
+  if (st.ok()) st = out.commit();
+  if (!st.ok()) {
+    out.discard();
+    return st;
+  }
+  json j{{"format", "sheaf-spread-bucket"},
+         {"version", kFormat},
+         {"bucket", bucket},
+         {"pipeline_hash", hash_hex(plan->pipeline_hash)},
+         {"distinct", distinct},
+         {"verdicts", verdicts},
+         {"bytes", out.size()},
+         {"checksum", hash_hex(out.checksum())}};
+  return write_small(bucket_path(work, bucket, ".json"), j.dump(1) + "\n");
 }
 
 Result<RunRecord> spread_reduce(const std::string& work, RunOptions o) {
@@ -661,41 +1033,57 @@ Result<RunRecord> spread_reduce(const std::string& work, RunOptions o) {
   if (!plan.ok()) return plan.error();
   auto p = load_planned(*plan);
   if (!p.ok()) return p.error();
-  std::vector<PartInfo> infos;
-  for (size_t k = 0; k < plan->parts.size(); ++k) {
-    auto info = read_part_info(work, k, *plan);
+  auto infos = read_part_infos(work, *plan);
+  if (!infos.ok()) return infos.error();
+  std::vector<BucketInfo> buckets;
+  for (size_t b = 0; b < plan->buckets; ++b) {
+    auto info = read_bucket_info(work, b, *plan);
     if (!info.ok()) return info.error();
-    if (!infos.empty() && info->first_stage != infos.front().first_stage)
-      return plan_error(part_path(work, k, ".json"), "the parts were mapped by different builds; run them again");
-    infos.push_back(std::move(info.value()));
+    buckets.push_back(*info);
   }
   o.inputs.clear();
   o.until.clear();
-  o.source = [&work, &plan, &infos](const Pipeline&) -> Result<std::unique_ptr<BatchSource>> {
-    return std::unique_ptr<BatchSource>(std::make_unique<PartsSource>(work, *plan, infos));
+  o.source = [&](const Pipeline& run_p) -> Result<std::unique_ptr<BatchSource>> {
+    // The bucketed stage gives the repeats' reasons and its counters; it is
+    // built from the runner's own copy of the pipeline, which outlives pass 1.
+    const Stage* keyed = nullptr;
+    std::vector<std::unique_ptr<Stage>> stages;
+    if (plan->buckets > 0) {
+      auto built = build_streaming_stages(run_p);
+      if (!built.ok()) return built.error();
+      stages = std::move(built.value());
+      size_t at = (*infos)[0].first_stage;
+      if (at >= stages.size() || stages[at]->first_of_key_words() != static_cast<int>(plan->key_words))
+        return Error(ErrorKind::kInternal, "the plan's bucketed stage is not the pipeline's; plan the run again");
+      keyed = stages[at].get();
+    }
+    auto src = std::make_unique<PartsSource>(work, *plan, *infos, buckets, std::move(stages), keyed);
+    SHEAF_TRY(src->open_verdicts());
+    return std::unique_ptr<BatchSource>(std::move(src));
   };
   return run_pipeline(*p, o);
 }
 
-Status spread_run_maps(const std::string& self, const std::string& work, int jobs, int threads) {
-  auto plan = read_spread_plan(work);
-  if (!plan.ok()) return plan.error();
+namespace {
+
+// Runs `n` jobs of this program (`args(i)` after its path), `jobs` at a
+// time; fails naming the first that failed and the command that re-runs it.
+Status run_jobs(const std::string& self, size_t n, int jobs,
+                const std::function<std::vector<std::string>(size_t)>& args, const std::string& what) {
   if (jobs < 1) jobs = 1;
-  size_t next = 0, n = plan->parts.size();
+  size_t next = 0;
   std::vector<std::pair<pid_t, size_t>> running;
   std::optional<size_t> failed;
-  std::string t = std::to_string(threads);
   while ((next < n && !failed) || !running.empty()) {
     while (next < n && !failed && running.size() < static_cast<size_t>(jobs)) {
-      std::string k = std::to_string(next);
-      std::vector<std::string> args = {self, "spread", "map", work, "--part", k};
-      if (threads > 0) args.insert(args.end(), {"--threads", t});
+      std::vector<std::string> a = args(next);
+      a.insert(a.begin(), self);
       std::vector<char*> argv;
-      for (auto& a : args) argv.push_back(a.data());
+      for (auto& x : a) argv.push_back(x.data());
       argv.push_back(nullptr);
       pid_t pid = 0;
       if (int e = posix_spawn(&pid, self.c_str(), nullptr, nullptr, argv.data(), environ); e != 0)
-        return Error(ErrorKind::kIo, std::string("cannot start a map job: ") + std::strerror(e), Location{self, 0, 0, {}});
+        return Error(ErrorKind::kIo, std::string("cannot start a job: ") + std::strerror(e), Location{self, 0, 0, {}});
       running.emplace_back(pid, next++);
     }
     int status = 0;
@@ -707,10 +1095,38 @@ Status spread_run_maps(const std::string& self, const std::string& work, int job
     if (!(WIFEXITED(status) && WEXITSTATUS(status) == 0) && (!failed || it->second < *failed)) failed = it->second;
     running.erase(it);
   }
-  if (failed)
-    return Error(ErrorKind::kData, "map job " + std::to_string(*failed) + " failed (its message is above); re-run it with `sheaf spread map " +
-                                       work + " --part " + std::to_string(*failed) + "`");
+  if (failed) {
+    std::vector<std::string> a = args(*failed);
+    std::string cmd = "sheaf";
+    for (const auto& x : a) cmd += " " + x;
+    return Error(ErrorKind::kData, what + " " + std::to_string(*failed) + " failed (its message is above); re-run it with `" +
+                                       cmd + "`");
+  }
   return {};
+}
+
+}  // namespace
+
+Status spread_run_maps(const std::string& self, const std::string& work, int jobs, int threads) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  return run_jobs(
+      self, plan->parts.size(), jobs,
+      [&](size_t k) {
+        std::vector<std::string> a = {"spread", "map", work, "--part", std::to_string(k)};
+        if (threads > 0) a.insert(a.end(), {"--threads", std::to_string(threads)});
+        return a;
+      },
+      "map job");
+}
+
+Status spread_run_buckets(const std::string& self, const std::string& work, int jobs) {
+  auto plan = read_spread_plan(work);
+  if (!plan.ok()) return plan.error();
+  return run_jobs(
+      self, plan->buckets, jobs,
+      [&](size_t b) { return std::vector<std::string>{"spread", "bucket", work, "--bucket", std::to_string(b)}; },
+      "bucket job");
 }
 
 Result<std::string> spread_slurm(const std::string& self, const std::string& work, int threads,
@@ -740,9 +1156,18 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
                        " --force\n";
   SHEAF_TRY(write_small(abs_work + "/map.sbatch", map));
   SHEAF_TRY(write_small(abs_work + "/reduce.sbatch", reduce));
-  std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n" +
-                     "reduce=$(sbatch --parsable --dependency=afterok:${map%%;*} " + quote(abs_work + "/reduce.sbatch") +
-                     ")\necho \"map jobs: $map; reduce job: $reduce\"\n";
+  std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n";
+  std::string before = "${map%%;*}";
+  if (plan->buckets > 0) {
+    std::string bucket = common("sheaf-bucket", "bucket-%A_%a.log") + "#SBATCH --array=0-" +
+                         std::to_string(plan->buckets - 1) + "\nexec " + quote(self) + " spread bucket " +
+                         quote(abs_work) + " --bucket \"$SLURM_ARRAY_TASK_ID\"\n";
+    SHEAF_TRY(write_small(abs_work + "/bucket.sbatch", bucket));
+    cmds += "bucket=$(sbatch --parsable --dependency=afterok:${map%%;*} " + quote(abs_work + "/bucket.sbatch") + ")\n";
+    before = "${bucket%%;*}";
+  }
+  cmds += "reduce=$(sbatch --parsable --dependency=afterok:" + before + " " + quote(abs_work + "/reduce.sbatch") +
+          ")\necho \"map jobs: $map" + (plan->buckets > 0 ? "; bucket jobs: $bucket" : "") + "; reduce job: $reduce\"\n";
   if (!submit) return cmds;
   std::string script = abs_work + "/submit.sh";
   SHEAF_TRY(write_small(script, "#!/bin/sh\nset -e\n" + cmds));

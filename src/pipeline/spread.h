@@ -10,10 +10,17 @@
 //            shared across pairs (those before the first stage with a
 //            reduce half), and writes WORK/parts/K.pairs, K.long and, last,
 //            K.json (a part is complete or absent; re-running K replaces it);
+//   bucket J when the first stateful stage keeps the first pair of each key
+//            (dedup), the map jobs also write each kept pair's key into one
+//            of B buckets by the key's hash; bucket job J finds, over every
+//            part in input order, the first pair of each key in bucket J and
+//            writes which pairs repeat one (WORK/buckets/J.verdicts, J.json);
+//            its memory is its bucket's keys, not the corpus's;
 //   reduce   reads the parts in input order, adds the lines of earlier parts
-//            to each part's line numbers, and runs the rest of the pipeline
-//            (the stateful stages, pass 1's writer, the steps, the summary)
-//            exactly as `sheaf run` does, into the run directory.
+//            to each part's line numbers, applies the buckets' verdicts, and
+//            runs the rest of the pipeline (the other stateful stages, pass
+//            1's writer, the steps, the summary) exactly as `sheaf run` does,
+//            into the run directory.
 // The map jobs do the costly per-pair work (normalization, markup, script
 // and language checks when they come before the first stateful stage); the
 // reduce job's memory is that of a one-machine run's stateful stages.
@@ -42,6 +49,8 @@ struct SpreadPlan {
   std::vector<std::string> sets;   // the --set overrides, as given
   uint64_t pipeline_hash = 0;      // of the resolved pipeline (render_pipeline)
   std::vector<SpreadPart> parts;   // in input order
+  uint32_t buckets = 0;            // bucket jobs (0: the reduce job deduplicates)
+  uint32_t key_words = 0;          // 64-bit words of the bucketed stage's key
 };
 
 // Paths: a job changes to the plan's directory before it loads the
@@ -50,17 +59,24 @@ struct SpreadPlan {
 //
 // Loads `pipeline` with `sets` and cuts its inputs into about `parts` parts
 // (at least one per corpus); writes WORK/plan.json and makes WORK/parts.
+// `buckets`: how many bucket jobs decide the first stateful stage when it
+// keeps the first pair of each key; -1 as many as parts; 0 none (the
+// reduce job does it, holding every key).
 Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
-                               const std::string& work);
+                               const std::string& work, int buckets = -1);
 Result<SpreadPlan> read_spread_plan(const std::string& work);
 
 // Runs map job `part` (from 0) of the plan in `work` on `threads`.
 Status spread_map(const std::string& work, size_t part, int threads);
 
-// Which parts are done (their K.json is there and names this plan).
+// Runs bucket job `bucket` (from 0), after every map job.
+Status spread_bucket(const std::string& work, size_t bucket);
+
+// Which parts and buckets are done (their record is there and names this
+// plan).
 struct SpreadStatus {
-  size_t parts = 0;
-  std::vector<size_t> missing;
+  size_t parts = 0, buckets = 0;
+  std::vector<size_t> missing, missing_buckets;
 };
 Result<SpreadStatus> spread_status(const std::string& work);
 
@@ -72,9 +88,12 @@ Result<RunRecord> spread_reduce(const std::string& work, RunOptions o);
 // The map jobs as processes of `self` (this program) on this machine, `jobs`
 // at a time, each on `threads`; fails naming the first part that failed.
 Status spread_run_maps(const std::string& self, const std::string& work, int jobs, int threads);
+// The bucket jobs likewise (nothing when the plan has none).
+Status spread_run_buckets(const std::string& self, const std::string& work, int jobs);
 
-// Job scripts for Slurm: WORK/map.sbatch (an array, one task a part) and
-// WORK/reduce.sbatch; `extra` lines go under the #SBATCH header of both
+// Job scripts for Slurm: WORK/map.sbatch (an array, one task a part),
+// WORK/bucket.sbatch (an array, one task a bucket, when the plan has
+// buckets) and WORK/reduce.sbatch, chained by afterok; `extra` lines go under the #SBATCH header of both
 // (a partition, an account, a time limit). Returns the command lines that
 // submit them chained (afterok); with `submit`, runs them.
 Result<std::string> spread_slurm(const std::string& self, const std::string& work, int threads,

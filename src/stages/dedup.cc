@@ -75,12 +75,20 @@ class DedupStage : public Stage {
       if (!p.kept()) continue;
       // The table keeps the corpus in the line's top 16 bits.
       if (uint64_t first = table_.insert(p.key.data(), (uint64_t{p.corpus} << 48) | (p.line & kLineMask)))
-        batch.drop(p, index_, "duplicate:" + pipeline_->origin(static_cast<uint32_t>(first >> 48), first & kLineMask));
+        batch.drop(p, index_, repeat_reason(static_cast<uint32_t>(first >> 48), first & kLineMask));
     }
   }
 
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
     return {{"distinct_keys", table_.size()}, {"table_bytes", table_.memory_bytes()}};
+  }
+
+  int first_of_key_words() const override { return kWords; }
+  std::string repeat_reason(uint32_t corpus, uint64_t line) const override {
+    return "duplicate:" + pipeline_->origin(corpus, line);
+  }
+  std::vector<std::pair<std::string, uint64_t>> counters_after(uint64_t distinct) const override {
+    return {{"distinct_keys", distinct}, {"table_bytes", DedupTable<kWords>::memory_bytes_after(distinct)}};
   }
 
  private:

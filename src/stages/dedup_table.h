@@ -1,7 +1,7 @@
 // DedupTable: a compact open-addressing set of 64- or 128-bit hashes, each
 // with the input line of its first occurrence. No strings are stored.
 // Slots hold the hash words and a line number (16 bytes for 64-bit hashes,
-// 24 for 128-bit); the table doubles at 3/4 load. Not thread-safe: the dedup
+// 24 for 128-bit); the table doubles when a new key would pass 3/4 load. Not thread-safe: the dedup
 // stage calls it from its serial half only.
 #pragma once
 
@@ -22,22 +22,35 @@ class DedupTable {
   }
 
   // Inserts the key; returns 0 if it is new, else the line it was first seen on.
+  // The table doubles when a new key would take it past 3/4 load, so its
+  // size is a function of the number of keys alone (memory_bytes_after).
   uint64_t insert(const uint64_t* key, uint64_t line) {
-    if ((size_ + 1) * 4 > slots_.size() * 3) grow();
     Slot s;
     for (int i = 0; i < kWords; ++i) s.h[i] = key[i];
     if (s.h[0] == 0) s.h[0] = 1;  // 0 marks an empty slot
     s.line = line;
-    size_t mask = slots_.size() - 1;
-    for (size_t i = s.h[0] & mask;; i = (i + 1) & mask) {
-      Slot& t = slots_[i];
-      if (t.h[0] == 0) {
+    for (;;) {
+      size_t mask = slots_.size() - 1;
+      for (size_t i = s.h[0] & mask;; i = (i + 1) & mask) {
+        Slot& t = slots_[i];
+        if (same(t, s)) return t.line;
+        if (t.h[0] != 0) continue;
+        if ((size_ + 1) * 4 > slots_.size() * 3) break;  // full enough: grow, then look again
         t = s;
         ++size_;
         return 0;
       }
-      if (same(t, s)) return t.line;
+      grow();
     }
+  }
+
+  // memory_bytes() of a table built with `expected` after `distinct` keys
+  // (a function of the count alone: the table doubles at 3/4 load).
+  static size_t memory_bytes_after(uint64_t distinct, size_t expected = 1 << 16) {
+    size_t cap = 16;
+    while (cap < expected * 4 / 3 + 1) cap <<= 1;
+    while (distinct * 4 > cap * 3) cap <<= 1;
+    return cap * sizeof(Slot);
   }
 
   size_t size() const { return size_; }

@@ -77,6 +77,17 @@ class Stage {
 
   // Called once after the last batch has passed reduce().
   virtual Status finish() { return {}; }
+
+  // A stage whose reduce() does nothing but keep the first kept pair of each
+  // key in input order and drop the others (exact dedup) says so here, so a
+  // spread run can decide it by key bucket in separate jobs
+  // (pipeline/spread.h): map() leaves the key in Pair::key. 0: not such a
+  // stage; else the key's 64-bit words (1 or 2).
+  virtual int first_of_key_words() const { return 0; }
+  // The drop reason of a pair whose key first appeared on (corpus, line).
+  virtual std::string repeat_reason(uint32_t /*corpus*/, uint64_t /*line*/) const { return {}; }
+  // The counters reduce() would leave after seeing `distinct` keys.
+  virtual std::vector<std::pair<std::string, uint64_t>> counters_after(uint64_t /*distinct*/) const { return {}; }
 };
 
 // Builds the stage a spec describes; errors (an invalid pattern, an unknown

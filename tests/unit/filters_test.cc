@@ -171,6 +171,28 @@ TEST(DedupTable, AgreesWithUnorderedMap) {
   EXPECT_LE(t.size() * 4, t.capacity() * 3);
 }
 
+// The table's size is a function of its key count alone (a spread run's
+// bucket jobs report the one table's size from the count): repeats, also
+// at exactly 3/4 load, never make it grow.
+TEST(DedupTable, SizeFollowsTheKeyCountAlone) {
+  for (uint64_t n : {0, 1, 12, 13, 98303, 98304, 98305, 200000}) {
+    DedupTable<1> t;
+    DedupTable<2> t2;
+    for (uint64_t k = 1; k <= n; ++k) {
+      uint64_t key[2] = {k * 0x9E3779B97F4A7C15ULL, k};
+      t.insert(key, k);
+      t2.insert(key, k);
+    }
+    for (uint64_t k = 1; k <= std::min<uint64_t>(n, 1000); ++k) {  // repeats after the last new key
+      uint64_t key[2] = {k * 0x9E3779B97F4A7C15ULL, k};
+      ASSERT_EQ(t.insert(key, n + k), k);
+      ASSERT_EQ(t2.insert(key, n + k), k);
+    }
+    EXPECT_EQ(t.memory_bytes(), DedupTable<1>::memory_bytes_after(n)) << n;
+    EXPECT_EQ(t2.memory_bytes(), DedupTable<2>::memory_bytes_after(n)) << n;
+  }
+}
+
 TEST(Script, DropsWrongScriptSides) {
   test::StageHarness h("kind = \"script\"");
   EXPECT_EQ(h.run({{"Open daily.", "Abierto a diario."},

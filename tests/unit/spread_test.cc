@@ -38,14 +38,17 @@ std::string differences(const std::string& a, const std::string& b) {
 
 // `sheaf run ARGS` and `sheaf spread local ARGS --parts N`, from `cwd`.
 std::string run_both(const std::string& cwd, const std::string& args, int parts, const TempDir& t,
-                     const std::string& tag, size_t* planned = nullptr) {
+                     const std::string& tag, size_t* planned = nullptr, const std::string& spread_only = "") {
   std::string one = t / (tag + "-one"), spread = t / (tag + "-spread"), work = t / (tag + "-work");
   Ran r = run_shell("cd " + cwd + " && " + binary() + " run " + args + " --quiet --force --threads 2 --out " + one);
   if (r.status != 0) return "run failed: " + r.err;
-  Ran s = run_shell("cd " + cwd + " && " + binary() + " spread local " + args + " --parts " + std::to_string(parts) +
+  Ran s = run_shell("cd " + cwd + " && " + binary() + " spread local " + args + spread_only + " --parts " + std::to_string(parts) +
                     " --work " + work + " --jobs 2 --threads 1 --quiet --force --out " + spread);
   if (s.status != 0) return "spread failed: " + s.err;
-  if (planned) *planned = std::distance(fs::directory_iterator(work + "/parts"), fs::directory_iterator()) / 3;
+  if (planned) {
+    *planned = 0;
+    for (const auto& e : fs::directory_iterator(work + "/parts")) *planned += e.path().extension() == ".json";
+  }
   return differences(one, spread);
 }
 
@@ -61,6 +64,10 @@ TEST(Spread, TheDemoIsTheSameAtOneFourAndSixteenParts) {
 
 TEST(Spread, EverySamplePipelineIsTheSame) {
   TempDir t;
+  // Deduplication by 3 bucket jobs, by as many as parts (the default), and
+  // in the reduce job.
+  EXPECT_EQ(run_both(source_dir(), "pipelines/demo.toml", 5, t, "b3", nullptr, " --buckets 3"), "");
+  EXPECT_EQ(run_both(source_dir(), "pipelines/demo.toml", 5, t, "b0", nullptr, " --buckets 0"), "");
   std::string garden = source_dir() + "/samples/garden-en-es.tsv";
   std::string in = " --set corpus.files='[\"" + garden + "\"]'";
   EXPECT_EQ(run_both(source_dir(), "pipelines/multi-corpus.toml", 9, t, "multi"), "");
@@ -128,6 +135,7 @@ TEST(Spread, ARerunMapJobChangesNothing) {
   auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
   ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 5 --work " + work).status, 0);
   for (int k = 0; k < 5; ++k) ASSERT_EQ(sheaf("spread map " + work + " --part " + std::to_string(k) + " --threads 2").status, 0);
+  for (int b = 0; b < 5; ++b) ASSERT_EQ(sheaf("spread bucket " + work + " --bucket " + std::to_string(b)).status, 0);
   std::string before = read_file(work + "/parts/3.pairs");
   ASSERT_FALSE(before.empty());
   // As if part 3's job was killed while writing.
@@ -136,7 +144,7 @@ TEST(Spread, ARerunMapJobChangesNothing) {
   write_file(work + "/parts/3.pairs.partial", before.substr(0, before.size() / 2));
   Ran st = sheaf("spread status " + work);
   EXPECT_EQ(st.status, 1);
-  EXPECT_EQ(st.out, "4 of 5 parts done; not done: 3\n");
+  EXPECT_EQ(st.out, "4 of 5 parts done; not done: 3\n5 of 5 buckets done\n");
   Ran red = sheaf("spread reduce " + work + " --quiet --out " + (t / "early"));
   EXPECT_NE(red.status, 0);
   EXPECT_NE(red.err.find("part 3 is not done: run `sheaf spread map " + work + " --part 3`"), std::string::npos) << red.err;
@@ -145,7 +153,17 @@ TEST(Spread, ARerunMapJobChangesNothing) {
   for (int i = 0; i < 2; ++i) ASSERT_EQ(sheaf("spread map " + work + " --part 3 --threads 1").status, 0);
   EXPECT_EQ(read_file(work + "/parts/3.pairs"), before);
   EXPECT_FALSE(fs::exists(work + "/parts/3.pairs.partial"));
-  EXPECT_EQ(sheaf("spread status " + work).out, "5 of 5 parts done\n");
+  // Bucket 2's job died too: named likewise; its re-run writes the same
+  // verdicts.
+  std::string verdicts = read_file(work + "/buckets/2.verdicts");
+  fs::remove(work + "/buckets/2.json");
+  EXPECT_EQ(sheaf("spread status " + work).out, "5 of 5 parts done\n4 of 5 buckets done; not done: 2\n");
+  red = sheaf("spread reduce " + work + " --quiet --out " + (t / "early"));
+  EXPECT_NE(red.err.find("bucket 2 is not done: run `sheaf spread bucket " + work + " --bucket 2`"), std::string::npos)
+      << red.err;
+  ASSERT_EQ(sheaf("spread bucket " + work + " --bucket 2").status, 0);
+  EXPECT_EQ(read_file(work + "/buckets/2.verdicts"), verdicts);
+  EXPECT_EQ(sheaf("spread status " + work).out, "5 of 5 parts done\n5 of 5 buckets done\n");
   ASSERT_EQ(sheaf("spread reduce " + work + " --quiet --out " + (t / "spread")).status, 0);
   ASSERT_EQ(sheaf("run pipelines/demo.toml --quiet --out " + (t / "one")).status, 0);
   EXPECT_EQ(differences(t / "one", t / "spread"), "");
@@ -166,6 +184,15 @@ TEST(Spread, ADamagedOrStalePartIsRefused) {
   EXPECT_NE(r.err.find("1.pairs"), std::string::npos) << r.err;
   EXPECT_NE(r.err.find("run its map job again"), std::string::npos) << r.err;
   EXPECT_FALSE(fs::exists(t / "b/manifest.json"));
+  // One byte changed in a map job's keys: the bucket job refuses them.
+  std::string keys = read_file(work + "/parts/2.keys.1");
+  ASSERT_GE(keys.size(), 24u);
+  keys[8] ^= 0x01;
+  write_file(work + "/parts/2.keys.1", keys);
+  Ran bk = sheaf("spread bucket " + work + " --bucket 1");
+  EXPECT_NE(bk.status, 0);
+  EXPECT_NE(bk.err.find("2.keys.1"), std::string::npos) << bk.err;
+  EXPECT_NE(bk.err.find("does not match its record"), std::string::npos) << bk.err;
   // A pipeline file changed after planning: every job refuses it.
   std::string text = read_file(src + "/pipelines/demo.toml");
   text = std::regex_replace(text, std::regex("\\.\\./samples"), src + "/samples");
@@ -196,6 +223,13 @@ TEST(Spread, SlurmScriptsChainTheJobs) {
   EXPECT_NE(reduce.find("spread reduce '" + work + "' --threads 4 --out '" + (t / "out") + "'"), std::string::npos)
       << reduce;
   EXPECT_EQ(reduce.find("--array"), std::string::npos);
+  // Deduplication by key bucket: one bucket job a bucket, after the maps,
+  // before the reduce job.
+  std::string bucket = read_file(work + "/bucket.sbatch");
+  EXPECT_NE(bucket.find("#SBATCH --array=0-5\n"), std::string::npos) << bucket;
+  EXPECT_NE(bucket.find("spread bucket '" + work + "' --bucket \"$SLURM_ARRAY_TASK_ID\""), std::string::npos) << bucket;
+  EXPECT_NE(r.out.find("--dependency=afterok:${map%%;*} '" + work + "/bucket.sbatch'"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("--dependency=afterok:${bucket%%;*} '" + work + "/reduce.sbatch'"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("--dependency=afterok:"), std::string::npos) << r.out;
 }
 
