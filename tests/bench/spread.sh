@@ -7,17 +7,19 @@
 # `sort -u` measured in the same minutes.
 #
 #   tests/bench/spread.sh [--mb 200] [--pipeline tests/bench/full.toml] [--parts "1 4 16"] [--threads 2]
+#                         [--buckets N]   (default: as many as parts)
 #
 # Nothing here asserts a time.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
-MB=200 PIPELINE=tests/bench/full.toml PARTS="1 4 16" THREADS=2
+MB=200 PIPELINE=tests/bench/full.toml PARTS="1 4 16" THREADS=2 BUCKETS=()
 while [ $# -gt 0 ]; do
   case "$1" in
     --mb) MB=$2; shift 2 ;;
     --pipeline) PIPELINE=$2; shift 2 ;;
     --parts) PARTS=$2; shift 2 ;;
     --threads) THREADS=$2; shift 2 ;;
+    --buckets) BUCKETS=(--buckets "$2"); shift 2 ;;
     *) echo "usage: tests/bench/spread.sh [--mb N] [--pipeline FILE] [--parts \"1 4 16\"] [--threads N]" >&2; exit 2 ;;
   esac
 done
@@ -49,21 +51,25 @@ echo "corpus: $(stat -c %s "$CORPUS") bytes; pipeline: $PIPELINE; $THREADS threa
 echo
 echo "wc -w: $(sum "$OUT/wc") s; sort -u: $(sum "$OUT/sort") s, $(max_mib "$OUT/sort") MiB; sheaf run: $(sum "$OUT/one") s, $(max_mib "$OUT/one") MiB"
 echo
-echo "| parts | plan s | map s: sum / largest | map MiB: largest | reduce s | reduce MiB | sum of jobs s | outputs same as sheaf run |"
-echo "|---|---|---|---|---|---|---|---|"
+echo "| parts | buckets | plan s | map s: sum / largest | map MiB: largest | bucket s: sum / largest | bucket MiB: largest | reduce s | reduce MiB | sum of jobs s | outputs same as sheaf run |"
+echo "|---|---|---|---|---|---|---|---|---|---|---|"
 for n in $PARTS; do
   w=$OUT/work-$n
-  rm -f "$OUT/plan" "$OUT/map" "$OUT/reduce"
-  timed "$OUT/plan" $B/sheaf spread plan "$PIPELINE" "${SET[@]}" --parts "$n" --work "$w"
+  rm -f "$OUT/plan" "$OUT/map" "$OUT/bucket" "$OUT/reduce"
+  echo "0 0" > "$OUT/bucket.none"
+  timed "$OUT/plan" $B/sheaf spread plan "$PIPELINE" "${SET[@]}" "${BUCKETS[@]}" --parts "$n" --work "$w"
   k=0
   while [ -f "$w/plan.json" ] && [ "$k" -lt "$(grep -c '"corpus"' "$w/plan.json")" ]; do
     timed "$OUT/map" $B/sheaf spread map "$w" --part "$k" --threads "$THREADS"
     k=$((k + 1))
   done
+  nb=$(grep '"buckets"' "$w/plan.json" | tr -dc 0-9)
+  for j in $(seq 0 $((nb - 1))); do timed "$OUT/bucket" $B/sheaf spread bucket "$w" --bucket "$j"; done
+  [ -s "$OUT/bucket" ] || cp "$OUT/bucket.none" "$OUT/bucket"
   timed "$OUT/reduce" $B/sheaf spread reduce "$w" --quiet --force --threads "$THREADS" --out "$OUT/run-$n"
   same=yes
   diff -r -q -x '.sheaf-*' "$OUT/run-one" "$OUT/run-$n" > "$OUT/diff" || same="no: $(tr '\n' ' ' < "$OUT/diff")"
-  total=$(cat "$OUT/plan" "$OUT/map" "$OUT/reduce" | awk '{s += $1} END {printf "%.1f", s}')
-  echo "| $k | $(sum "$OUT/plan") | $(sum "$OUT/map") / $(max_s "$OUT/map") | $(max_mib "$OUT/map") | $(sum "$OUT/reduce") | $(max_mib "$OUT/reduce") | $total | $same |"
+  total=$(cat "$OUT/plan" "$OUT/map" "$OUT/bucket" "$OUT/reduce" | awk '{s += $1} END {printf "%.1f", s}')
+  echo "| $k | $nb | $(sum "$OUT/plan") | $(sum "$OUT/map") / $(max_s "$OUT/map") | $(max_mib "$OUT/map") | $(sum "$OUT/bucket") / $(max_s "$OUT/bucket") | $(max_mib "$OUT/bucket") | $(sum "$OUT/reduce") | $(max_mib "$OUT/reduce") | $total | $same |"
   rm -rf "$w" "$OUT/run-$n"
 done
