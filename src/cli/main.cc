@@ -182,6 +182,7 @@ int run_command(int argc, char** argv) {
   std::string sp_file, sp_work, sp_out;
   std::vector<std::string> sp_sets, sp_sbatch;
   int sp_parts = 0, sp_threads = 0, sp_jobs = 0, sp_buckets = -1;
+  uint64_t sp_job_mib = 2048;
   size_t sp_part = 0, sp_bucket_no = 0;
   bool sp_force = false, sp_quiet = false, sp_submit = false;
   auto planned = [&](CLI::App* c) {
@@ -191,8 +192,11 @@ int run_command(int argc, char** argv) {
     c->add_option("--work", sp_work, "work directory the jobs share (plan, parts, logs)")->required();
     c->add_option("--set", sp_sets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
     c->add_option("--buckets", sp_buckets,
-                  "bucket jobs that deduplicate by key (default: as many as parts; 0: the reduce job does it)")
+                  "bucket jobs that deduplicate by key (default: enough for --job-memory; 0: the reduce job does it)")
         ->check(CLI::Range(0, 100000));
+    c->add_option("--job-memory", sp_job_mib, "MiB a bucket job may use; sets --buckets when it is not given")
+        ->capture_default_str()
+        ->check(CLI::Range(32, 1 << 24));
   };
   auto* sp_plan = spread->add_subcommand("plan", "cut the input into parts at line ends and write WORK/plan.json");
   planned(sp_plan);
@@ -414,7 +418,7 @@ int run_command(int argc, char** argv) {
     if (!sp_work.empty()) sp_work = std::filesystem::absolute(sp_work, ec).lexically_normal().string();
     if (!sp_out.empty()) sp_out = std::filesystem::absolute(sp_out, ec).lexically_normal().string();
     if (sp_plan->parsed() || sp_local->parsed() || sp_slurm->parsed()) {
-      auto plan = spread_plan(sp_file, sp_sets, sp_parts, sp_work, sp_buckets);
+      auto plan = spread_plan(sp_file, sp_sets, sp_parts, sp_work, sp_buckets, sp_job_mib);
       if (!plan.ok()) return fail(plan.error());
       if (sp_plan->parsed()) {
         std::cout << "planned " << plan->parts.size() << " parts and " << plan->buckets << " buckets in " << sp_work

@@ -42,7 +42,11 @@ using json = nlohmann::json;
 namespace fs = std::filesystem;
 
 constexpr int kFormat = 1;
-constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;  // a key row's line; the corpus is in the top 16 bits
+constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;
+// A bucket job's bytes per key and 64-bit key word: a slot (8 bytes a word
+// plus 8 for the line, counted as 16 a word) at the table's lowest load,
+// 3/8, rounded up (docs/cluster.md).
+constexpr uint64_t kBucketBytesPerKey = 43;  // a key row's line; the corpus is in the top 16 bits
 
 std::string part_path(const std::string& work, size_t k, const char* ext) {
   return work + "/parts/" + std::to_string(k) + ext;
@@ -242,6 +246,24 @@ class BucketWriter {
   std::vector<uint64_t> rows_, bytes_, sums_;
   size_t held_ = 0;
 };
+// The lines of a file of `bytes` bytes (compressed or not), estimated from
+// its first MiB of text: the lines there per byte of the file read.
+Result<uint64_t> estimate_lines(const std::string& path, uint64_t bytes) {
+  auto src = open_byte_source(path);
+  if (!src.ok()) return src.error();
+  std::string buf(1 << 20, '\0');
+  uint64_t got = 0, lines = 0;
+  while (got < buf.size()) {
+    auto r = src.value()->read(buf.data(), buf.size() - got);
+    if (!r.ok()) return r.error();
+    if (*r == 0) break;
+    lines += static_cast<uint64_t>(std::count(buf.data(), buf.data() + *r, '\n'));
+    got += *r;
+  }
+  uint64_t read = std::max<uint64_t>(1, src.value()->consumed());
+  return std::max<uint64_t>(1, lines) * std::max<uint64_t>(bytes, read) / read;
+}
+
 }  // namespace
 
 Result<SpreadPlan> read_spread_plan(const std::string& work) {
@@ -280,7 +302,7 @@ Result<SpreadPlan> read_spread_plan(const std::string& work) {
 }
 
 Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
-                               const std::string& work, int buckets) {
+                               const std::string& work, int buckets, uint64_t job_mib) {
   if (parts < 1) return Error(ErrorKind::kUsage, "--parts must be at least 1");
   SpreadPlan plan;
   std::error_code ec;
@@ -357,7 +379,19 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
     int words = prefix < built->size() ? built.value()[prefix]->first_of_key_words() : 0;
     if (words > 0 && buckets != 0) {
       plan.key_words = static_cast<uint32_t>(words);
-      plan.buckets = static_cast<uint32_t>(buckets < 0 ? static_cast<int>(plan.parts.size()) : buckets);
+      if (buckets < 0) {
+        // Enough buckets that each one's table fits the job's memory.
+        uint64_t lines = 0;
+        for (size_t c = 0; c < paths.size(); ++c) {
+          auto n = estimate_lines(paths[c].front(), sizes[c] / paths[c].size());
+          if (!n.ok()) return n.error();
+          lines += *n;
+        }
+        uint64_t budget = std::max<uint64_t>(job_mib, 32) - 16;  // MiB left for the table
+        uint64_t need = lines * kBucketBytesPerKey * static_cast<uint64_t>(words);
+        buckets = static_cast<int>(std::clamp<uint64_t>((need + (budget << 20) - 1) / (budget << 20), 1, 100000));
+      }
+      plan.buckets = static_cast<uint32_t>(buckets);
     }
   }
   fs::create_directories(work + "/parts", ec);

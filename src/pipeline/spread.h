@@ -60,10 +60,11 @@ struct SpreadPlan {
 // Loads `pipeline` with `sets` and cuts its inputs into about `parts` parts
 // (at least one per corpus); writes WORK/plan.json and makes WORK/parts.
 // `buckets`: how many bucket jobs decide the first stateful stage when it
-// keeps the first pair of each key; -1 as many as parts; 0 none (the
-// reduce job does it, holding every key).
+// keeps the first pair of each key; 0 none (the reduce job does it, holding
+// every key); -1 as many as keep each bucket's table within `job_mib` MiB
+// (the input's lines estimated from its first MiB).
 Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<std::string>& sets, int parts,
-                               const std::string& work, int buckets = -1);
+                               const std::string& work, int buckets = -1, uint64_t job_mib = 2048);
 Result<SpreadPlan> read_spread_plan(const std::string& work);
 
 // Runs map job `part` (from 0) of the plan in `work` on `threads`.

@@ -12,6 +12,9 @@
 #include <set>
 #include <thread>
 
+#include <signal.h>
+#include <sys/wait.h>
+
 #include "test_util.h"
 
 namespace sheaf::test {
@@ -133,7 +136,7 @@ TEST(Spread, ARerunMapJobChangesNothing) {
   std::string src = source_dir();
   std::string work = t / "work";
   auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
-  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 5 --work " + work).status, 0);
+  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 5 --buckets 5 --work " + work).status, 0);
   for (int k = 0; k < 5; ++k) ASSERT_EQ(sheaf("spread map " + work + " --part " + std::to_string(k) + " --threads 2").status, 0);
   for (int b = 0; b < 5; ++b) ASSERT_EQ(sheaf("spread bucket " + work + " --bucket " + std::to_string(b)).status, 0);
   std::string before = read_file(work + "/parts/3.pairs");
@@ -169,12 +172,44 @@ TEST(Spread, ARerunMapJobChangesNothing) {
   EXPECT_EQ(differences(t / "one", t / "spread"), "");
 }
 
+// Jobs killed (SIGKILL, no chance to clean up) at some moment while they
+// work, then run again: the outputs are those of one run.
+TEST(Spread, KilledJobsRunAgainGiveTheSameOutputs) {
+  TempDir t;
+  std::string text;
+  for (int i = 0; i < 400000; ++i)  // 22 MB: a map job takes about 0.1 s, the reduce 0.25 s
+    text += "line " + std::to_string(i % 90000) + " of the garden guide\tl\u00ednea " + std::to_string(i % 90000) +
+            " de la gu\u00eda\n";
+  write_file(t / "c.tsv", text);
+  write_file(t / "p.toml", pipeline_text("files = [\"c.tsv\"]", "[[stage]]\nkind = \"normalize\"\n[[stage]]\nkind = "
+                                                                  "\"dedup\"\n[[stage]]\nkind = \"split\"\ndev = 0.1\ntest = 0.1\n",
+                                         t / "spread"));
+  auto sheaf = [&](const std::string& args) { return run_shell("cd " + t.path() + " && " + binary() + " " + args); };
+  auto killed = [&](const std::string& args, int ms) {
+    pid_t pid = start_sheaf(args, t / "err");
+    std::this_thread::sleep_for(std::chrono::milliseconds(ms));
+    ::kill(pid, SIGKILL);
+    int status = 0;
+    ::waitpid(pid, &status, 0);
+  };
+  ASSERT_EQ(sheaf("spread plan p.toml --parts 2 --buckets 2 --work " + (t / "w")).status, 0);
+  killed("spread map " + (t / "w") + " --part 0 --threads 2", 50);
+  for (int k = 0; k < 2; ++k) ASSERT_EQ(sheaf("spread map " + (t / "w") + " --part " + std::to_string(k)).status, 0);
+  killed("spread bucket " + (t / "w") + " --bucket 1", 15);
+  for (int b = 0; b < 2; ++b) ASSERT_EQ(sheaf("spread bucket " + (t / "w") + " --bucket " + std::to_string(b)).status, 0);
+  killed("spread reduce " + (t / "w") + " --quiet", 100);
+  Ran r = sheaf("spread reduce " + (t / "w") + " --quiet");
+  ASSERT_EQ(r.status, 0) << r.err;
+  ASSERT_EQ(sheaf("run p.toml --quiet --out " + (t / "one")).status, 0);
+  EXPECT_EQ(differences(t / "one", t / "spread"), "");
+}
+
 TEST(Spread, ADamagedOrStalePartIsRefused) {
   TempDir t;
   std::string src = source_dir();
   std::string work = t / "work";
   auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
-  ASSERT_EQ(sheaf("spread local pipelines/demo.toml --parts 3 --work " + work + " --quiet --out " + (t / "a")).status, 0);
+  ASSERT_EQ(sheaf("spread local pipelines/demo.toml --parts 3 --buckets 3 --work " + work + " --quiet --out " + (t / "a")).status, 0);
   // One byte changed in the middle of part 1.
   std::string bytes = read_file(work + "/parts/1.pairs");
   bytes[bytes.size() / 2] ^= 0x20;
@@ -207,12 +242,32 @@ TEST(Spread, ADamagedOrStalePartIsRefused) {
   EXPECT_NE(bad.err.find("--part 2 is not one of them"), std::string::npos) << bad.err;
 }
 
+// Without --buckets, the plan takes as many buckets as keep each bucket
+// job's table within --job-memory: 43 bytes a key (docs/cluster.md), keys
+// estimated from the lines of the input's first MiB.
+TEST(Spread, BucketsFollowTheJobMemory) {
+  TempDir t;
+  std::string text;
+  for (int i = 0; i < 500000; ++i) text += "a\tb\n";  // 500,000 keys: 21.5 MB of table at most
+  write_file(t / "c.tsv", text);
+  write_file(t / "p.toml", pipeline_text("files = [\"c.tsv\"]", "[[stage]]\nkind = \"dedup\"\n"));
+  auto plan = [&](const std::string& opts) {
+    return run_shell("cd " + t.path() + " && " + binary() + " spread plan p.toml --parts 3 --work w " + opts).out;
+  };
+  EXPECT_EQ(plan("--job-memory 32"), "planned 3 parts and 2 buckets in " + (t / "w") + "/plan.json\n");  // 16 MiB for tables
+  EXPECT_EQ(plan("--job-memory 64"), "planned 3 parts and 1 buckets in " + (t / "w") + "/plan.json\n");
+  EXPECT_EQ(plan("--buckets 7"), "planned 3 parts and 7 buckets in " + (t / "w") + "/plan.json\n");
+  // A pipeline whose first stateful stage is not a dedup stage has none.
+  write_file(t / "p.toml", pipeline_text("files = [\"c.tsv\"]", "[[stage]]\nkind = \"split\"\ndev = 10\ntest = 10\n"));
+  EXPECT_EQ(plan("--buckets 7"), "planned 3 parts and 0 buckets in " + (t / "w") + "/plan.json\n");
+}
+
 // The job scripts: an array with one task a part, a reduce job, the
 // #SBATCH lines asked for, and the commands that chain them.
 TEST(Spread, SlurmScriptsChainTheJobs) {
   TempDir t;
   std::string work = t / "work";
-  Ran r = run_shell("cd " + source_dir() + " && " + binary() + " spread slurm pipelines/demo.toml --parts 6 --work " +
+  Ran r = run_shell("cd " + source_dir() + " && " + binary() + " spread slurm pipelines/demo.toml --parts 6 --buckets 6 --work " +
                     work + " --threads 4 --sbatch --partition=long --sbatch --time=2:00:00 --out " + (t / "out"));
   ASSERT_EQ(r.status, 0) << r.err;
   std::string map = read_file(work + "/map.sbatch"), reduce = read_file(work + "/reduce.sbatch");
