@@ -192,8 +192,9 @@ int run_command(int argc, char** argv) {
     c->add_option("--work", sp_work, "work directory the jobs share (plan, parts, logs)")->required();
     c->add_option("--set", sp_sets, "override a key: NAME.KEY=VALUE (VALUE in TOML)");
     c->add_option("--buckets", sp_buckets,
-                  "bucket jobs that deduplicate by key (default: enough for --job-memory; 0: the reduce job does it)")
-        ->check(CLI::Range(0, 100000));
+                  "bucket jobs that deduplicate by key, at most 1000 (default: enough for --job-memory; 0: the "
+                  "reduce job does it)")
+        ->check(CLI::Range(0, static_cast<int>(kMaxBuckets)));
     c->add_option("--job-memory", sp_job_mib, "MiB a bucket job may use; sets --buckets when it is not given")
         ->capture_default_str()
         ->check(CLI::Range(32, 1 << 24));
@@ -219,14 +220,14 @@ int run_command(int argc, char** argv) {
   auto* sp_local = spread->add_subcommand("local", "plan, run the map jobs as processes here, then reduce");
   planned(sp_local);
   reduce_opts(sp_local);
-  sp_local->add_option("--jobs", sp_jobs, "map jobs at a time (default: 1)")->check(CLI::Range(1, 1024));
+  sp_local->add_option("--jobs", sp_jobs, "map or bucket jobs at a time (default: 1)")->check(CLI::Range(1, 1024));
   auto* sp_slurm = spread->add_subcommand("slurm", "plan, and write Slurm job scripts (submit them with --submit)");
   planned(sp_slurm);
   sp_slurm->add_option("--out", sp_out, "output directory of the reduce job (overrides [output].dir)");
   sp_slurm->add_option("--threads", sp_threads, "CPUs per job (default: 2)")->check(CLI::Range(1, 1024));
   sp_slurm->add_option("--sbatch", sp_sbatch, "a line for both scripts' #SBATCH header, e.g. \"--partition=long\"");
   sp_slurm->add_flag("--submit", sp_submit, "submit the jobs with sbatch, chained by dependency");
-  auto* sp_status = spread->add_subcommand("status", "say which map jobs of a plan are done");
+  auto* sp_status = spread->add_subcommand("status", "say which map and bucket jobs of a plan are done");
   sp_status->add_option("work", sp_work, "work directory")->required();
 
   // encode

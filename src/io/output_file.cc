@@ -26,7 +26,7 @@ OutputFile::~OutputFile() {
   if (xxh_) XXH3_freeState(xxh_);
 }
 
-Status OutputFile::open(const std::string& path) {
+Status OutputFile::open(const std::string& path, bool buffered) {
   path_ = path;
   // A leftover ".partial" (or a link planted under that name) is removed,
   // never written through: the new file is created afresh, and the open
@@ -37,7 +37,7 @@ Status OutputFile::open(const std::string& path) {
   if (fd_ < 0) return write_error(path, errno);
   xxh_ = XXH3_createState();
   XXH3_64bits_reset(xxh_);
-  buf_.reserve(kBuffer);
+  if (buffered) buf_.reserve(kBuffer);
   return {};
 }
 

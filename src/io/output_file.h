@@ -26,7 +26,9 @@ class OutputFile {
   OutputFile(const OutputFile&) = delete;
   OutputFile& operator=(const OutputFile&) = delete;
 
-  Status open(const std::string& path);
+  // `buffered` false: no buffer is set aside (a writer that buffers for
+  // itself and writes with write_now, with many files open).
+  Status open(const std::string& path, bool buffered = true);
   void write(std::string_view bytes) {
     if (buf_.size() + bytes.size() > kBuffer) flush();
     buf_.append(bytes);

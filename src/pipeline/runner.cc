@@ -62,30 +62,6 @@ void stream_long_lines(BatchSource& rd, const Pipeline& p, const RunDir& dir, Ou
 
 }  // namespace
 
-Result<std::vector<std::unique_ptr<Stage>>> build_streaming_stages(const Pipeline& p) {
-  // Each stage knows only the rewrites before it (`canonical` is called
-  // while a stage is built, never later).
-  std::vector<std::unique_ptr<Stage>> stages;
-  for (int i = 0; i < static_cast<int>(p.stages.size()); ++i) {
-    const StageSpec& spec = p.stages[static_cast<size_t>(i)];
-    if (spec.kind->role == StageRole::kStep) break;
-    StageContext ctx;
-    ctx.pipeline = &p;
-    ctx.spec = &spec;
-    ctx.index = i;
-    ctx.canonical = [&stages](std::string& text, int side) {
-      for (const auto& s : stages)
-        if (!s->rewrite(text, side)) return false;
-      return true;
-    };
-    auto st = make_stage(ctx);
-    if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
-    if (!st.ok()) return st.error();
-    stages.push_back(std::move(st.value()));
-  }
-  return stages;
-}
-
 Status stream_pass(const StreamPass& ps) {
   int threads = ps.threads < 1 ? 1 : ps.threads;
   BatchPool<PairBatch> pool(static_cast<size_t>(threads) * 4);

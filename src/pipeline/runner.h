@@ -63,11 +63,6 @@ class ReaderSource : public BatchSource {
   std::unique_ptr<PairReader> rd_;
 };
 
-// The streaming stages of `p`, in pipeline order, each built knowing the
-// rewrites of those before it (with their per-corpus variants); the steps
-// are not built.
-Result<std::vector<std::unique_ptr<Stage>>> build_streaming_stages(const Pipeline& p);
-
 // One pass of batches through stages: `source` in order, each stage's
 // map() in parallel and reduce() in order, then (with `output_check`) the
 // check that no kept field breaks a TSV row and the lengths the summary

@@ -1,6 +1,7 @@
 #include "pipeline/spread.h"
 
 #include <fcntl.h>
+#include <signal.h>
 #include <spawn.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
@@ -23,6 +24,7 @@
 #include <queue>
 #include <sstream>
 
+#include "core/interrupt.h"
 #include "io/byte_source.h"
 #include "io/output_file.h"
 #include "io/pair_reader.h"
@@ -42,11 +44,7 @@ using json = nlohmann::json;
 namespace fs = std::filesystem;
 
 constexpr int kFormat = 1;
-constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;
-// A bucket job's bytes per key and 64-bit key word: a slot (8 bytes a word
-// plus 8 for the line, counted as 16 a word) at the table's lowest load,
-// 3/8, rounded up (docs/cluster.md).
-constexpr uint64_t kBucketBytesPerKey = 43;  // a key row's line; the corpus is in the top 16 bits
+constexpr uint64_t kLineMask = (uint64_t{1} << 48) - 1;  // a key row's line; the corpus is in the top 16 bits
 
 std::string part_path(const std::string& work, size_t k, const char* ext) {
   return work + "/parts/" + std::to_string(k) + ext;
@@ -89,10 +87,13 @@ Result<Pipeline> load_planned(const SpreadPlan& plan) {
   }
   auto p = load_pipeline(plan.pipeline, ov);
   if (!p.ok()) return p.error();
+  if (plan.parts.back().corpus + 1 != p->corpora.size())
+    return Error(ErrorKind::kInput, "the plan's parts do not cover the pipeline's corpora; plan the run again",
+                 Location{plan.pipeline, 0, 0, {}});
   std::string r = render_pipeline(*p);
   if (XXH3_64bits(r.data(), r.size()) != plan.pipeline_hash)
     return Error(ErrorKind::kInput,
-                 "the pipeline file (or a file it names) changed since the run was planned; plan it again",
+                 "the pipeline file (or a --set of the plan) changed since the run was planned; plan it again",
                  Location{plan.pipeline, 0, 0, {}});
   return p;
 }
@@ -195,7 +196,7 @@ class BucketWriter {
   Status open() {
     for (const auto& path : paths_) {
       files_.emplace_back(std::make_unique<OutputFile>());
-      SHEAF_TRY(files_.back()->open(path));
+      SHEAF_TRY(files_.back()->open(path, /*buffered=*/false));
     }
     return {};
   }
@@ -298,6 +299,21 @@ Result<SpreadPlan> read_spread_plan(const std::string& work) {
     return plan_error(path, std::string("damaged plan (") + e.what() + "); plan the run again");
   }
   if (plan.parts.empty()) return plan_error(path, "the plan has no part; plan the run again");
+  if (plan.buckets > kMaxBuckets) return plan_error(path, "damaged plan (buckets); plan the run again");
+  // Parts in input order: corpora in order, each corpus either one whole
+  // part or byte ranges that follow each other from byte 0.
+  for (size_t k = 0; k < plan.parts.size(); ++k) {
+    const SpreadPart& part = plan.parts[k];
+    const SpreadPart* prev = k > 0 ? &plan.parts[k - 1] : nullptr;
+    bool first_of_corpus = prev == nullptr || prev->corpus != part.corpus;
+    bool ok = first_of_corpus ? (prev == nullptr ? part.corpus == 0 : part.corpus == prev->corpus + 1) &&
+                                    (part.whole || part.begin == 0)
+                              : !part.whole && !prev->whole && part.file == prev->file && part.begin == prev->end;
+    if (!ok || (!part.whole && part.end <= part.begin))
+      return plan_error(path, "damaged plan (part " + std::to_string(k) + " does not follow the part before it); plan "
+                              "the run again");
+  }
+  plan.id = XXH3_64bits(text->data(), text->size());
   return plan;
 }
 
@@ -356,7 +372,9 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
     for (uint64_t i = 1; i <= n && at < sizes[c]; ++i) {
       uint64_t end = sizes[c];
       if (i < n) {
-        auto cut = next_line_start(fd, f, std::max(at, sizes[c] / n * i) , sizes[c]);
+        // The first part holds at least the bytes a whole-file reader
+        // looks at to tell the encoding (512), so it judges alike.
+        auto cut = next_line_start(fd, f, std::max({at, sizes[c] / n * i, uint64_t{512}}), sizes[c]);
         if (!cut.ok()) {
           ::close(fd);
           return cut.error();
@@ -388,8 +406,10 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
           lines += *n;
         }
         uint64_t budget = std::max<uint64_t>(job_mib, 32) - 16;  // MiB left for the table
-        uint64_t need = lines * kBucketBytesPerKey * static_cast<uint64_t>(words);
-        buckets = static_cast<int>(std::clamp<uint64_t>((need + (budget << 20) - 1) / (budget << 20), 1, 100000));
+        // At a doubling the old table and the new one, three times its
+        // slots, live together: 4 slots a key at 3/4 load (docs/cluster.md).
+        uint64_t need = lines * 4 * (8 * static_cast<uint64_t>(words) + 8);
+        buckets = static_cast<int>(std::clamp<uint64_t>((need + (budget << 20) - 1) / (budget << 20), 1, kMaxBuckets));
       }
       plan.buckets = static_cast<uint32_t>(buckets);
     }
@@ -536,6 +556,7 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   j["version"] = kFormat;
   j["part"] = k;
   j["pipeline_hash"] = hash_hex(plan->pipeline_hash);
+  j["plan"] = hash_hex(plan->id);
   j["first_stage"] = prefix;
   j["pairs"] = count;
   j["lines"] = inputs.ok() && !inputs->empty() ? inputs->front().lines : 0;
@@ -576,22 +597,40 @@ struct PartInfo {
   std::vector<InputInfo> inputs;
 };
 
-Result<PartInfo> read_part_info(const std::string& work, size_t k, const SpreadPlan& plan) {
-  std::string path = part_path(work, k, ".json");
+// A map or bucket job's record (`what` "part" or "bucket", number `n`):
+// parsed, of its format, naming job `n` of `plan`; or the error that says
+// the job is not done, or must run again, and how.
+Result<json> read_job_record(const std::string& work, const char* what, size_t n, const SpreadPlan& plan) {
+  bool part = std::string_view(what) == "part";
+  std::string path = part ? part_path(work, n, ".json") : bucket_path(work, n, ".json");
+  std::string job = part ? "map" : "bucket";
+  std::string cmd = "`sheaf spread " + job + " " + work + " --" + what + " " + std::to_string(n) + "`";
   auto text = read_small(path);
   if (!text.ok())
-    return Error(ErrorKind::kInput,
-                 "part " + std::to_string(k) + " is not done: run `sheaf spread map " + work + " --part " +
-                     std::to_string(k) + "`",
+    return Error(ErrorKind::kInput, std::string(what) + " " + std::to_string(n) + " is not done: run " + cmd,
                  Location{path, 0, 0, {}});
   auto j = json::parse(*text, nullptr, false);
+  try {
+    if (j.is_discarded() || !j.is_object() || j.value("format", "") != "sheaf-spread-" + std::string(what) ||
+        j.value("version", 0) != kFormat)
+      return plan_error(path, std::string("not a sheaf ") + what + " record of format version 1; run " + cmd);
+    if (j.at(what).get<size_t>() != n ||
+        std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16) != plan.pipeline_hash ||
+        std::stoull(j.at("plan").get<std::string>(), nullptr, 16) != plan.id)
+      return plan_error(path, std::string("this ") + what + " belongs to another plan; run " + cmd);
+  } catch (const std::exception& e) {
+    return plan_error(path, std::string("damaged ") + what + " record (" + e.what() + "); run " + cmd);
+  }
+  return j;
+}
+
+Result<PartInfo> read_part_info(const std::string& work, size_t k, const SpreadPlan& plan) {
+  std::string path = part_path(work, k, ".json");
+  auto record = read_job_record(work, "part", k, plan);
+  if (!record.ok()) return record.error();
+  const json& j = *record;
   PartInfo info;
   try {
-    if (j.is_discarded() || j.value("format", "") != "sheaf-spread-part" || j.value("version", 0) != kFormat)
-      return plan_error(path, "not a sheaf part record of format version 1; run its map job again");
-    if (j.at("part").get<size_t>() != k ||
-        std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16) != plan.pipeline_hash)
-      return plan_error(path, "this part belongs to another plan; run its map job again");
     info.pairs = j.at("pairs").get<uint64_t>();
     info.lines = j.at("lines").get<uint64_t>();
     info.pairs_bytes = j.at("pairs_bytes").get<uint64_t>();
@@ -660,7 +699,7 @@ class CheckedReader {
     checksum_ = checksum;
     f_ = std::fopen(path.c_str(), "rb");
     if (!f_) return Error(ErrorKind::kInput, "cannot read it; run the job that makes it again", Location{path, 0, 0, {}});
-    std::setvbuf(f_, nullptr, _IOFBF, 1 << 16);
+    std::setvbuf(f_, nullptr, _IOFBF, 1 << 14);
     x_ = XXH3_createState();
     XXH3_64bits_reset(x_);
     return {};
@@ -693,19 +732,11 @@ struct BucketInfo {
 
 Result<BucketInfo> read_bucket_info(const std::string& work, size_t b, const SpreadPlan& plan) {
   std::string path = bucket_path(work, b, ".json");
-  auto text = read_small(path);
-  if (!text.ok())
-    return Error(ErrorKind::kInput,
-                 "bucket " + std::to_string(b) + " is not done: run `sheaf spread bucket " + work + " --bucket " +
-                     std::to_string(b) + "`",
-                 Location{path, 0, 0, {}});
-  auto j = json::parse(*text, nullptr, false);
+  auto record = read_job_record(work, "bucket", b, plan);
+  if (!record.ok()) return record.error();
+  const json& j = *record;
   BucketInfo info;
   try {
-    if (j.is_discarded() || j.value("format", "") != "sheaf-spread-bucket" || j.value("version", 0) != kFormat ||
-        j.at("bucket").get<size_t>() != b ||
-        std::stoull(j.at("pipeline_hash").get<std::string>(), nullptr, 16) != plan.pipeline_hash)
-      return plan_error(path, "not this plan's bucket record; run its bucket job again");
     info.distinct = j.at("distinct").get<uint64_t>();
     info.verdicts = j.at("verdicts").get<uint64_t>();
     info.bytes = j.at("bytes").get<uint64_t>();
@@ -730,6 +761,8 @@ class PartsSource : public BatchSource {
     keyed_ = keyed;
     std::vector<uint64_t> pair0;
     part_starts(plan_, infos_, offset_, pair0);
+    for (const auto& st : stages_)
+      if (const SplitRouter* r = st->router()) max_split_ = static_cast<int32_t>(r->names().size());
   }
 
   // Opens the verdict files and reads each one's first row.
@@ -765,6 +798,15 @@ class PartsSource : public BatchSource {
       while (at.size() < max_pairs && b.raw.size() + b.raw_target.size() < max_bytes && left_ > 0) {
         PairHead h;
         SHEAF_TRY(read_exact(&h, sizeof h));
+        // A part whose checksum matches may still be crafted: every field
+        // that indexes something later is checked.
+        bool drop_ok = h.drop_stage == kKept || h.drop_stage == kReadStage ||
+                       (h.drop_stage >= 0 && static_cast<size_t>(h.drop_stage) < infos_[0].first_stage);
+        if (h.corpus != plan_.parts[current_].corpus || !drop_ok || h.split < 0 || h.split >= max_split_ ||
+            h.line == 0 || h.line > infos_[current_].lines)
+          return Error(ErrorKind::kData, "the part holds a pair that cannot be one of its own (damaged); run its map "
+                                         "job again",
+                       Location{part_path(work_, current_, ".pairs"), 0, 0, read_bytes_});
         Pair pr;
         pr.line = h.line + offset_[current_];
         pr.corpus = h.corpus;
@@ -863,7 +905,8 @@ class PartsSource : public BatchSource {
         sum = cs;
         continue;
       }
-      for (size_t i = 0; i < cs.size() && i < sum.size(); ++i) sum[i].second += cs[i].second;
+      for (size_t i = 0; i < cs.size() && i < sum.size(); ++i)
+        if (stage < stages_.size() && stages_[stage]->counter_adds(sum[i].first)) sum[i].second += cs[i].second;
     }
     return sum;
   }
@@ -958,6 +1001,7 @@ class PartsSource : public BatchSource {
   std::vector<Verdicts> verdicts_;
   std::priority_queue<std::pair<uint64_t, size_t>, std::vector<std::pair<uint64_t, size_t>>, std::greater<>> heap_;
   uint64_t ordinal_ = 0;  // pairs handed out so far
+  int32_t max_split_ = 1;  // splits a pair's split index may name
 
   struct XxhFree {
     void operator()(XXH3_state_t* s) const { XXH3_freeState(s); }
@@ -1055,6 +1099,7 @@ Status spread_bucket(const std::string& work, size_t bucket) {
          {"version", kFormat},
          {"bucket", bucket},
          {"pipeline_hash", hash_hex(plan->pipeline_hash)},
+         {"plan", hash_hex(plan->id)},
          {"distinct", distinct},
          {"verdicts", verdicts},
          {"bytes", out.size()},
@@ -1081,12 +1126,14 @@ Result<RunRecord> spread_reduce(const std::string& work, RunOptions o) {
     // The bucketed stage gives the repeats' reasons and its counters; it is
     // built from the runner's own copy of the pipeline, which outlives pass 1.
     const Stage* keyed = nullptr;
-    std::vector<std::unique_ptr<Stage>> stages;
+    auto built = build_streaming_stages(run_p);
+    if (!built.ok()) return built.error();
+    std::vector<std::unique_ptr<Stage>> stages = std::move(built.value());
+    size_t at = (*infos)[0].first_stage;
+    if (at > stages.size() || (at < stages.size() && stages[at]->has_reduce() == false) ||
+        (at > 0 && stages[at - 1]->has_reduce()))
+      return plan_error(part_path(work, 0, ".json"), "the parts were mapped by another build; run the map jobs again");
     if (plan->buckets > 0) {
-      auto built = build_streaming_stages(run_p);
-      if (!built.ok()) return built.error();
-      stages = std::move(built.value());
-      size_t at = (*infos)[0].first_stage;
       if (at >= stages.size() || stages[at]->first_of_key_words() != static_cast<int>(plan->key_words))
         return Error(ErrorKind::kInternal, "the plan's bucketed stage is not the pipeline's; plan the run again");
       keyed = stages[at].get();
@@ -1108,7 +1155,22 @@ Status run_jobs(const std::string& self, size_t n, int jobs,
   size_t next = 0;
   std::vector<std::pair<pid_t, size_t>> running;
   std::optional<size_t> failed;
+  auto stop_all = [&running] {
+    for (const auto& r : running) ::kill(r.first, SIGTERM);
+    for (const auto& r : running) {
+      int status = 0;
+      while (::waitpid(r.first, &status, 0) < 0 && errno == EINTR) {
+      }
+    }
+    running.clear();
+  };
   while ((next < n && !failed) || !running.empty()) {
+    // A stop signal: the jobs running are stopped too (each removes its
+    // unfinished files), and no more start.
+    if (interrupt_requested().load()) {
+      stop_all();
+      return interrupted_error();
+    }
     while (next < n && !failed && running.size() < static_cast<size_t>(jobs)) {
       std::vector<std::string> a = args(next);
       a.insert(a.begin(), self);
@@ -1116,8 +1178,10 @@ Status run_jobs(const std::string& self, size_t n, int jobs,
       for (auto& x : a) argv.push_back(x.data());
       argv.push_back(nullptr);
       pid_t pid = 0;
-      if (int e = posix_spawn(&pid, self.c_str(), nullptr, nullptr, argv.data(), environ); e != 0)
+      if (int e = posix_spawn(&pid, self.c_str(), nullptr, nullptr, argv.data(), environ); e != 0) {
+        stop_all();
         return Error(ErrorKind::kIo, std::string("cannot start a job: ") + std::strerror(e), Location{self, 0, 0, {}});
+      }
       running.emplace_back(pid, next++);
     }
     int status = 0;

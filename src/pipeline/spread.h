@@ -51,7 +51,12 @@ struct SpreadPlan {
   std::vector<SpreadPart> parts;   // in input order
   uint32_t buckets = 0;            // bucket jobs (0: the reduce job deduplicates)
   uint32_t key_words = 0;          // 64-bit words of the bucketed stage's key
+  uint64_t id = 0;                 // XXH3-64 of plan.json: every job's record names it
 };
+
+// At most this many buckets: a map job writes one file per bucket, all open
+// at once.
+inline constexpr uint32_t kMaxBuckets = 1000;
 
 // Paths: a job changes to the plan's directory before it loads the
 // pipeline, so that the run reads and records the same paths as `sheaf run`

@@ -31,6 +31,7 @@ class ExcludeStage : public Stage {
   std::vector<std::pair<std::string, uint64_t>> counters() const override {
     return {{"listed_source_sentences", set_[0].size()}, {"listed_target_sentences", set_[1].size()}};
   }
+  bool counter_adds(std::string_view) const override { return false; }  // the lists' sizes
 
  private:
   int index_;

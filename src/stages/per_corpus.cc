@@ -31,6 +31,11 @@ class PerCorpusStage : public Stage {
       for (auto& [k, v] : stages_[i]->counters()) out.emplace_back(labels_[i] + k, v);
     return out;
   }
+  bool counter_adds(std::string_view name) const override {
+    for (size_t i = stages_.size(); i-- > 0;)  // the corpus labels first: "" matches every name
+      if (name.substr(0, labels_[i].size()) == labels_[i]) return stages_[i]->counter_adds(name.substr(labels_[i].size()));
+    return true;
+  }
   Status finish() override {
     for (auto& s : stages_) SHEAF_TRY(s->finish());
     return {};

@@ -92,15 +92,13 @@ Result<std::unique_ptr<Step>> make_step(const Pipeline& p, const StageSpec& spec
   return e->make_step(p, spec);
 }
 
-Status check_stages(const Pipeline& p) {
+Result<std::vector<std::unique_ptr<Stage>>> build_streaming_stages(const Pipeline& p) {
+  // Each stage knows only the rewrites before it (`canonical` is called
+  // while a stage is built, never later).
   std::vector<std::unique_ptr<Stage>> built;
   for (size_t i = 0; i < p.stages.size(); ++i) {
     const StageSpec& spec = p.stages[i];
-    if (spec.kind->role == StageRole::kStep) {
-      auto step = make_step(p, spec);
-      if (!step.ok()) return step.error();
-      continue;
-    }
+    if (spec.kind->role == StageRole::kStep) break;  // the loader put every step after the streaming stages
     StageContext ctx;
     ctx.pipeline = &p;
     ctx.spec = &spec;
@@ -115,6 +113,16 @@ Status check_stages(const Pipeline& p) {
     if (st.ok() && p.named_corpora) st = with_corpus_variants(ctx, std::move(st.value()));
     if (!st.ok()) return st.error();
     built.push_back(std::move(st.value()));
+  }
+  return built;
+}
+
+Status check_stages(const Pipeline& p) {
+  auto built = build_streaming_stages(p);
+  if (!built.ok()) return built.error();
+  for (size_t i = built->size(); i < p.stages.size(); ++i) {
+    auto step = make_step(p, p.stages[i]);
+    if (!step.ok()) return step.error();
   }
   return {};
 }

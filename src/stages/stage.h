@@ -14,6 +14,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <utility>
 #include <vector>
 
@@ -74,6 +75,10 @@ class Stage {
 
   // Extra counters for the run record (name, value), e.g. repaired bytes.
   virtual std::vector<std::pair<std::string, uint64_t>> counters() const { return {}; }
+  // False for a counter that describes the stage itself rather than counts
+  // pairs (the size of a list it loaded): a spread run then takes it from
+  // one map job instead of adding the jobs' values.
+  virtual bool counter_adds(std::string_view /*name*/) const { return true; }
 
   // Called once after the last batch has passed reduce().
   virtual Status finish() { return {}; }
@@ -99,5 +104,10 @@ Result<std::unique_ptr<Stage>> make_stage(const StageContext& ctx);
 // every step, without reading the corpus. validate, init and run all call
 // this one function, so they accept exactly the same files.
 Status check_stages(const Pipeline& p);
+
+// The streaming stages of `p`, in pipeline order, each built knowing the
+// rewrites of those before it (with their per-corpus variants); the steps,
+// which follow them, are not built.
+Result<std::vector<std::unique_ptr<Stage>>> build_streaming_stages(const Pipeline& p);
 
 }  // namespace sheaf

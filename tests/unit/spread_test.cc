@@ -9,11 +9,14 @@
 #include <algorithm>
 #include <chrono>
 #include <regex>
+#include <cstring>
 #include <set>
 #include <thread>
 
 #include <signal.h>
 #include <sys/wait.h>
+
+#include <xxhash.h>
 
 #include "test_util.h"
 
@@ -202,6 +205,113 @@ TEST(Spread, KilledJobsRunAgainGiveTheSameOutputs) {
   ASSERT_EQ(r.status, 0) << r.err;
   ASSERT_EQ(sheaf("run p.toml --quiet --out " + (t / "one")).status, 0);
   EXPECT_EQ(differences(t / "one", t / "spread"), "");
+}
+
+// Review findings, each held by a test.
+// A stage counter that is not a count of pairs (the size of an exclusion
+// list) is taken from one map job, not added over the parts.
+TEST(Spread, ListSizesAreNotAddedOverParts) {
+  TempDir t;
+  std::string garden = source_dir() + "/samples/garden-en-es.tsv";
+  write_file(t / "ex.tsv", "The garden opens at nine.\tEl jard\xc3\xadn abre a las nueve.\nA second line\tUna segunda\n");
+  write_file(t / "p.toml", pipeline_text("files = [\"" + garden + "\"]",
+                                         "[[stage]]\nkind = \"normalize\"\n[[stage]]\nkind = \"exclude\"\nfiles = "
+                                         "[\"ex.tsv\"]\n[[stage]]\nkind = \"dedup\"\n"));
+  EXPECT_EQ(run_both(t.path(), "p.toml", 7, t, "ex", nullptr, " --buckets 3"), "");
+}
+
+// The file-start checks (UTF-16 without a byte-order mark, CR-only lines)
+// see the same bytes as one run: the first part is at least 512 bytes.
+TEST(Spread, TheFirstPartJudgesTheEncodingAsOneRunDoes) {
+  TempDir t;
+  std::string u16;
+  for (char c : std::string("a\tb\n") + std::string(300, 'x') + "\tyy\n") u16 += std::string(1, c) + '\0';
+  write_file(t / "u16.tsv", u16);
+  std::string nulhead;
+  for (int i = 0; i < 60; ++i) nulhead += std::string("k") + '\0';
+  nulhead += "\n";
+  for (int i = 0; i < 2000; ++i) nulhead += "pair " + std::to_string(i) + "\tpar " + std::to_string(i) + "\n";
+  write_file(t / "nul.tsv", nulhead);
+  for (const char* f : {"u16.tsv", "nul.tsv"}) {
+    write_file(t / "p.toml", pipeline_text(std::string("files = [\"") + f + "\"]", "[[stage]]\nkind = \"dedup\"\n"));
+    Ran one = run_shell("cd " + t.path() + " && " + binary() + " run p.toml --quiet --force --out " + (t / "one"));
+    Ran spread = run_shell("cd " + t.path() + " && " + binary() + " spread local p.toml --parts 200 --work " + (t / "w") +
+                           " --quiet --force --out " + (t / "spread"));
+    EXPECT_EQ(one.status, spread.status) << f << ": " << one.err << " / " << spread.err;
+    if (one.status == 0) {
+      EXPECT_EQ(differences(t / "one", t / "spread"), "") << f;
+    } else {
+      EXPECT_NE(spread.err.find("UTF-16"), std::string::npos) << spread.err;
+    }
+  }
+}
+
+// A part of another plan (a map job of an earlier plan that finished late)
+// is refused; so is a plan whose parts overlap, and a part crafted with a
+// matching checksum but a pair that cannot be its own.
+TEST(Spread, PartsOfAnotherPlanAndCraftedFilesAreRefused) {
+  TempDir t;
+  std::string src = source_dir();
+  auto sheaf = [&](const std::string& args) { return run_shell("cd " + src + " && " + binary() + " " + args); };
+  ASSERT_EQ(sheaf("spread local pipelines/demo.toml --parts 4 --buckets 0 --work " + (t / "a") + " --quiet --out " +
+                  (t / "ra")).status,
+            0);
+  ASSERT_EQ(sheaf("spread local pipelines/demo.toml --parts 2 --buckets 0 --work " + (t / "b") + " --quiet --out " +
+                  (t / "rb")).status,
+            0);
+  for (const char* ext : {".json", ".pairs", ".long"}) fs::copy_file(t / "a/parts/0" + ext, t / "b/parts/0" + ext, fs::copy_options::overwrite_existing);
+  Ran r = sheaf("spread reduce " + (t / "b") + " --quiet --force --out " + (t / "rb"));
+  EXPECT_NE(r.status, 0);
+  EXPECT_NE(r.err.find("belongs to another plan"), std::string::npos) << r.err;
+  // Overlapping ranges in a damaged plan.
+  std::string plan = read_file(t / "a/plan.json");
+  size_t at = plan.find("\"begin\"", plan.find("\"begin\"") + 1);
+  ASSERT_NE(at, std::string::npos);
+  size_t num = plan.find_first_of("0123456789", at);
+  plan.replace(num, plan.find_first_not_of("0123456789", num) - num, "1000");
+  write_file(t / "a/plan.json", plan);
+  r = sheaf("spread status " + (t / "a"));
+  EXPECT_NE(r.status, 0);
+  EXPECT_NE(r.err.find("damaged plan"), std::string::npos) << r.err;
+  // A crafted part: the first pair's stage index out of range, its record's
+  // checksum made to match.
+  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 2 --buckets 0 --work " + (t / "c")).status, 0);
+  for (int k = 0; k < 2; ++k) ASSERT_EQ(sheaf("spread map " + (t / "c") + " --part " + std::to_string(k)).status, 0);
+  std::string pairs = read_file(t / "c/parts/0.pairs");
+  int32_t stage = 50;
+  std::memcpy(pairs.data() + 12, &stage, 4);
+  write_file(t / "c/parts/0.pairs", pairs);
+  std::string rec = read_file(t / "c/parts/0.json");
+  char hex[17];
+  std::snprintf(hex, sizeof hex, "%016llx", static_cast<unsigned long long>(XXH3_64bits(pairs.data(), pairs.size())));
+  size_t sum = rec.find("\"pairs_checksum\": \"") + 19;
+  rec.replace(sum, 16, hex);
+  write_file(t / "c/parts/0.json", rec);
+  r = sheaf("spread reduce " + (t / "c") + " --quiet --out " + (t / "rc"));
+  EXPECT_EQ(r.status, 1) << r.err;
+  EXPECT_NE(r.err.find("cannot be one of its own"), std::string::npos) << r.err;
+}
+
+// A stop signal to `spread local` stops the jobs and starts no more.
+TEST(Spread, AStopSignalStopsTheLocalJobs) {
+  TempDir t;
+  std::string text;
+  for (int i = 0; i < 200000; ++i) text += "pair " + std::to_string(i) + " of words\tpar " + std::to_string(i) + "\n";
+  write_file(t / "c.tsv", text);
+  write_file(t / "p.toml", pipeline_text("files = [\"" + (t / "c.tsv") + "\"]", "[[stage]]\nkind = \"normalize\"\n[[stage]]\nkind = \"dedup\"\n"));
+  pid_t pid = start_sheaf("spread local " + (t / "p.toml") + " --parts 300 --buckets 1 --jobs 1 --work " + (t / "w") +
+                              " --quiet --out " + (t / "out"),
+                          t / "err");
+  std::this_thread::sleep_for(std::chrono::milliseconds(400));
+  ::kill(pid, SIGTERM);
+  int status = 0;
+  ::waitpid(pid, &status, 0);
+  ASSERT_TRUE(WIFEXITED(status));
+  EXPECT_NE(WEXITSTATUS(status), 0);
+  size_t done = 0;
+  for (const auto& e : fs::directory_iterator(t / "w/parts")) done += e.path().extension() == ".json";
+  EXPECT_LT(done, 300u);
+  EXPECT_FALSE(fs::exists(t / "out/manifest.json"));
 }
 
 TEST(Spread, ADamagedOrStalePartIsRefused) {
