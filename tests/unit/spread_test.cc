@@ -306,10 +306,12 @@ TEST(Spread, AStopSignalStopsTheLocalJobs) {
   ::kill(pid, SIGTERM);
   int status = 0;
   ::waitpid(pid, &status, 0);
-  ASSERT_TRUE(WIFEXITED(status));
-  EXPECT_NE(WEXITSTATUS(status), 0);
+  // Stopped: with "interrupted" once its handler is in place, or by the
+  // signal itself if it came sooner (a slow start under a sanitizer).
+  EXPECT_FALSE(WIFEXITED(status) && WEXITSTATUS(status) == 0);
   size_t done = 0;
-  for (const auto& e : fs::directory_iterator(t / "w/parts")) done += e.path().extension() == ".json";
+  std::error_code ec;
+  for (const auto& e : fs::directory_iterator(t / "w/parts", ec)) done += e.path().extension() == ".json";
   EXPECT_LT(done, 300u);
   EXPECT_FALSE(fs::exists(t / "out/manifest.json"));
 }
