@@ -57,7 +57,9 @@ for n in $PARTS; do
   w=$OUT/work-$n
   rm -f "$OUT/plan" "$OUT/map" "$OUT/bucket" "$OUT/reduce"
   echo "0 0" > "$OUT/bucket.none"
-  timed "$OUT/plan" $B/sheaf spread plan "$PIPELINE" "${SET[@]}" "${BUCKETS[@]}" --parts "$n" --work "$w"
+  bk=("${BUCKETS[@]}")
+  [ ${#bk[@]} -gt 0 ] || bk=(--buckets "$n")
+  timed "$OUT/plan" $B/sheaf spread plan "$PIPELINE" "${SET[@]}" "${bk[@]}" --parts "$n" --work "$w"
   k=0
   while [ -f "$w/plan.json" ] && [ "$k" -lt "$(grep -c '"corpus"' "$w/plan.json")" ]; do
     timed "$OUT/map" $B/sheaf spread map "$w" --part "$k" --threads "$THREADS"
