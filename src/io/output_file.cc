@@ -26,7 +26,7 @@ OutputFile::~OutputFile() {
   if (xxh_) XXH3_freeState(xxh_);
 }
 
-Status OutputFile::open(const std::string& path, bool buffered) {
+Status OutputFile::open(const std::string& path) {
   path_ = path;
   // A leftover ".partial" (or a link planted under that name) is removed,
   // never written through: the new file is created afresh, and the open
@@ -37,8 +37,12 @@ Status OutputFile::open(const std::string& path, bool buffered) {
   if (fd_ < 0) return write_error(path, errno);
   xxh_ = XXH3_createState();
   XXH3_64bits_reset(xxh_);
-  if (buffered) buf_.reserve(kBuffer);
   return {};
+}
+
+void OutputFile::make_room(size_t n) {
+  if (buf_.size() + n > kBuffer) flush();
+  if (buf_.capacity() < kBuffer) buf_.reserve(kBuffer);
 }
 
 void OutputFile::flush() {

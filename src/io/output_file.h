@@ -26,11 +26,12 @@ class OutputFile {
   OutputFile(const OutputFile&) = delete;
   OutputFile& operator=(const OutputFile&) = delete;
 
-  // `buffered` false: no buffer is set aside (a writer that buffers for
-  // itself and writes with write_now, with many files open).
-  Status open(const std::string& path, bool buffered = true);
+  // The buffer is set aside at the first write(), so a file written only
+  // with write_now (a writer that buffers for itself, with many files open)
+  // holds none.
+  Status open(const std::string& path);
   void write(std::string_view bytes) {
-    if (buf_.size() + bytes.size() > kBuffer) flush();
+    if (buf_.size() + bytes.size() > buf_.capacity()) make_room(bytes.size());
     buf_.append(bytes);
   }
   // Writes `bytes` to the file at once, past the buffer (for a writer that
@@ -60,7 +61,10 @@ class OutputFile {
   bool committed() const { return committed_; }
 
  private:
-  static constexpr size_t kBuffer = 1 << 20;
+  // 256 KiB: one write(2) per 256 KiB costs nothing measurable, and a run
+  // keeps up to eight of these open (docs/performance.md, "Spread runs").
+  static constexpr size_t kBuffer = 256 << 10;
+  void make_room(size_t n);
   void flush();
   void put(const char* p, size_t n);
   std::string path_;

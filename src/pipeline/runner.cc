@@ -64,7 +64,7 @@ void stream_long_lines(BatchSource& rd, const Pipeline& p, const RunDir& dir, Ou
 
 Status stream_pass(const StreamPass& ps) {
   int threads = ps.threads < 1 ? 1 : ps.threads;
-  BatchPool<PairBatch> pool(static_cast<size_t>(threads) * 4);
+  BatchPool<PairBatch> pool(static_cast<size_t>(threads) * std::max<size_t>(ps.batches_per_thread, 1));
   uint64_t seq = 0;
   BatchSource& rd = *ps.source;
   auto first =
@@ -77,7 +77,7 @@ Status stream_pass(const StreamPass& ps) {
         b->raw.clear();
         b->raw_target.clear();
         b->arena.reset();
-        auto more = rd.next(*b, ps.batch_pairs, 4 << 20);
+        auto more = rd.next(*b, ps.batch_pairs, ps.batch_bytes);
         if (!more.ok()) {
           pool.release(b);
           throw ErrorException{more.error()};
@@ -289,6 +289,8 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   };
   pass.threads = threads;
   pass.batch_pairs = o.batch_pairs;
+  pass.batch_bytes = o.batch_bytes;
+  pass.batches_per_thread = o.batches_per_thread;
   pass.bytes_read = &bytes_read;
   pass.pairs_read = &pairs_read;
   Status failed = stream_pass(pass);

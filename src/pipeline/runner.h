@@ -66,8 +66,10 @@ class ReaderSource : public BatchSource {
 // One pass of batches through stages: `source` in order, each stage's
 // map() in parallel and reduce() in order, then (with `output_check`) the
 // check that no kept field breaks a TSV row and the lengths the summary
-// needs, then `take` on each batch in input order. At most 4 x threads
-// batches are in flight.
+// needs, then `take` on each batch in input order. At most
+// batches_per_thread x threads batches are in flight, each of at most
+// batch_pairs pairs and about batch_bytes raw bytes: that is most of a
+// pass's memory when no stage holds a table.
 struct StreamPass {
   BatchSource* source = nullptr;
   std::vector<Stage*> stages;
@@ -75,6 +77,8 @@ struct StreamPass {
   std::function<Status(PairBatch&)> take;
   int threads = 1;
   size_t batch_pairs = 4096;
+  size_t batch_bytes = 4 << 20;  // raw bytes a batch holds before it is handed on
+  size_t batches_per_thread = 4;
   std::atomic<uint64_t>* bytes_read = nullptr;  // for a progress display, when set
   std::atomic<uint64_t>* pairs_read = nullptr;
 };
@@ -88,6 +92,8 @@ struct RunOptions {
   bool force = false;
   bool progress = false;    // progress line on standard error
   size_t batch_pairs = 4096;
+  size_t batch_bytes = 4 << 20;
+  size_t batches_per_thread = 4;
   // Steps run after the pipeline's own, also after --until (the summary).
   std::vector<std::function<std::unique_ptr<Step>()>> closing_steps;
   // Where pass 1's batches come from; unset: the pipeline's input files.

@@ -196,7 +196,7 @@ class BucketWriter {
   Status open() {
     for (const auto& path : paths_) {
       files_.emplace_back(std::make_unique<OutputFile>());
-      SHEAF_TRY(files_.back()->open(path, /*buffered=*/false));
+      SHEAF_TRY(files_.back()->open(path));
     }
     return {};
   }
@@ -1122,6 +1122,13 @@ Result<RunRecord> spread_reduce(const std::string& work, RunOptions o) {
   }
   o.inputs.clear();
   o.until.clear();
+  // Fewer and smaller batches than one run's: unless a later stage holds a
+  // table, this job's memory is the program and its batches in flight, and
+  // its stages are cheap enough that it is no slower for them
+  // (docs/performance.md, "Spread runs").
+  o.batch_pairs = 512;
+  o.batch_bytes = 512 << 10;
+  o.batches_per_thread = 2;
   o.source = [&](const Pipeline& run_p) -> Result<std::unique_ptr<BatchSource>> {
     // The bucketed stage gives the repeats' reasons and its counters; it is
     // built from the runner's own copy of the pipeline, which outlives pass 1.

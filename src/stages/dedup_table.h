@@ -15,10 +15,10 @@ namespace sheaf {
 template <int kWords>
 class DedupTable {
  public:
+  // The slots are allocated at the first insert: a table that is built but
+  // never used (a spread run's reduce job) holds no memory.
   explicit DedupTable(size_t expected = 1 << 16) {
-    size_t cap = 16;
-    while (cap < expected * 4 / 3 + 1) cap <<= 1;
-    slots_.assign(cap, Slot{});
+    while (first_cap_ < expected * 4 / 3 + 1) first_cap_ <<= 1;
   }
 
   // Inserts the key; returns 0 if it is new, else the line it was first seen on.
@@ -29,6 +29,7 @@ class DedupTable {
     for (int i = 0; i < kWords; ++i) s.h[i] = key[i];
     if (s.h[0] == 0) s.h[0] = 1;  // 0 marks an empty slot
     s.line = line;
+    if (slots_.empty()) slots_.assign(first_cap_, Slot{});
     for (;;) {
       size_t mask = slots_.size() - 1;
       for (size_t i = s.h[0] & mask;; i = (i + 1) & mask) {
@@ -47,6 +48,7 @@ class DedupTable {
   // memory_bytes() of a table built with `expected` after `distinct` keys
   // (a function of the count alone: the table doubles at 3/4 load).
   static size_t memory_bytes_after(uint64_t distinct, size_t expected = 1 << 16) {
+    if (distinct == 0) return 0;
     size_t cap = 16;
     while (cap < expected * 4 / 3 + 1) cap <<= 1;
     while (distinct * 4 > cap * 3) cap <<= 1;
@@ -55,7 +57,7 @@ class DedupTable {
 
   size_t size() const { return size_; }
   size_t capacity() const { return slots_.size(); }
-  size_t memory_bytes() const { return slots_.capacity() * sizeof(Slot); }
+  size_t memory_bytes() const { return slots_.size() * sizeof(Slot); }
 
  private:
   struct Slot {
@@ -81,6 +83,7 @@ class DedupTable {
   }
   HugeVector<Slot> slots_;
   size_t size_ = 0;
+  size_t first_cap_ = 16;
 };
 
 }  // namespace sheaf

@@ -191,6 +191,10 @@ TEST(DedupTable, SizeFollowsTheKeyCountAlone) {
     EXPECT_EQ(t.memory_bytes(), DedupTable<1>::memory_bytes_after(n)) << n;
     EXPECT_EQ(t2.memory_bytes(), DedupTable<2>::memory_bytes_after(n)) << n;
   }
+  // A table that is built and never used (a spread run's reduce job) holds
+  // no slots.
+  EXPECT_EQ(DedupTable<2>().memory_bytes(), 0u);
+  EXPECT_EQ(DedupTable<2>::memory_bytes_after(0), 0u);
 }
 
 TEST(Script, DropsWrongScriptSides) {
