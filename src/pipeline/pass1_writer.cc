@@ -138,7 +138,7 @@ class Pass1WriterImpl {
       try {
         arena.execute([&] {
           pool.run_pipeline(
-              line_block_source(in, carry, pool, 1 << 18, [](std::string& block) -> std::string& { return block; }) &
+              line_block_source(in, carry, pool, 1 << 16, [](std::string& block) -> std::string& { return block; }) &
                   tbb::make_filter<std::string*, void>(tbb::filter_mode::parallel, [&](std::string* block) {
                     TaskBody body;
                     handoff_acquire(block);
