@@ -1,6 +1,11 @@
 // ShardWriter: collects encoded pairs and writes them as one shard file,
 // atomically (a temporary name, then rename). Not thread-safe; the shard
 // step feeds it in input order.
+//
+// Memory: the ids are held at the shard's id width (2 or 4 bytes), in
+// blocks of 1 MiB, with 16 bytes a pair for where each pair ends; write()
+// makes the file in two streamed passes over them (checksums first, since
+// the header holds them, then the bytes), never a copy of the whole body.
 #pragma once
 
 #include <span>
@@ -27,7 +32,7 @@ class ShardWriter {
 
   void add(std::span<const uint32_t> source, std::span<const uint32_t> target);
   uint64_t pairs() const { return src_.ends.size(); }
-  uint64_t id_bytes() const { return (src_.ids.size() + tgt_.ids.size()) * s_.id_width; }
+  uint64_t id_bytes() const { return (src_.count() + tgt_.count()) * s_.id_width; }
 
   // Writes the collected pairs to `path`; clears the writer.
   struct Written {
@@ -35,14 +40,21 @@ class ShardWriter {
   };
   Result<Written> write(const std::string& path, uint32_t shard_index);
 
- private:
-  // One side's pairs: all ids back to back, and where each pair ends.
+  // One side's pairs: all ids back to back at the id width, in blocks of
+  // kBlock bytes (a pair's ids may run across two), and where each pair
+  // ends, in ids.
   struct Side {
-    std::vector<uint32_t> ids;
+    static constexpr size_t kBlock = 1 << 20;
+    std::vector<std::string> blocks;
     std::vector<uint64_t> ends;
+    uint64_t bytes = 0;
+    uint64_t count() const { return ends.empty() ? 0 : ends.back(); }
     uint64_t begin(size_t i) const { return i == 0 ? 0 : ends[i - 1]; }
     uint64_t length(size_t i) const { return ends[i] - begin(i); }
+    void append(const char* p, size_t n);
   };
+
+ private:
   ShardSettings s_;
   Side src_, tgt_;
 };

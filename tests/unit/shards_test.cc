@@ -7,6 +7,7 @@
 
 #include "core/stats.h"
 #include "shards/shard_reader.h"
+#include "shards/shard_writer.h"
 #include "subword/vocabulary.h"
 #include "test_util.h"
 
@@ -87,6 +88,62 @@ TEST_F(DemoRun, ShardHeadersAreConsistent) {
 
 // A shard written in format 1 (before the header held the special ids), as
 // the fuzz seed corpus keeps it, is still read.
+// The writer holds ids in 1 MiB blocks and streams the file in two passes;
+// pairs whose ids run across blocks, in input and length order, at both id
+// widths, read back exactly, and the body's CRC-32 is zlib's over the bytes
+// docs/shard-format.md names (after the header, before the trailing XXH3).
+TEST(ShardWriter, PairsAcrossBlocksReadBackInEitherOrder) {
+  test::TempDir dir;
+  for (uint32_t width : {2u, 4u}) {
+    for (ShardOrder order : {kInputOrder, kLengthOrder}) {
+      ShardSettings set;
+      set.id_width = width;
+      set.order = order;
+      ShardWriter w(set);
+      std::vector<std::pair<std::vector<uint32_t>, std::vector<uint32_t>>> pairs;
+      uint32_t x = 12345;
+      auto next = [&] { return (x = x * 1103515245u + 12345u) >> 16; };  // 15-bit ids fit both widths
+      for (int i = 0; i < 3000; ++i) {
+        size_t ns = i == 1000 ? 700000 : next() % 40, nt = i == 2000 ? 400000 : next() % 40;
+        std::vector<uint32_t> a(ns), b(nt);
+        for (auto& v : a) v = next() % 30000;
+        for (auto& v : b) v = next() % 30000;
+        w.add(a, b);
+        pairs.emplace_back(std::move(a), std::move(b));
+      }
+      std::string path = dir / ("s" + std::to_string(width) + std::to_string(order) + ".shard");
+      auto written = w.write(path, 7);
+      ASSERT_TRUE(written.ok()) << written.error().message();
+      EXPECT_EQ(w.pairs(), 0u);
+      std::vector<size_t> want(pairs.size());
+      for (size_t i = 0; i < want.size(); ++i) want[i] = i;
+      if (order == kLengthOrder)
+        std::stable_sort(want.begin(), want.end(), [&](size_t a, size_t b) {
+          return std::pair(pairs[a].first.size(), pairs[a].second.size()) <
+                 std::pair(pairs[b].first.size(), pairs[b].second.size());
+        });
+      auto r = ShardReader::open(path);
+      ASSERT_TRUE(r.ok()) << r.error().message();
+      EXPECT_EQ(r->header().shard_index, 7u);
+      EXPECT_EQ(r->header().id_width, width);
+      std::string bytes = test::read_file(path);
+      EXPECT_EQ(bytes.size(), r->header().file_size);
+      EXPECT_EQ(bytes.size(), written->size);
+      uLong crc = crc32(0, reinterpret_cast<const Bytef*>(bytes.data()) + kShardHeaderSize,
+                        static_cast<uInt>(bytes.size() - kShardHeaderSize - 8));
+      EXPECT_EQ(crc, r->header().body_crc32);
+      ASSERT_EQ(r->pairs(), pairs.size());
+      std::vector<uint32_t> got;
+      for (size_t k = 0; k < want.size(); ++k) {
+        r->ids(k, 0, got);
+        ASSERT_EQ(got, pairs[want[k]].first) << "pair " << k << " width " << width << " order " << order;
+        r->ids(k, 1, got);
+        ASSERT_EQ(got, pairs[want[k]].second) << "pair " << k << " width " << width << " order " << order;
+      }
+    }
+  }
+}
+
 TEST(ShardFormat, VersionOneIsStillRead) {
   auto r = ShardReader::open(test::source_dir() + "/tests/fuzz/corpus/shard_reader/dev.shard");
   ASSERT_TRUE(r.ok()) << r.error().describe();
