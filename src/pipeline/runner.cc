@@ -5,6 +5,7 @@
 #include <xxhash.h>
 
 #include <algorithm>
+#include <malloc.h>
 #include <memory>
 #include <thread>
 
@@ -342,6 +343,14 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   Status stepped;
   for (size_t k = 0; k < steps.size() && stepped.ok(); ++k) {
     ctx.spec = &p.stages[static_cast<size_t>(first_step) + k];
+#ifdef __GLIBC__
+    // Give the memory that pass 1 and the steps before freed back to the
+    // system before a step that may need much of its own (the learner):
+    // glibc keeps freed blocks for reuse, which the next step's different
+    // sizes seldom fit. 75 MiB less peak on the 200 MB full pipeline
+    // (docs/performance.md).
+    malloc_trim(0);
+#endif
     stepped = steps[k]->run(ctx);
     if (stepped.ok()) writer.keep_rows();
   }
