@@ -54,6 +54,41 @@ Error plan_error(const std::string& path, const std::string& what) {
   return Error(ErrorKind::kInput, what, Location{path, 0, 0, {}});
 }
 
+// A job's lock: a write lock (fcntl, which network file systems honour) on
+// "N.lock" beside the job's files, held until the process ends. A second
+// copy of the same job (a scheduler's requeue beside a hand re-run) stops at
+// once instead of writing over the first one's files, and a new plan is
+// refused while a job of the old one runs.
+class JobLock {
+ public:
+  JobLock() = default;
+  JobLock(const JobLock&) = delete;
+  JobLock& operator=(const JobLock&) = delete;
+  ~JobLock() {
+    if (fd_ >= 0) ::close(fd_);
+  }
+  // `job` names it in the message ("map job 3").
+  Status take(const std::string& path, const std::string& job) {
+    fd_ = ::open(path.c_str(), O_RDWR | O_CREAT | O_CLOEXEC | O_NOFOLLOW, 0644);
+    if (fd_ < 0)
+      return Error(ErrorKind::kIo, std::string("cannot make the job's lock file: ") + std::strerror(errno),
+                   Location{path, 0, 0, {}});
+    struct flock fl {};
+    fl.l_type = F_WRLCK;
+    fl.l_whence = SEEK_SET;
+    if (::fcntl(fd_, F_SETLK, &fl) == 0) return {};
+    int e = errno;
+    if (e == EACCES || e == EAGAIN)
+      return Error(ErrorKind::kUsage, job + " is running in another process; let it finish, or stop it, first",
+                   Location{path, 0, 0, {}});
+    return Error(ErrorKind::kIo, std::string("cannot lock the job's lock file: ") + std::strerror(e),
+                 Location{path, 0, 0, {}});
+  }
+
+ private:
+  int fd_ = -1;
+};
+
 Result<std::string> read_small(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   if (!in) return Error(ErrorKind::kInput, "cannot read it", Location{path, 0, 0, {}});
@@ -436,7 +471,14 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
     }
     j["parts"].push_back(pj);
   }
-  // A new plan makes the parts of an old one stale: they are removed.
+  // A new plan makes the parts of an old one stale: they are removed, unless
+  // a job of the old plan still runs.
+  for (const char* sub : {"/parts", "/buckets"})
+    for (const auto& e : fs::directory_iterator(work + sub, ec))
+      if (e.path().extension() == ".lock") {
+        JobLock held;
+        SHEAF_TRY(held.take(e.path().string(), "a job of the earlier plan (" + e.path().filename().string() + ")"));
+      }
   for (const char* sub : {"/parts", "/buckets"})
     for (const auto& e : fs::directory_iterator(work + sub, ec)) fs::remove(e.path(), ec);
   SHEAF_TRY(write_small(work + "/plan.json", j.dump(1) + "\n"));
@@ -458,7 +500,10 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   auto& stages = built.value();
   size_t prefix = stateless_prefix(stages);
 
-  // A re-run replaces what an earlier attempt left.
+  // A re-run replaces what an earlier attempt left, unless that attempt is
+  // still running.
+  JobLock lock;
+  SHEAF_TRY(lock.take(part_path(work, k, ".lock"), "map job " + std::to_string(k)));
   std::error_code ec;
   for (const char* ext : {".json", ".pairs", ".long"}) {
     fs::remove(part_path(work, k, ext), ec);
@@ -1025,10 +1070,23 @@ Result<SpreadStatus> spread_status(const std::string& work) {
   SpreadStatus s;
   s.parts = plan->parts.size();
   s.buckets = plan->buckets;
-  for (size_t k = 0; k < s.parts; ++k)
-    if (!read_part_info(work, k, *plan).ok()) s.missing.push_back(k);
-  for (size_t b = 0; b < s.buckets; ++b)
-    if (!read_bucket_info(work, b, *plan).ok()) s.missing_buckets.push_back(b);
+  // A job is done when its record is whole and its files have the sizes the
+  // record gives (their checksums are checked by the jobs that read them).
+  auto size_is = [](const std::string& path, uint64_t want) {
+    std::error_code ec;
+    uint64_t n = fs::file_size(path, ec);
+    return !ec && n == want;
+  };
+  for (size_t k = 0; k < s.parts; ++k) {
+    auto info = read_part_info(work, k, *plan);
+    bool done = info.ok() && size_is(part_path(work, k, ".pairs"), info->pairs_bytes) &&
+                (info->long_bytes == 0 || size_is(part_path(work, k, ".long"), info->long_bytes));
+    if (!done) s.missing.push_back(k);
+  }
+  for (size_t b = 0; b < s.buckets; ++b) {
+    auto info = read_bucket_info(work, b, *plan);
+    if (!info.ok() || !size_is(bucket_path(work, b, ".verdicts"), info->bytes)) s.missing_buckets.push_back(b);
+  }
   return s;
 }
 
@@ -1042,6 +1100,8 @@ Status spread_bucket(const std::string& work, size_t bucket) {
   if (!infos.ok()) return infos.error();
   std::vector<uint64_t> line0, pair0;
   part_starts(*plan, *infos, line0, pair0);
+  JobLock lock;
+  SHEAF_TRY(lock.take(bucket_path(work, bucket, ".lock"), "bucket job " + std::to_string(bucket)));
   std::error_code ec;
   for (const char* ext : {".json", ".verdicts"}) {
     fs::remove(bucket_path(work, bucket, ext), ec);
@@ -1256,7 +1316,10 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
   std::string map = common("sheaf-map", "map-%A_%a.log") + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
                     "\nexec " + quote(self) + " spread map " + quote(abs_work) +
                     " --part \"$SLURM_ARRAY_TASK_ID\" --threads " + std::to_string(threads) + "\n";
-  std::string reduce = common("sheaf-reduce", "reduce-%j.log") + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
+  // The jobs that wait on others are cancelled, not left pending for ever,
+  // when a job before them fails (sbatch(1), --kill-on-invalid-dep).
+  const std::string waits = "#SBATCH --kill-on-invalid-dep=yes\n";
+  std::string reduce = common("sheaf-reduce", "reduce-%j.log") + waits + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
                        " --threads " + std::to_string(threads) + (out_dir.empty() ? "" : " --out " + quote(out_dir)) +
                        " --force\n";
   SHEAF_TRY(write_small(abs_work + "/map.sbatch", map));
@@ -1264,7 +1327,7 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
   std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n";
   std::string before = "${map%%;*}";
   if (plan->buckets > 0) {
-    std::string bucket = common("sheaf-bucket", "bucket-%A_%a.log") + "#SBATCH --array=0-" +
+    std::string bucket = common("sheaf-bucket", "bucket-%A_%a.log") + waits + "#SBATCH --array=0-" +
                          std::to_string(plan->buckets - 1) + "\nexec " + quote(self) + " spread bucket " +
                          quote(abs_work) + " --bucket \"$SLURM_ARRAY_TASK_ID\"\n";
     SHEAF_TRY(write_small(abs_work + "/bucket.sbatch", bucket));

@@ -12,7 +12,9 @@
 #include <set>
 #include <thread>
 
+#include <fcntl.h>
 #include <signal.h>
+#include <unistd.h>
 #include <sys/wait.h>
 
 #include <xxhash.h>
@@ -397,6 +399,50 @@ TEST(Spread, SlurmScriptsChainTheJobs) {
   EXPECT_NE(r.out.find("--dependency=afterok:${map%%;*} '" + work + "/bucket.sbatch'"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("--dependency=afterok:${bucket%%;*} '" + work + "/reduce.sbatch'"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("--dependency=afterok:"), std::string::npos) << r.out;
+  // The jobs that wait are cancelled when a job before them fails, not left
+  // pending (sbatch(1) of Debian's slurm-wlm 22.05: --kill-on-invalid-dep).
+  EXPECT_NE(bucket.find("#SBATCH --kill-on-invalid-dep=yes\n"), std::string::npos) << bucket;
+  EXPECT_NE(reduce.find("#SBATCH --kill-on-invalid-dep=yes\n"), std::string::npos) << reduce;
+  EXPECT_EQ(map.find("kill-on-invalid-dep"), std::string::npos) << map;
+}
+
+// A second copy of a job that is still running (a requeued task beside a
+// hand re-run) stops at once and says so, and leaves the running job's
+// files alone; so does a new plan of the same work directory. The lock is
+// held here by this process, as the running job would hold it.
+TEST(Spread, ASecondCopyOfARunningJobStops) {
+  TempDir t;
+  std::string work = t / "work";
+  auto sheaf = [&](const std::string& args) { return run_shell("cd " + source_dir() + " && " + binary() + " " + args); };
+  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work).status, 0);
+  for (int k = 0; k < 3; ++k) ASSERT_EQ(sheaf("spread map " + work + " --part " + std::to_string(k)).status, 0);
+  std::string pairs = read_file(work + "/parts/2.pairs");
+  int fd = ::open((work + "/parts/2.lock").c_str(), O_RDWR);
+  ASSERT_GE(fd, 0);
+  struct flock fl {};
+  fl.l_type = F_WRLCK;
+  fl.l_whence = SEEK_SET;
+  ASSERT_EQ(::fcntl(fd, F_SETLK, &fl), 0);
+  Ran again = sheaf("spread map " + work + " --part 2");
+  EXPECT_EQ(again.status, 2);
+  EXPECT_NE(again.err.find("map job 2 is running in another process; let it finish, or stop it, first"),
+            std::string::npos)
+      << again.err;
+  EXPECT_EQ(read_file(work + "/parts/2.pairs"), pairs);
+  EXPECT_TRUE(fs::exists(work + "/parts/2.json"));
+  Ran plan = sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work);
+  EXPECT_NE(plan.status, 0);
+  EXPECT_NE(plan.err.find("a job of the earlier plan (2.lock) is running"), std::string::npos) << plan.err;
+  EXPECT_TRUE(fs::exists(work + "/parts/2.json"));
+  ::close(fd);  // the running job ends
+  EXPECT_EQ(sheaf("spread map " + work + " --part 2").status, 0);
+  EXPECT_EQ(read_file(work + "/parts/2.pairs"), pairs);
+  // A part file cut short under a whole record is not done.
+  std::string one = read_file(work + "/parts/1.pairs");
+  write_file(work + "/parts/1.pairs", one.substr(0, one.size() - 1));
+  Ran st = sheaf("spread status " + work);
+  EXPECT_EQ(st.status, 1);
+  EXPECT_EQ(st.out, "2 of 3 parts done; not done: 1\n0 of 2 buckets done; not done: 0 1\n") << st.out;
 }
 
 // A real cluster, where one answers (scripts/slurm-local start): the jobs
