@@ -40,9 +40,14 @@ Status OutputFile::open(const std::string& path) {
   return {};
 }
 
-void OutputFile::make_room(size_t n) {
-  if (buf_.size() + n > kBuffer) flush();
+void OutputFile::write_slow(std::string_view bytes) {
+  if (buf_.size() + bytes.size() > kBuffer) flush();
+  if (bytes.size() >= kBuffer) {
+    if (fd_ >= 0) put(bytes.data(), bytes.size());
+    return;
+  }
   if (buf_.capacity() < kBuffer) buf_.reserve(kBuffer);
+  buf_.append(bytes);
 }
 
 void OutputFile::flush() {

@@ -31,7 +31,10 @@ class OutputFile {
   // holds none.
   Status open(const std::string& path);
   void write(std::string_view bytes) {
-    if (buf_.size() + bytes.size() > buf_.capacity()) make_room(bytes.size());
+    if (buf_.size() + bytes.size() > buf_.capacity()) {
+      write_slow(bytes);
+      return;
+    }
     buf_.append(bytes);
   }
   // Writes `bytes` to the file at once, past the buffer (for a writer that
@@ -62,9 +65,11 @@ class OutputFile {
 
  private:
   // 256 KiB: one write(2) per 256 KiB costs nothing measurable, and a run
-  // keeps up to eight of these open (docs/performance.md, "Spread runs").
+  // keeps several of these open at once (each split, rejected.tsv, the
+  // split origins). A write of kBuffer or more goes to the file past the
+  // buffer, which so never grows beyond kBuffer.
   static constexpr size_t kBuffer = 256 << 10;
-  void make_room(size_t n);
+  void write_slow(std::string_view bytes);
   void flush();
   void put(const char* p, size_t n);
   std::string path_;

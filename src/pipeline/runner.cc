@@ -5,9 +5,12 @@
 #include <xxhash.h>
 
 #include <algorithm>
-#include <malloc.h>
 #include <memory>
 #include <thread>
+
+#ifdef __GLIBC__
+#include <malloc.h>  // malloc_trim
+#endif
 
 #include "core/batch_pool.h"
 #include "core/interrupt.h"

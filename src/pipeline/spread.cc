@@ -54,11 +54,13 @@ Error plan_error(const std::string& path, const std::string& what) {
   return Error(ErrorKind::kInput, what, Location{path, 0, 0, {}});
 }
 
-// A job's lock: a write lock (fcntl, which network file systems honour) on
-// "N.lock" beside the job's files, held until the process ends. A second
-// copy of the same job (a scheduler's requeue beside a hand re-run) stops at
-// once instead of writing over the first one's files, and a new plan is
-// refused while a job of the old one runs.
+// A job's lock: a write lock (fcntl) on "N.lock" beside the job's files,
+// held until the process ends. A second copy of the same job (a scheduler's
+// requeue beside a hand re-run) waits for the first and then finds its work
+// done; a new plan is refused while a job of the old one runs. Network file
+// systems honour these locks across nodes when they support locking at all
+// (NFS with its lock service, Lustre mounted with flock); where they do not,
+// the job says so and runs without the lock.
 class JobLock {
  public:
   JobLock() = default;
@@ -67,22 +69,34 @@ class JobLock {
   ~JobLock() {
     if (fd_ >= 0) ::close(fd_);
   }
-  // `job` names it in the message ("map job 3").
-  Status take(const std::string& path, const std::string& job) {
+  // Takes the lock for `job` ("map job 3"). With `wait`, waits while another
+  // process holds it and answers whether it had to; without, another
+  // holder is an error.
+  Result<bool> take(const std::string& path, const std::string& job, bool wait) {
     fd_ = ::open(path.c_str(), O_RDWR | O_CREAT | O_CLOEXEC | O_NOFOLLOW, 0644);
     if (fd_ < 0)
       return Error(ErrorKind::kIo, std::string("cannot make the job's lock file: ") + std::strerror(errno),
                    Location{path, 0, 0, {}});
-    struct flock fl {};
-    fl.l_type = F_WRLCK;
-    fl.l_whence = SEEK_SET;
-    if (::fcntl(fd_, F_SETLK, &fl) == 0) return {};
-    int e = errno;
-    if (e == EACCES || e == EAGAIN)
-      return Error(ErrorKind::kUsage, job + " is running in another process; let it finish, or stop it, first",
-                   Location{path, 0, 0, {}});
-    return Error(ErrorKind::kIo, std::string("cannot lock the job's lock file: ") + std::strerror(e),
-                 Location{path, 0, 0, {}});
+    bool waited = false;
+    for (;;) {
+      struct flock fl {};
+      fl.l_type = F_WRLCK;
+      fl.l_whence = SEEK_SET;
+      if (::fcntl(fd_, F_SETLK, &fl) == 0) return waited;
+      int e = errno;
+      if (e != EACCES && e != EAGAIN) {
+        std::fprintf(stderr, "sheaf: warning: %s: the file system does not lock files (%s); %s runs without its lock\n",
+                     path.c_str(), std::strerror(e), job.c_str());
+        return waited;
+      }
+      if (!wait)
+        return Error(ErrorKind::kUsage, job + " is running in another process; let it finish, or stop it, first",
+                     Location{path, 0, 0, {}});
+      if (!waited) std::fprintf(stderr, "sheaf: %s is running in another process; waiting for it\n", job.c_str());
+      waited = true;
+      if (interrupt_requested().load()) return interrupted_error();
+      ::usleep(200 * 1000);
+    }
   }
 
  private:
@@ -472,18 +486,33 @@ Result<SpreadPlan> spread_plan(const std::string& pipeline, const std::vector<st
     j["parts"].push_back(pj);
   }
   // A new plan makes the parts of an old one stale: they are removed, unless
-  // a job of the old plan still runs.
+  // a job of the old plan still runs. The jobs' locks are held until the
+  // files are gone, and the (empty) lock files stay: a job that holds one
+  // keeps excluding its second copies.
+  std::vector<std::unique_ptr<JobLock>> held;
   for (const char* sub : {"/parts", "/buckets"})
     for (const auto& e : fs::directory_iterator(work + sub, ec))
       if (e.path().extension() == ".lock") {
-        JobLock held;
-        SHEAF_TRY(held.take(e.path().string(), "a job of the earlier plan (" + e.path().filename().string() + ")"));
+        held.push_back(std::make_unique<JobLock>());
+        auto took = held.back()->take(e.path().string(),
+                                      "a job of the earlier plan (" + e.path().filename().string() + ")", false);
+        if (!took.ok()) return took.error();
       }
   for (const char* sub : {"/parts", "/buckets"})
-    for (const auto& e : fs::directory_iterator(work + sub, ec)) fs::remove(e.path(), ec);
+    for (const auto& e : fs::directory_iterator(work + sub, ec))
+      if (e.path().extension() != ".lock") fs::remove(e.path(), ec);
   SHEAF_TRY(write_small(work + "/plan.json", j.dump(1) + "\n"));
   return plan;
 }
+
+namespace {
+// A job is done when its record is whole and names this plan, and its part
+// or verdict files have the sizes the record gives (their checksums are
+// checked by the jobs that read them; a part's key files by the bucket
+// jobs).
+bool part_done(const std::string& work, size_t k, const SpreadPlan& plan);
+bool bucket_done(const std::string& work, size_t b, const SpreadPlan& plan);
+}  // namespace
 
 Status spread_map(const std::string& work, size_t k, int threads) {
   auto plan = read_spread_plan(work);
@@ -503,7 +532,12 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   // A re-run replaces what an earlier attempt left, unless that attempt is
   // still running.
   JobLock lock;
-  SHEAF_TRY(lock.take(part_path(work, k, ".lock"), "map job " + std::to_string(k)));
+  auto waited = lock.take(part_path(work, k, ".lock"), "map job " + std::to_string(k), true);
+  if (!waited.ok()) return waited.error();
+  if (*waited && part_done(work, k, *plan)) {
+    std::fprintf(stderr, "sheaf: map job %zu was done by the other process; nothing left to do\n", k);
+    return {};
+  }
   std::error_code ec;
   for (const char* ext : {".json", ".pairs", ".long"}) {
     fs::remove(part_path(work, k, ext), ec);
@@ -793,6 +827,23 @@ Result<BucketInfo> read_bucket_info(const std::string& work, size_t b, const Spr
   return info;
 }
 
+bool size_is(const std::string& path, uint64_t want) {
+  std::error_code ec;
+  uint64_t n = fs::file_size(path, ec);
+  return !ec && n == want;
+}
+
+bool part_done(const std::string& work, size_t k, const SpreadPlan& plan) {
+  auto info = read_part_info(work, k, plan);
+  return info.ok() && size_is(part_path(work, k, ".pairs"), info->pairs_bytes) &&
+         (info->long_bytes == 0 || size_is(part_path(work, k, ".long"), info->long_bytes));
+}
+
+bool bucket_done(const std::string& work, size_t b, const SpreadPlan& plan) {
+  auto info = read_bucket_info(work, b, plan);
+  return info.ok() && size_is(bucket_path(work, b, ".verdicts"), info->bytes);
+}
+
 // The parts' pairs, in input order, as pass 1's batches.
 class PartsSource : public BatchSource {
  public:
@@ -1070,23 +1121,10 @@ Result<SpreadStatus> spread_status(const std::string& work) {
   SpreadStatus s;
   s.parts = plan->parts.size();
   s.buckets = plan->buckets;
-  // A job is done when its record is whole and its files have the sizes the
-  // record gives (their checksums are checked by the jobs that read them).
-  auto size_is = [](const std::string& path, uint64_t want) {
-    std::error_code ec;
-    uint64_t n = fs::file_size(path, ec);
-    return !ec && n == want;
-  };
-  for (size_t k = 0; k < s.parts; ++k) {
-    auto info = read_part_info(work, k, *plan);
-    bool done = info.ok() && size_is(part_path(work, k, ".pairs"), info->pairs_bytes) &&
-                (info->long_bytes == 0 || size_is(part_path(work, k, ".long"), info->long_bytes));
-    if (!done) s.missing.push_back(k);
-  }
-  for (size_t b = 0; b < s.buckets; ++b) {
-    auto info = read_bucket_info(work, b, *plan);
-    if (!info.ok() || !size_is(bucket_path(work, b, ".verdicts"), info->bytes)) s.missing_buckets.push_back(b);
-  }
+  for (size_t k = 0; k < s.parts; ++k)
+    if (!part_done(work, k, *plan)) s.missing.push_back(k);
+  for (size_t b = 0; b < s.buckets; ++b)
+    if (!bucket_done(work, b, *plan)) s.missing_buckets.push_back(b);
   return s;
 }
 
@@ -1101,7 +1139,12 @@ Status spread_bucket(const std::string& work, size_t bucket) {
   std::vector<uint64_t> line0, pair0;
   part_starts(*plan, *infos, line0, pair0);
   JobLock lock;
-  SHEAF_TRY(lock.take(bucket_path(work, bucket, ".lock"), "bucket job " + std::to_string(bucket)));
+  auto waited = lock.take(bucket_path(work, bucket, ".lock"), "bucket job " + std::to_string(bucket), true);
+  if (!waited.ok()) return waited.error();
+  if (*waited && bucket_done(work, bucket, *plan)) {
+    std::fprintf(stderr, "sheaf: bucket job %zu was done by the other process; nothing left to do\n", bucket);
+    return {};
+  }
   std::error_code ec;
   for (const char* ext : {".json", ".verdicts"}) {
     fs::remove(bucket_path(work, bucket, ext), ec);
@@ -1306,20 +1349,21 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
     return q + "'";
   };
   std::string header = "#!/bin/sh\n";
-  auto common = [&](const std::string& name, const char* log) {
+  // The jobs that wait on others are cancelled, not left pending for ever,
+  // when a job before them fails (sbatch(1), --kill-on-invalid-dep); ahead
+  // of the user's --sbatch lines, which can say otherwise.
+  const std::string waits = "#SBATCH --kill-on-invalid-dep=yes\n";
+  auto common = [&](const std::string& name, const char* log, bool waiting) {
     std::string h = header + "#SBATCH --job-name=" + name + "\n#SBATCH --cpus-per-task=" + std::to_string(threads) +
-                    "\n#SBATCH --output=" + abs_work + "/logs/" + log + "\n";
+                    "\n#SBATCH --output=" + abs_work + "/logs/" + log + "\n" + (waiting ? waits : "");
     for (const auto& e : extra) h += "#SBATCH " + e + "\n";
     return h;
   };
   fs::create_directories(abs_work + "/logs", ec);
-  std::string map = common("sheaf-map", "map-%A_%a.log") + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
+  std::string map = common("sheaf-map", "map-%A_%a.log", false) + "#SBATCH --array=0-" + std::to_string(plan->parts.size() - 1) +
                     "\nexec " + quote(self) + " spread map " + quote(abs_work) +
                     " --part \"$SLURM_ARRAY_TASK_ID\" --threads " + std::to_string(threads) + "\n";
-  // The jobs that wait on others are cancelled, not left pending for ever,
-  // when a job before them fails (sbatch(1), --kill-on-invalid-dep).
-  const std::string waits = "#SBATCH --kill-on-invalid-dep=yes\n";
-  std::string reduce = common("sheaf-reduce", "reduce-%j.log") + waits + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
+  std::string reduce = common("sheaf-reduce", "reduce-%j.log", true) + "exec " + quote(self) + " spread reduce " + quote(abs_work) +
                        " --threads " + std::to_string(threads) + (out_dir.empty() ? "" : " --out " + quote(out_dir)) +
                        " --force\n";
   SHEAF_TRY(write_small(abs_work + "/map.sbatch", map));
@@ -1327,7 +1371,7 @@ Result<std::string> spread_slurm(const std::string& self, const std::string& wor
   std::string cmds = "map=$(sbatch --parsable " + quote(abs_work + "/map.sbatch") + ")\n";
   std::string before = "${map%%;*}";
   if (plan->buckets > 0) {
-    std::string bucket = common("sheaf-bucket", "bucket-%A_%a.log") + waits + "#SBATCH --array=0-" +
+    std::string bucket = common("sheaf-bucket", "bucket-%A_%a.log", true) + "#SBATCH --array=0-" +
                          std::to_string(plan->buckets - 1) + "\nexec " + quote(self) + " spread bucket " +
                          quote(abs_work) + " --bucket \"$SLURM_ARRAY_TASK_ID\"\n";
     SHEAF_TRY(write_small(abs_work + "/bucket.sbatch", bucket));

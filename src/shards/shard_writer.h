@@ -3,7 +3,8 @@
 // step feeds it in input order.
 //
 // Memory: the ids are held at the shard's id width (2 or 4 bytes), in
-// blocks of 1 MiB, with 16 bytes a pair for where each pair ends; write()
+// blocks of 1 MiB, with 16 bytes a pair for where each pair ends (and 8
+// more while a length-ordered shard is written, for the order); write()
 // makes the file in two streamed passes over them (checksums first, since
 // the header holds them, then the bytes), never a copy of the whole body.
 #pragma once

@@ -149,7 +149,7 @@ TEST(Edges, AnOutputRewoundToAMarkIsTheFileUpToIt) {
   }
   auto m = f.mark();
   EXPECT_EQ(m.size, kept.size());
-  // More than the 1 MiB buffer after the mark: some reaches the file.
+  // More than the 256 KiB buffer after the mark: some reaches the file.
   std::string step_row(1000, 'x');
   for (int i = 0; i < 3000; ++i) {
     f.write(step_row + "\n");

@@ -5,6 +5,9 @@
 
 #include <fstream>
 
+#include <xxhash.h>
+#include <zlib.h>
+
 #include "core/stats.h"
 #include "shards/shard_reader.h"
 #include "shards/shard_writer.h"
@@ -86,12 +89,11 @@ TEST_F(DemoRun, ShardHeadersAreConsistent) {
   EXPECT_EQ(pairs, (*manifest_)["splits"]["train"].get<uint64_t>());
 }
 
-// A shard written in format 1 (before the header held the special ids), as
-// the fuzz seed corpus keeps it, is still read.
 // The writer holds ids in 1 MiB blocks and streams the file in two passes;
 // pairs whose ids run across blocks, in input and length order, at both id
-// widths, read back exactly, and the body's CRC-32 is zlib's over the bytes
-// docs/shard-format.md names (after the header, before the trailing XXH3).
+// widths, read back exactly; the body is, byte for byte, the one
+// docs/shard-format.md lays out (built here from the spec, whole), and its
+// CRC-32 is zlib's over the bytes the spec names.
 TEST(ShardWriter, PairsAcrossBlocksReadBackInEitherOrder) {
   test::TempDir dir;
   for (uint32_t width : {2u, 4u}) {
@@ -102,12 +104,14 @@ TEST(ShardWriter, PairsAcrossBlocksReadBackInEitherOrder) {
       ShardWriter w(set);
       std::vector<std::pair<std::vector<uint32_t>, std::vector<uint32_t>>> pairs;
       uint32_t x = 12345;
-      auto next = [&] { return (x = x * 1103515245u + 12345u) >> 16; };  // 15-bit ids fit both widths
+      auto next = [&] { return (x = x * 1103515245u + 12345u) >> 8; };
+      // At width 4, ids past 16 bits: a writer that narrowed them would fail.
+      const uint32_t top = width == 2 ? 30000 : 5000000;
       for (int i = 0; i < 3000; ++i) {
         size_t ns = i == 1000 ? 700000 : next() % 40, nt = i == 2000 ? 400000 : next() % 40;
         std::vector<uint32_t> a(ns), b(nt);
-        for (auto& v : a) v = next() % 30000;
-        for (auto& v : b) v = next() % 30000;
+        for (auto& v : a) v = next() % top;
+        for (auto& v : b) v = next() % top;
         w.add(a, b);
         pairs.emplace_back(std::move(a), std::move(b));
       }
@@ -132,6 +136,26 @@ TEST(ShardWriter, PairsAcrossBlocksReadBackInEitherOrder) {
       uLong crc = crc32(0, reinterpret_cast<const Bytef*>(bytes.data()) + kShardHeaderSize,
                         static_cast<uInt>(bytes.size() - kShardHeaderSize - 8));
       EXPECT_EQ(crc, r->header().body_crc32);
+      // The body from the spec: zeros to byte 192; per side the (pairs + 1)
+      // u64 offsets and the ids at the id width, each padded with zeros to a
+      // multiple of 64; then the XXH3-64 of all of it.
+      std::string body(192 - kShardHeaderSize, '\0');
+      auto pad = [&] { body.resize(align_up(kShardHeaderSize + body.size()) - kShardHeaderSize, '\0'); };
+      for (int side = 0; side < 2; ++side) {
+        uint64_t end = 0;
+        body.append(reinterpret_cast<const char*>(&end), 8);
+        for (size_t i : want) {
+          end += (side == 0 ? pairs[i].first : pairs[i].second).size();
+          body.append(reinterpret_cast<const char*>(&end), 8);
+        }
+        pad();
+        for (size_t i : want)
+          for (uint32_t id : side == 0 ? pairs[i].first : pairs[i].second) body.append(reinterpret_cast<const char*>(&id), width);
+        pad();
+      }
+      uint64_t sum = XXH3_64bits(body.data(), body.size());
+      body.append(reinterpret_cast<const char*>(&sum), 8);
+      EXPECT_TRUE(bytes.compare(kShardHeaderSize, std::string::npos, body) == 0) << "width " << width << " order " << order;
       ASSERT_EQ(r->pairs(), pairs.size());
       std::vector<uint32_t> got;
       for (size_t k = 0; k < want.size(); ++k) {
@@ -144,6 +168,8 @@ TEST(ShardWriter, PairsAcrossBlocksReadBackInEitherOrder) {
   }
 }
 
+// A shard written in format 1 (before the header held the special ids), as
+// the fuzz seed corpus keeps it, is still read.
 TEST(ShardFormat, VersionOneIsStillRead) {
   auto r = ShardReader::open(test::source_dir() + "/tests/fuzz/corpus/shard_reader/dev.shard");
   ASSERT_TRUE(r.ok()) << r.error().describe();

@@ -407,35 +407,49 @@ TEST(Spread, SlurmScriptsChainTheJobs) {
 }
 
 // A second copy of a job that is still running (a requeued task beside a
-// hand re-run) stops at once and says so, and leaves the running job's
-// files alone; so does a new plan of the same work directory. The lock is
-// held here by this process, as the running job would hold it.
-TEST(Spread, ASecondCopyOfARunningJobStops) {
+// hand re-run) waits for the first, then finds the work done and leaves the
+// files alone; if the first died unfinished, the second does the work. A
+// new plan of the same work directory is refused while a job runs. The lock
+// is held here by this process, as the running job would hold it.
+TEST(Spread, ASecondCopyOfARunningJobWaitsForIt) {
   TempDir t;
   std::string work = t / "work";
   auto sheaf = [&](const std::string& args) { return run_shell("cd " + source_dir() + " && " + binary() + " " + args); };
   ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work).status, 0);
   for (int k = 0; k < 3; ++k) ASSERT_EQ(sheaf("spread map " + work + " --part " + std::to_string(k)).status, 0);
   std::string pairs = read_file(work + "/parts/2.pairs");
-  int fd = ::open((work + "/parts/2.lock").c_str(), O_RDWR);
-  ASSERT_GE(fd, 0);
-  struct flock fl {};
-  fl.l_type = F_WRLCK;
-  fl.l_whence = SEEK_SET;
-  ASSERT_EQ(::fcntl(fd, F_SETLK, &fl), 0);
-  Ran again = sheaf("spread map " + work + " --part 2");
-  EXPECT_EQ(again.status, 2);
-  EXPECT_NE(again.err.find("map job 2 is running in another process; let it finish, or stop it, first"),
-            std::string::npos)
-      << again.err;
+  auto hold = [&] {
+    int fd = ::open((work + "/parts/2.lock").c_str(), O_RDWR);
+    struct flock fl {};
+    fl.l_type = F_WRLCK;
+    fl.l_whence = SEEK_SET;
+    EXPECT_EQ(::fcntl(fd, F_SETLK, &fl), 0);
+    return fd;
+  };
+  auto second = [&](int fd, const std::string& err) {
+    pid_t pid = start_sheaf("spread map " + work + " --part 2", err);
+    std::this_thread::sleep_for(std::chrono::milliseconds(500));
+    int status = 0;
+    EXPECT_EQ(::waitpid(pid, &status, WNOHANG), 0) << "the second copy did not wait";
+    EXPECT_EQ(read_file(work + "/parts/2.pairs"), pairs);
+    Ran plan = sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work);
+    EXPECT_EQ(plan.status, 2);
+    EXPECT_NE(plan.err.find("a job of the earlier plan (2.lock) is running in another process"), std::string::npos)
+        << plan.err;
+    ::close(fd);  // the first copy ends
+    EXPECT_EQ(::waitpid(pid, &status, 0), pid);
+    EXPECT_TRUE(WIFEXITED(status) && WEXITSTATUS(status) == 0) << read_file(err);
+    EXPECT_NE(read_file(err).find("map job 2 is running in another process; waiting for it"), std::string::npos)
+        << read_file(err);
+  };
+  second(hold(), t / "err1");
+  EXPECT_NE(read_file(t / "err1").find("map job 2 was done by the other process; nothing left to do"), std::string::npos);
   EXPECT_EQ(read_file(work + "/parts/2.pairs"), pairs);
+  // The first copy died before it wrote its record: the second maps part 2.
+  fs::remove(work + "/parts/2.json");
+  second(hold(), t / "err2");
+  EXPECT_EQ(read_file(t / "err2").find("nothing left to do"), std::string::npos);
   EXPECT_TRUE(fs::exists(work + "/parts/2.json"));
-  Ran plan = sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work);
-  EXPECT_NE(plan.status, 0);
-  EXPECT_NE(plan.err.find("a job of the earlier plan (2.lock) is running"), std::string::npos) << plan.err;
-  EXPECT_TRUE(fs::exists(work + "/parts/2.json"));
-  ::close(fd);  // the running job ends
-  EXPECT_EQ(sheaf("spread map " + work + " --part 2").status, 0);
   EXPECT_EQ(read_file(work + "/parts/2.pairs"), pairs);
   // A part file cut short under a whole record is not done.
   std::string one = read_file(work + "/parts/1.pairs");
@@ -443,6 +457,10 @@ TEST(Spread, ASecondCopyOfARunningJobStops) {
   Ran st = sheaf("spread status " + work);
   EXPECT_EQ(st.status, 1);
   EXPECT_EQ(st.out, "2 of 3 parts done; not done: 1\n0 of 2 buckets done; not done: 0 1\n") << st.out;
+  // With no job running, a new plan clears the parts and keeps the locks.
+  ASSERT_EQ(sheaf("spread plan pipelines/demo.toml --parts 3 --buckets 2 --work " + work).status, 0);
+  EXPECT_FALSE(fs::exists(work + "/parts/2.json"));
+  EXPECT_TRUE(fs::exists(work + "/parts/2.lock"));
 }
 
 // A real cluster, where one answers (scripts/slurm-local start): the jobs
