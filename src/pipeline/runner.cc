@@ -334,6 +334,12 @@ Result<RunRecord> run_pipeline(const Pipeline& pipeline_in, const RunOptions& o)
   }
   for (size_t i = 0; i < stages.size(); ++i)
     rec.stages[i + 1].counters = i < from ? source->counters(i) : stages[i]->counters();
+  // Pass 1 is over: the stages' tables (dedup, near-dup) and the source are
+  // freed before the steps, which may need much memory of their own. The
+  // split stage stays: pass 1's writer routes and checks with it.
+  source.reset();
+  for (auto& st : stages)
+    if (!st->router()) st.reset();
 
   // The steps after pass 1, in pipeline order (the loader checked that each
   // comes after what it needs), then the closing steps the caller gave.
