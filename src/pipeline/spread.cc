@@ -99,6 +99,19 @@ class JobLock {
     }
   }
 
+  // Takes the lock for `job`, waiting for another copy that holds it: true
+  // when the job is left to do, false when that copy finished it (`done`)
+  // while this one waited.
+  Result<bool> claim(const std::string& path, const std::string& job, const std::function<bool()>& done) {
+    auto waited = take(path, job, true);
+    if (!waited.ok()) return waited.error();
+    if (*waited && done()) {
+      std::fprintf(stderr, "sheaf: %s was done by the other process; nothing left to do\n", job.c_str());
+      return false;
+    }
+    return true;
+  }
+
  private:
   int fd_ = -1;
 };
@@ -532,12 +545,10 @@ Status spread_map(const std::string& work, size_t k, int threads) {
   // A re-run replaces what an earlier attempt left, unless that attempt is
   // still running.
   JobLock lock;
-  auto waited = lock.take(part_path(work, k, ".lock"), "map job " + std::to_string(k), true);
-  if (!waited.ok()) return waited.error();
-  if (*waited && part_done(work, k, *plan)) {
-    std::fprintf(stderr, "sheaf: map job %zu was done by the other process; nothing left to do\n", k);
-    return {};
-  }
+  auto todo = lock.claim(part_path(work, k, ".lock"), "map job " + std::to_string(k),
+                         [&] { return part_done(work, k, *plan); });
+  if (!todo.ok()) return todo.error();
+  if (!*todo) return {};
   std::error_code ec;
   for (const char* ext : {".json", ".pairs", ".long"}) {
     fs::remove(part_path(work, k, ext), ec);
@@ -1139,12 +1150,10 @@ Status spread_bucket(const std::string& work, size_t bucket) {
   std::vector<uint64_t> line0, pair0;
   part_starts(*plan, *infos, line0, pair0);
   JobLock lock;
-  auto waited = lock.take(bucket_path(work, bucket, ".lock"), "bucket job " + std::to_string(bucket), true);
-  if (!waited.ok()) return waited.error();
-  if (*waited && bucket_done(work, bucket, *plan)) {
-    std::fprintf(stderr, "sheaf: bucket job %zu was done by the other process; nothing left to do\n", bucket);
-    return {};
-  }
+  auto todo = lock.claim(bucket_path(work, bucket, ".lock"), "bucket job " + std::to_string(bucket),
+                         [&] { return bucket_done(work, bucket, *plan); });
+  if (!todo.ok()) return todo.error();
+  if (!*todo) return {};
   std::error_code ec;
   for (const char* ext : {".json", ".verdicts"}) {
     fs::remove(bucket_path(work, bucket, ext), ec);
