@@ -4,6 +4,7 @@
 #include <unicode/utf8.h>
 
 #include <algorithm>
+#include <cmath>
 #include <vector>
 
 #include "core/text.h"
@@ -83,15 +84,26 @@ double trigram_overlap_bound(std::string_view a, std::string_view b, double stop
   // that is at most stop_at's share, the rest of `b` cannot change the
   // caller's decision.
   const double limit = stop_at * static_cast<double>(nx + ny) / 2.0;
+  // The least number of misses m >= 1 with ny - m <= limit (the test as
+  // written, so that rounding cannot move it), or ny + 1 for none: hits and
+  // misses are then counted without a branch per window, which a
+  // translation's windows, half hits and half misses, kept mispredicting.
+  auto enough = [&](size_t m) { return static_cast<double>(ny - m) <= limit; };
+  size_t stop_misses = ny + 1;
+  if (ny >= 1 && enough(ny)) {
+    double guess = std::ceil(static_cast<double>(ny) - limit);
+    size_t m = guess <= 1.0 ? 1 : std::min(ny, static_cast<size_t>(guess));
+    while (m > 1 && enough(m - 1)) --m;
+    while (!enough(m)) ++m;
+    stop_misses = m;
+  }
   size_t hits = 0, misses = 0;
   bool stopped = false;
   size_t ascii_b = windows(b, [&](uint32_t k) {
-    if ((set[slot(k) >> 6] >> (slot(k) & 63)) & 1) {
-      ++hits;
-      return false;
-    }
-    ++misses;
-    return stopped = static_cast<double>(ny - misses) <= limit;
+    size_t hit = (set[slot(k) >> 6] >> (slot(k) & 63)) & 1;
+    hits += hit;
+    misses += hit ^ 1;
+    return stopped = misses >= stop_misses;
   });
   if (stopped) return 2.0 * static_cast<double>(ny - misses) / static_cast<double>(nx + ny);
   size_t common = std::min(hits, ascii_a) + std::min(nx - ascii_a, ny - ascii_b);

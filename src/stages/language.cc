@@ -238,6 +238,7 @@ class LanguageStage : public Stage {
     }
   }
   void map(PairBatch& batch) override {
+    load_word_lists(lists_);  // after the first batches: a few atomic reads
     std::string owns[2];
     size_t letters[2];
     uint64_t judged[2] = {0, 0}, settled[2] = {0, 0}, few[2] = {0, 0}, rechecked[2] = {0, 0}, worded[2] = {0, 0},

@@ -7,6 +7,7 @@
 #include <xxhash.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cctype>
 #include <filesystem>
 #include <hunspell/hunspell.hxx>
@@ -28,6 +29,14 @@ class WordList {
     if (conv_) ucnv_close(conv_);
   }
   const std::string& name() const { return name_; }
+
+  // Loads the dictionary now unless it is loaded or another thread holds
+  // it (loading it, or asking it).
+  void try_load() {
+    if (ready_.load(std::memory_order_acquire)) return;
+    std::unique_lock<std::mutex> lock(mu_, std::try_to_lock);
+    if (lock.owns_lock() && !dict_) load();
+  }
 
   bool accepts(std::string_view word) {
     std::lock_guard<std::mutex> lock(mu_);
@@ -63,6 +72,7 @@ class WordList {
         ucnv_setFromUCallBack(conv_, UCNV_FROM_U_CALLBACK_STOP, nullptr, nullptr, nullptr, &st);
       }
     }
+    ready_.store(true, std::memory_order_release);
   }
 
   std::string name_, aff_, dic_;
@@ -70,6 +80,7 @@ class WordList {
   std::unique_ptr<Hunspell> dict_;
   UConverter* conv_ = nullptr;
   bool broken_ = false;
+  std::atomic<bool> ready_{false};  // loaded (set under mu_, read without it)
 };
 
 namespace {
@@ -126,6 +137,11 @@ const WordList* find_word_list(const std::string& dir, std::string_view code) {
 }
 
 const std::string& word_list_name(const WordList* list) { return list->name(); }
+
+void load_word_lists(const std::vector<const WordList*>& lists) {
+  for (const WordList* list : lists)
+    if (list) const_cast<WordList*>(list)->try_load();
+}
 
 bool word_list_accepts(const WordList* list, std::string_view word) {
   return const_cast<WordList*>(list)->accepts(word);

@@ -34,6 +34,13 @@ const WordList* find_word_list(const std::string& dir, std::string_view code);
 // The file name (without .dic) of a found dictionary, for messages and tests.
 const std::string& word_list_name(const WordList* list);
 
+// Loads those of `lists` that are not loaded and that no other thread is
+// loading or asking. Threads that start on the same set call it first, so
+// that they load its dictionaries side by side instead of each waiting for
+// the one loading the dictionary it asked about first (7 dictionaries for
+// Spanish: about 0.6 s of one core).
+void load_word_lists(const std::vector<const WordList*>& lists);
+
 // True when `list` accepts `word` (UTF-8; a word's capitalisation as in
 // running text is accepted as the dictionary allows). Thread-safe: a mutex
 // per dictionary (Hunspell objects are not safe to share), so callers
