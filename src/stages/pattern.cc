@@ -1,5 +1,6 @@
 #include "stages/pattern.h"
 
+#include <re2/filtered_re2.h>
 #include <re2/re2.h>
 
 #include <algorithm>
@@ -12,12 +13,60 @@ namespace sheaf {
 
 namespace {
 
+// True when `text` holds `atom` (ASCII, lowercase) in any ASCII case. The
+// search runs memchr on the atom's first byte that is not a letter, or on
+// both cases of its first letter.
+bool holds_atom(std::string_view text, std::string_view atom) {
+  auto lower = [](char c) { return static_cast<char>(c >= 'A' && c <= 'Z' ? c | 0x20 : c); };
+  auto at = [&](size_t begin) {
+    if (begin + atom.size() > text.size()) return false;
+    for (size_t i = 0; i < atom.size(); ++i)
+      if (lower(text[begin + i]) != atom[i]) return false;
+    return true;
+  };
+  auto scan = [&](char c, size_t k) {  // c sits at atom[k]
+    for (size_t i = text.find(c, k); i != std::string_view::npos; i = text.find(c, i + 1))
+      if (at(i - k)) return true;
+    return false;
+  };
+  for (size_t k = 0; k < atom.size(); ++k)
+    if (static_cast<unsigned char>((atom[k] | 0x20) - 'a') >= 26) return scan(atom[k], k);
+  return scan(atom[0], 0) || scan(static_cast<char>(atom[0] & ~0x20), 0);
+}
+
 struct Rule {
   std::string name;
   std::unique_ptr<RE2> re;
   bool side[2];
   bool drop;
   std::string replacement;
+  // RE2's prefilter of the pattern (re2/filtered_re2.h): the strings a text
+  // must hold for the pattern to match at all. Most text holds no '@' or
+  // "://", and looking for them costs a memchr where the full search costs
+  // a pass of RE2's automaton. Off (null) when the pattern needs no string
+  // or needs one with bytes outside ASCII (the prefilter lowercases those
+  // in its own way): then every text is searched.
+  std::unique_ptr<re2::FilteredRE2> filter;
+  std::vector<std::string> atoms;
+  bool folds = false;  // an atom holds 's' or 'k'
+
+  bool may_match(std::string_view text) const {
+    if (!filter) return true;
+    // The prefilter reads U+017F and U+212A as 's' and 'k' (the only code
+    // points it relates to ASCII: tests/unit/pattern_test.cc asks RE2 about
+    // every one), which a byte search would not see.
+    if (folds && (text.find("\xC5\xBF") != std::string_view::npos || text.find("\xE2\x84\xAA") != std::string_view::npos))
+      return true;
+    thread_local std::vector<int> found, passed;
+    found.clear();
+    for (size_t i = 0; i < atoms.size(); ++i)
+      if (holds_atom(text, atoms[i])) found.push_back(static_cast<int>(i));
+    filter->AllPotentials(found, &passed);
+    return !passed.empty();
+  }
+  bool matches(std::string_view text) const {
+    return may_match(text) && RE2::PartialMatch(re2::StringPiece(text.data(), text.size()), *re);
+  }
 };
 
 // Counters of one rewrite (or of markup) per side: pairs whose side it changed.
@@ -42,7 +91,7 @@ class PatternStage : public Stage {
         for (int side = 0; side < 2 && p.kept(); ++side) {
           if (!r.side[side]) continue;
           std::string_view t = p.text[side];
-          if (!RE2::PartialMatch(re2::StringPiece(t.data(), t.size()), *r.re)) continue;
+          if (!r.matches(t)) continue;
           if (r.drop) {
             batch.drop(p, index_, r.name);
             break;
@@ -77,7 +126,7 @@ class PatternStage : public Stage {
     }
     for (const Rule& r : rules_) {
       if (!r.side[side]) continue;
-      if (!RE2::PartialMatch(text, *r.re)) continue;
+      if (!r.matches(text)) continue;
       if (r.drop) return false;
       RE2::GlobalReplace(&text, *r.re, r.replacement);
       collapse_spaces(text);
@@ -211,6 +260,18 @@ Result<std::unique_ptr<Stage>> make_pattern(const StageContext& ctx) {
                    "stage \"" + ctx.spec->name + "\": rule \"" + r.name + "\": invalid pattern: " + r.re->error() +
                        (r.re->error_arg().empty() ? "" : " at \"" + r.re->error_arg() + "\""),
                    where);
+    r.filter = std::make_unique<re2::FilteredRE2>(1);
+    int id = 0;
+    if (r.filter->Add(p.text("pattern"), opt, &id) == RE2::NoError) {
+      r.filter->Compile(&r.atoms);
+      bool ascii = true;
+      for (const std::string& a : r.atoms)
+        for (char c : a) ascii &= static_cast<unsigned char>(c) < 0x80;
+      if (r.atoms.empty() || !ascii) r.filter.reset();
+      for (const std::string& a : r.atoms) r.folds |= a.find_first_of("sk") != std::string::npos;
+    } else {
+      r.filter.reset();
+    }
     const std::string& side = p.text("side");
     r.side[0] = side != "target";
     r.side[1] = side != "source";

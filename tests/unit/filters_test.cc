@@ -1,5 +1,7 @@
 // The filter stages: every option and every reason code.
 #include <gtest/gtest.h>
+#include <re2/re2.h>
+#include <unicode/utf8.h>
 
 #include <random>
 #include <unordered_map>
@@ -279,6 +281,73 @@ TEST(Pattern, MarkupLeavesBothSidesAlikeOrDropsThePair) {
   EXPECT_EQ(get("rewritten:markup:source"), 2u);
   EXPECT_EQ(get("rewritten:markup:target"), 2u);
   EXPECT_EQ(get("rewritten:entities:source"), 1u);
+}
+
+// The stage asks RE2's prefilter (re2/filtered_re2.h) which strings a text
+// must hold before it runs a rule's search. Held to RE2's own answers: the
+// stage drops exactly the texts RE2::PartialMatch matches, for rules the
+// prefilter handles (addresses, case-insensitive words, 's' and 'k', whose
+// case orbits hold U+017F and U+212A) and rules it cannot (no required
+// string, a non-ASCII one), on random texts over an alphabet of the atoms'
+// bytes in both cases and the folding code points.
+TEST(Pattern, PrefilterDropsExactlyWhatRe2Matches) {
+  // Reference: RE2 itself. The code points outside ASCII that it matches
+  // with an ASCII letter or digit, case-insensitively, are the two the stage
+  // looks for.
+  std::vector<uint32_t> folding;
+  RE2 ascii("(?i)[a-z0-9]");
+  for (uint32_t c = 0x80; c < 0x110000; ++c) {
+    if (c >= 0xD800 && c < 0xE000) continue;
+    char b[4];
+    int32_t n = 0;
+    U8_APPEND_UNSAFE(b, n, c);
+    if (RE2::PartialMatch(re2::StringPiece(b, static_cast<size_t>(n)), ascii)) folding.push_back(c);
+  }
+  EXPECT_EQ(folding, (std::vector<uint32_t>{0x017F, 0x212A}));
+
+  const std::vector<std::string> patterns = {
+      "[A-Za-z0-9._%+-]+@[A-Za-z0-9-]+(\\.[A-Za-z0-9-]+)+",  // the default rules
+      "(https?://|www\\.)\\S+",
+      "(?i)kelvin",
+      "s+k",
+      "\\x{212A}",
+      "(?i)caf\u00e9 bar",
+      "x?y?",
+      "(?i)(http|ftp)s?:",
+  };
+  const std::vector<std::string> alphabet = {"a", "b", "e", "f", "h", "H", "i", "k", "K", "l", "n", "p", "P",
+                                             "r", "s", "S", "t", "T", "v", "w", "W", "x", "y", "@", ".", ":",
+                                             "/", " ", "-", "\u017f", "\u212a", "\u00e9", "\u00c9", "caf\u00e9",
+                                             "http", "HTTPS", "www.", "kelvin", "KELVIN", "a@b.c", "ftp", "caf\u00e9 bar",
+                                             "CAF\u00c9 BAR", "\u212aelvin", "\u212aELVIN"};
+  std::mt19937 rng(7);
+  std::vector<std::string> texts;
+  for (int i = 0; i < 3000; ++i) {
+    std::string t;
+    for (int n = static_cast<int>(rng() % 12) + 1; n > 0; --n) t += alphabet[rng() % alphabet.size()];
+    texts.push_back(t);
+  }
+  for (const std::string& pat : patterns) {
+    std::string esc;
+    for (char c : pat) {
+      if (c == '\\' || c == '"') esc += '\\';
+      esc += c;
+    }
+    test::StageHarness h("kind = \"pattern\"\nmarkup = \"keep\"\nrules = [{ name = \"r\", pattern = \"" + esc +
+                         "\", side = \"source\", action = \"drop\" }]");
+    ASSERT_TRUE(h.ok()) << h.error();
+    RE2 re(pat);
+    std::vector<std::pair<std::string, std::string>> pairs;
+    for (const std::string& t : texts) pairs.emplace_back(t, "x");
+    auto r = h.run(pairs);
+    size_t matched = 0;
+    for (size_t i = 0; i < texts.size(); ++i) {
+      bool m = RE2::PartialMatch(texts[i], re);
+      matched += m;
+      EXPECT_EQ(r.reasons[i], m ? "r" : "") << pat << " on \"" << texts[i] << "\"";
+    }
+    EXPECT_GT(matched, 0u) << pat;  // the texts exercise every rule
+  }
 }
 
 TEST(Pattern, RewriteThatEmptiesASideDrops) {
