@@ -424,7 +424,7 @@ class LanguageStage : public Stage {
   }
 
   int add_list(const std::string& code) {
-    const WordList* w = find_word_list(dir_, code);
+    const SpellingDictionary* w = find_word_list(dir_, code);
     if (w == nullptr) return -1;
     for (size_t i = 0; i < lists_.size(); ++i)
       if (lists_[i] == w) return static_cast<int>(i);
@@ -540,7 +540,7 @@ class LanguageStage : public Stage {
   std::vector<std::string> accept_[2];  // language keys accepted per side
   std::string lang_[2], key_[2];
   std::string dir_;                        // spelling dictionaries ("" none)
-  std::vector<const WordList*> lists_;     // the dictionaries read (bit i: lists_[i])
+  std::vector<const SpellingDictionary*> lists_;     // the dictionaries read (bit i: lists_[i])
   std::vector<std::string> list_keys_;     // their language keys
   int own_list_[2] = {-1, -1};             // each side's language's, or -1
   uint32_t rivals_[2] = {0, 0};            // each side's relatives' and family's

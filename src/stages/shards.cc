@@ -100,7 +100,8 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
     const Encoder& enc = f == 0 ? enc_s : enc_t;
     arena.execute([&] {
       tbb::parallel_for(tbb::blocked_range<size_t>(0, u.size(), 1 << 14), [&](const tbb::blocked_range<size_t>& r) {
-        for (size_t k = r.begin(); k < r.end(); ++k) enc.remember(u.unit(k), u.ids.word(k));
+        std::vector<uint32_t> scratch;
+        for (size_t k = r.begin(); k < r.end(); ++k) enc.remember(u.unit(k), u.ids(k, scratch));
       });
     });
   }

@@ -19,13 +19,13 @@
 
 namespace sheaf {
 
-class WordList {
+class SpellingDictionary {
  public:
   // Nothing is read until the first word is asked about: a stage names
   // every dictionary it might consult, and most runs consult few.
-  WordList(std::string name, std::string aff, std::string dic)
+  SpellingDictionary(std::string name, std::string aff, std::string dic)
       : name_(std::move(name)), aff_(std::move(aff)), dic_(std::move(dic)) {}
-  ~WordList() {
+  ~SpellingDictionary() {
     if (conv_) ucnv_close(conv_);
   }
   const std::string& name() const { return name_; }
@@ -115,13 +115,13 @@ std::string file_for(const std::string& dir, std::string_view code) {
 
 }  // namespace
 
-const WordList* find_word_list(const std::string& dir, std::string_view code) {
+const SpellingDictionary* find_word_list(const std::string& dir, std::string_view code) {
   static std::mutex mu;
   // Loaded once and kept until the process ends (any thread may be
   // reading). Never destroyed: freeing a large dictionary's many small
   // allocations at exit took a tenth of a second or more each, for nothing;
   // the table stays reachable, so leak checkers see no leak.
-  static auto& lists = *new std::map<std::string, std::unique_ptr<WordList>>;  // by file path
+  static auto& lists = *new std::map<std::string, std::unique_ptr<SpellingDictionary>>;  // by file path
   static auto& chosen = *new std::map<std::string, std::string>;               // dir + code -> path ("" none)
   if (dir.empty() || code.empty()) return nullptr;
   std::lock_guard<std::mutex> lock(mu);
@@ -131,20 +131,20 @@ const WordList* find_word_list(const std::string& dir, std::string_view code) {
     std::string name = file_for(dir, code);
     c = chosen.emplace(key, name.empty() ? std::string() : dir + "/" + name).first;
     if (!name.empty() && !lists.count(c->second))
-      lists.emplace(c->second, std::make_unique<WordList>(name, c->second + ".aff", c->second + ".dic"));
+      lists.emplace(c->second, std::make_unique<SpellingDictionary>(name, c->second + ".aff", c->second + ".dic"));
   }
   return c->second.empty() ? nullptr : lists.at(c->second).get();
 }
 
-const std::string& word_list_name(const WordList* list) { return list->name(); }
+const std::string& word_list_name(const SpellingDictionary* list) { return list->name(); }
 
-void load_word_lists(const std::vector<const WordList*>& lists) {
-  for (const WordList* list : lists)
-    if (list) const_cast<WordList*>(list)->try_load();
+void load_word_lists(const std::vector<const SpellingDictionary*>& lists) {
+  for (const SpellingDictionary* list : lists)
+    if (list) const_cast<SpellingDictionary*>(list)->try_load();
 }
 
-bool word_list_accepts(const WordList* list, std::string_view word) {
-  return const_cast<WordList*>(list)->accepts(word);
+bool word_list_accepts(const SpellingDictionary* list, std::string_view word) {
+  return const_cast<SpellingDictionary*>(list)->accepts(word);
 }
 
 std::vector<std::string_view> dictionary_words(std::string_view text, size_t most) {
@@ -189,7 +189,7 @@ std::vector<std::string_view> dictionary_words(std::string_view text, size_t mos
 
 WordCache::WordCache(size_t slots) : slots_(slots) {}
 
-uint32_t WordCache::accepted(const std::vector<const WordList*>& lists, uint64_t seed, std::string_view word,
+uint32_t WordCache::accepted(const std::vector<const SpellingDictionary*>& lists, uint64_t seed, std::string_view word,
                              uint32_t want) {
   if (seed != seed_) {
     std::fill(slots_.begin(), slots_.end(), Slot{});

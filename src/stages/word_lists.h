@@ -21,7 +21,7 @@
 
 namespace sheaf {
 
-class WordList;  // one loaded dictionary (opaque)
+class SpellingDictionary;  // one loaded dictionary (opaque)
 
 // The dictionary for `code` (a BCP 47 tag or CLD2 code: "pt-BR", "pt", "es")
 // in `dir`, or nullptr when none is installed. Chosen among the files
@@ -29,23 +29,23 @@ class WordList;  // one loaded dictionary (opaque)
 // then its primary subtag ("fr"), then the primary subtag with the same
 // letters as region ("es_ES", "pt_PT", "it_IT"), then the first in name
 // order ("cs_CZ"). Thread-safe; the result lives until the process ends.
-const WordList* find_word_list(const std::string& dir, std::string_view code);
+const SpellingDictionary* find_word_list(const std::string& dir, std::string_view code);
 
 // The file name (without .dic) of a found dictionary, for messages and tests.
-const std::string& word_list_name(const WordList* list);
+const std::string& word_list_name(const SpellingDictionary* list);
 
 // Loads those of `lists` that are not loaded and that no other thread is
 // loading or asking. Threads that start on the same set call it first, so
 // that they load its dictionaries side by side instead of each waiting for
 // the one loading the dictionary it asked about first (7 dictionaries for
 // Spanish: about 0.6 s of one core).
-void load_word_lists(const std::vector<const WordList*>& lists);
+void load_word_lists(const std::vector<const SpellingDictionary*>& lists);
 
 // True when `list` accepts `word` (UTF-8; a word's capitalisation as in
 // running text is accepted as the dictionary allows). Thread-safe: a mutex
 // per dictionary (Hunspell objects are not safe to share), so callers
 // should remember answers (WordCache).
-bool word_list_accepts(const WordList* list, std::string_view word);
+bool word_list_accepts(const SpellingDictionary* list, std::string_view word);
 
 // The words of `text` a dictionary can judge: runs of letters (and marks)
 // with apostrophes inside ("l'emplacement"), of at least two letters, at
@@ -66,7 +66,7 @@ class WordCache {
   // The bits of the lists among `want` that accept `word`. `lists` and
   // `seed` name the set (a cache serves one set at a time: a new seed
   // empties it).
-  uint32_t accepted(const std::vector<const WordList*>& lists, uint64_t seed, std::string_view word, uint32_t want);
+  uint32_t accepted(const std::vector<const SpellingDictionary*>& lists, uint64_t seed, std::string_view word, uint32_t want);
 
  private:
   struct Slot {

@@ -12,16 +12,6 @@
 
 namespace sheaf {
 
-bool WordList::add(std::span<const uint32_t> symbols, uint64_t count) {
-  if (store_.size() + kHeader + symbols.size() > UINT32_MAX) return false;
-  starts_.push_back(static_cast<Handle>(store_.size()));
-  store_.push_back(static_cast<uint32_t>(symbols.size()));
-  store_.push_back(static_cast<uint32_t>(count));
-  store_.push_back(static_cast<uint32_t>(count >> 32));
-  store_.insert(store_.end(), symbols.begin(), symbols.end());
-  return true;
-}
-
 namespace {
 
 inline uint64_t key(uint32_t a, uint32_t b) { return pair_key(a, b); }
@@ -79,9 +69,11 @@ struct Worse {
 };
 
 // The learner's state: pair counts, holder lists, the heap.
+template <typename Store>
 class Learner {
  public:
-  Learner(WordList& words, const LearnOptions& o) : words_(words), o_(o), min_(static_cast<int64_t>(o.min_count)) {
+  using Sym = typename Store::Symbol;
+  Learner(Store& words, const LearnOptions& o) : words_(words), o_(o), min_(static_cast<int64_t>(o.min_count)) {
     if (min_ < 1) min_ = 1;
     if (o.threads > 1) arena_ = std::make_unique<tbb::task_arena>(o.threads);
   }
@@ -180,7 +172,7 @@ class Learner {
 
   void count_initial_pairs() {
     for (size_t i = 0; i < words_.size(); ++i) {
-      WordList::Handle w = words_.handle(i);
+      typename Store::Handle w = words_.handle(i);
       auto s = words_.symbols(w);
       int64_t c = static_cast<int64_t>(words_.count(w));
       for (size_t i = 0; i + 1 < s.size(); ++i)
@@ -204,14 +196,14 @@ class Learner {
   struct Delta {
     uint64_t pair;
     int64_t count;
-    WordList::Handle word;
+    typename Store::Handle word;
   };
-  static constexpr WordList::Handle kRemoved = UINT32_MAX;
+  static constexpr typename Store::Handle kRemoved = UINT32_MAX;
   // What rewriting words needs of its own; one per block in flight.
   struct Block {
     size_t begin = 0, end = 0;
     std::vector<Delta> deltas;
-    std::vector<uint32_t> old;
+    std::vector<Sym> old;
     std::vector<uint8_t> merged_old, merged_new;
   };
   static constexpr size_t kBlockWords = 8192;
@@ -284,8 +276,8 @@ class Learner {
   // records the count changes of the pairs next to each occurrence only.
   // Touches word w and `blk` only: words of one holder list can be rewritten
   // in parallel.
-  void merge_in_word(WordList::Handle w, uint32_t a, uint32_t b, uint32_t z, Block& blk) {
-    std::span<uint32_t> s = words_.symbols(w);
+  void merge_in_word(typename Store::Handle w, uint32_t a, uint32_t b, uint32_t z, Block& blk) {
+    std::span<Sym> s = words_.symbols(w);
     size_t n = s.size(), first = 0;
     while (first + 1 < n && !(s[first] == a && s[first + 1] == b)) ++first;
     if (first + 1 >= n) return;  // an entry left from before an earlier merge changed the word
@@ -300,7 +292,7 @@ class Learner {
       if (r + 1 < n && old[r] == a && old[r + 1] == b) {
         merged_old[r] = merged_old[r + 1] = 1;
         merged_new[m] = 1;
-        s[m++] = z;
+        s[m++] = static_cast<Sym>(z);
         r += 2;
       } else {
         s[m++] = old[r++];
@@ -322,7 +314,7 @@ class Learner {
     }
   }
 
-  WordList& words_;
+  Store& words_;
   const LearnOptions& o_;
   int64_t min_;
   PairTable pairs_;
@@ -338,6 +330,13 @@ class Learner {
 
 }  // namespace
 
-std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o) { return Learner(words, o).run(); }
+std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o) { return Learner<WordList>(words, o).run(); }
+
+std::vector<Merge> learn_merges(NarrowWordList& words, const LearnOptions& o) {
+  LearnOptions narrow = o;
+  uint64_t room = o.first_new_id < 65536 ? 65536 - uint64_t{o.first_new_id} : 0;
+  narrow.max_merges = static_cast<size_t>(std::min<uint64_t>(o.max_merges, room));
+  return Learner<NarrowWordList>(words, narrow).run();
+}
 
 }  // namespace sheaf

@@ -22,7 +22,9 @@
 #pragma once
 
 #include <cstdint>
+#include <cstring>
 #include <functional>
+#include <limits>
 #include <span>
 #include <vector>
 
@@ -30,34 +32,62 @@
 
 namespace sheaf {
 
-// Word types with their counts, in one array: per word its length, its
-// count (two 32-bit halves) and its symbols, so that reading a word touches
-// one place in memory. Learning shortens words in place. A word is named by
-// its Handle (where it starts); index w = the w-th word added.
-class WordList {
+// Word types with their counts, in one array: per word its length (32 bits),
+// its count (64 bits) and its symbols, so that reading a word touches one
+// place in memory. Learning shortens words in place. A word is named by its
+// Handle (where it starts); index w = the w-th word added. Symbols are kept
+// in `Sym`: 16 bits when every id is below 65,536 (NarrowWordList, any
+// vocabulary of at most 65,536 tokens: half the memory of 32 bits, the
+// learner's largest array), else 32 (WordList).
+template <typename Sym>
+class WordStore {
  public:
   using Handle = uint32_t;
-  // False (and nothing added) when the array would pass 2^32 entries.
-  [[nodiscard]] bool add(std::span<const uint32_t> symbols, uint64_t count);
+  using Symbol = Sym;
+  // False (and nothing added) when the array would pass 2^32 entries or a
+  // symbol does not fit Sym.
+  [[nodiscard]] bool add(std::span<const uint32_t> symbols, uint64_t count) {
+    if (store_.size() + kHeader + symbols.size() > UINT32_MAX) return false;
+    for (uint32_t x : symbols)
+      if (x > std::numeric_limits<Sym>::max()) return false;
+    starts_.push_back(static_cast<Handle>(store_.size()));
+    store_.resize(store_.size() + kHeader);
+    uint32_t n = static_cast<uint32_t>(symbols.size());
+    std::memcpy(store_.data() + starts_.back(), &n, sizeof n);
+    std::memcpy(store_.data() + starts_.back() + 4 / sizeof(Sym), &count, sizeof count);
+    for (uint32_t x : symbols) store_.push_back(static_cast<Sym>(x));
+    return true;
+  }
   size_t size() const { return starts_.size(); }
   Handle handle(size_t w) const { return starts_[w]; }
-  std::span<const uint32_t> word(size_t w) const { return symbols(starts_[w]); }
+  std::span<const Sym> word(size_t w) const { return symbols(starts_[w]); }
 
-  uint64_t count(Handle h) const { return static_cast<uint64_t>(store_[h + 1]) | static_cast<uint64_t>(store_[h + 2]) << 32; }
-  std::span<uint32_t> symbols(Handle h) { return {store_.data() + h + kHeader, store_[h]}; }
-  std::span<const uint32_t> symbols(Handle h) const { return {store_.data() + h + kHeader, store_[h]}; }
-  void set_length(Handle h, uint32_t n) { store_[h] = n; }
-  const uint32_t* address(Handle h) const { return store_.data() + h; }
+  uint64_t count(Handle h) const {
+    uint64_t c;
+    std::memcpy(&c, store_.data() + h + 4 / sizeof(Sym), sizeof c);
+    return c;
+  }
+  std::span<Sym> symbols(Handle h) { return {store_.data() + h + kHeader, length(h)}; }
+  std::span<const Sym> symbols(Handle h) const { return {store_.data() + h + kHeader, length(h)}; }
+  void set_length(Handle h, uint32_t n) { std::memcpy(store_.data() + h, &n, sizeof n); }
+  const Sym* address(Handle h) const { return store_.data() + h; }
   void reserve(size_t words, size_t symbols) {
     starts_.reserve(words);
     store_.reserve(words * kHeader + symbols);
   }
 
  private:
-  static constexpr uint32_t kHeader = 3;
-  HugeVector<uint32_t> store_;
+  static constexpr uint32_t kHeader = 12 / sizeof(Sym);  // length and count
+  uint32_t length(Handle h) const {
+    uint32_t n;
+    std::memcpy(&n, store_.data() + h, sizeof n);
+    return n;
+  }
+  HugeVector<Sym> store_;
   std::vector<Handle> starts_;
 };
+using WordList = WordStore<uint32_t>;
+using NarrowWordList = WordStore<uint16_t>;
 
 struct Merge {
   uint32_t left = 0, right = 0, result = 0;
@@ -80,7 +110,10 @@ struct LearnOptions {
   int threads = 1;  // large merges rewrite words on this many threads; the result is the same
 };
 
-// Learns merges; `words` is rewritten in place to the merged symbols.
+// Learns merges; `words` is rewritten in place to the merged symbols. With
+// 16-bit symbols at most 65,536 - first_new_id merges are learned (new ids
+// must fit).
 std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o);
+std::vector<Merge> learn_merges(NarrowWordList& words, const LearnOptions& o);
 
 }  // namespace sheaf

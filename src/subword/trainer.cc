@@ -117,6 +117,75 @@ Status count_units(const std::vector<std::string>& files, const std::vector<int>
   return {};
 }
 
+// Fills `words` from the counted word types (and `units`, if given),
+// empties `counts` and learns the merges.
+template <typename Store>
+Result<std::vector<Merge>> learn_on(Store& words, Counts& counts, const Vocabulary& v, const TrainOptions& o,
+                                    size_t fixed, LearnedUnits* units, size_t& n_types, double& merge_seconds) {
+  size_t type_bytes = 0;
+  counts.each([&](std::string_view w, uint64_t) { type_bytes += w.size(); });
+  words.reserve(counts.size(), type_bytes);
+  std::vector<uint32_t> symbols;
+  bool fits = true;
+  if (units) {
+    *units = LearnedUnits{};
+    units->bytes.reserve(type_bytes);
+    units->ends.reserve(counts.size());
+  }
+  counts.each([&](std::string_view w, uint64_t n) {
+    symbols.clear();
+    v.initial_symbols(w, symbols);
+    fits = fits && words.add(symbols, n);
+    if (units) {
+      units->bytes.append(w);
+      units->ends.push_back(units->bytes.size());
+    }
+  });
+  if (!fits)
+    return Error(ErrorKind::kData, "the " + o.side +
+                                       " training text has more distinct word units than the learner can hold (" +
+                                       std::to_string(counts.size()) + "); learn on a sample of the train split");
+  n_types = counts.size();
+  counts.clear();
+
+  // Token bytes as they grow, for the tie-breaking rule.
+  std::vector<std::string> bytes;
+  for (uint32_t id = 0; id < v.size(); ++id) bytes.push_back(v.token(id).bytes);
+  LearnOptions lo;
+  lo.max_merges = o.size - fixed;
+  lo.min_count = o.min_count;
+  lo.first_new_id = static_cast<uint32_t>(v.size());
+  lo.first_mergeable = v.first_char();
+  lo.threads = o.threads;
+  lo.before = [&bytes](SymbolPair a, SymbolPair b) {
+    const std::string &al = bytes[a.left], &ar = bytes[a.right], &bl = bytes[b.left], &br = bytes[b.right];
+    // Compare al+ar with bl+br without building them.
+    size_t na = al.size() + ar.size(), nb = bl.size() + br.size();
+    for (size_t i = 0; i < std::min(na, nb); ++i) {
+      unsigned char ca = static_cast<unsigned char>(i < al.size() ? al[i] : ar[i - al.size()]);
+      unsigned char cb = static_cast<unsigned char>(i < bl.size() ? bl[i] : br[i - bl.size()]);
+      if (ca != cb) return ca < cb;
+    }
+    if (na != nb) return na < nb;
+    if (al.size() != bl.size()) return al.size() < bl.size();
+    if (a.left != b.left) return a.left < b.left;
+    return a.right < b.right;
+  };
+  lo.progress = [&](size_t done, uint64_t count) {
+    if (o.progress)
+      std::fprintf(stderr, "\r\033[Klearning %s vocabulary: %zu merges, current pair count %llu", o.side.c_str(), done,
+                   static_cast<unsigned long long>(count));
+  };
+  lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
+  auto t2 = std::chrono::steady_clock::now();
+  lo.stop = [] { return interrupt_requested().load(); };
+  std::vector<Merge> merges = learn_merges(words, lo);
+  if (interrupt_requested().load()) return interrupted_error();
+  merge_seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t2).count();
+  if (o.progress) std::fprintf(stderr, "\r\033[K");
+  return merges;
+}
+
 }  // namespace
 
 Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const std::vector<int>& columns,
@@ -177,80 +246,33 @@ Result<Vocabulary> train_vocabulary(const std::vector<std::string>& files, const
                       o.single_digits, o.unknown_as_bytes};
   Vocabulary v = Vocabulary::build(o.specials, o.special_ids, alphabet, info);
 
-  WordList words;
-  size_t type_bytes = 0;
-  counts.each([&](std::string_view w, uint64_t) { type_bytes += w.size(); });
-  words.reserve(counts.size(), type_bytes);
-  std::vector<uint32_t> symbols;
-  bool fits = true;
-  if (units) {
-    *units = LearnedUnits{};
-    units->bytes.reserve(type_bytes);
-    units->ends.reserve(counts.size());
-  }
-  counts.each([&](std::string_view w, uint64_t n) {
-    symbols.clear();
-    v.initial_symbols(w, symbols);
-    fits = fits && words.add(symbols, n);
-    if (units) {
-      units->bytes.append(w);
-      units->ends.push_back(units->bytes.size());
-    }
-  });
-  if (!fits)
-    return Error(ErrorKind::kData, "the " + o.side +
-                                       " training text has more distinct word units than the learner can hold (" +
-                                       std::to_string(counts.size()) + "); learn on a sample of the train split");
-  size_t n_types = counts.size();
-  counts.clear();
-
-  // Token bytes as they grow, for the tie-breaking rule.
-  std::vector<std::string> bytes;
-  for (uint32_t id = 0; id < v.size(); ++id) bytes.push_back(v.token(id).bytes);
-  LearnOptions lo;
-  lo.max_merges = o.size - fixed;
-  lo.min_count = o.min_count;
-  lo.first_new_id = static_cast<uint32_t>(v.size());
-  lo.first_mergeable = v.first_char();
-  lo.threads = o.threads;
-  lo.before = [&bytes](SymbolPair a, SymbolPair b) {
-    const std::string &al = bytes[a.left], &ar = bytes[a.right], &bl = bytes[b.left], &br = bytes[b.right];
-    // Compare al+ar with bl+br without building them.
-    size_t na = al.size() + ar.size(), nb = bl.size() + br.size();
-    for (size_t i = 0; i < std::min(na, nb); ++i) {
-      unsigned char ca = static_cast<unsigned char>(i < al.size() ? al[i] : ar[i - al.size()]);
-      unsigned char cb = static_cast<unsigned char>(i < bl.size() ? bl[i] : br[i - bl.size()]);
-      if (ca != cb) return ca < cb;
-    }
-    if (na != nb) return na < nb;
-    if (al.size() != bl.size()) return al.size() < bl.size();
-    if (a.left != b.left) return a.left < b.left;
-    return a.right < b.right;
-  };
+  // 16-bit symbols when every id fits: ids are below the vocabulary size.
   std::vector<Merge> merges;
-  lo.progress = [&](size_t done, uint64_t count) {
-    if (o.progress)
-      std::fprintf(stderr, "\r\033[Klearning %s vocabulary: %zu merges, current pair count %llu", o.side.c_str(), done,
-                   static_cast<unsigned long long>(count));
-  };
-  lo.on_merge = [&bytes](const Merge& m) { bytes.push_back(bytes[m.left] + bytes[m.right]); };
-  auto t2 = std::chrono::steady_clock::now();
-  lo.stop = [] { return interrupt_requested().load(); };
-  merges = learn_merges(words, lo);
-  if (interrupt_requested().load()) return interrupted_error();
-  auto t3 = std::chrono::steady_clock::now();
-  if (o.progress) std::fprintf(stderr, "\r\033[K");
+  size_t n_types = 0;
+  double merge_seconds = 0;
+  if (o.size <= 65536) {
+    NarrowWordList words;
+    auto learned = learn_on(words, counts, v, o, fixed, units, n_types, merge_seconds);
+    if (!learned) return learned.error();
+    merges = std::move(*learned);
+    if (units) units->narrow = std::move(words);
+  } else {
+    WordList words;
+    auto learned = learn_on(words, counts, v, o, fixed, units, n_types, merge_seconds);
+    if (!learned) return learned.error();
+    merges = std::move(*learned);
+    if (units) units->wide = std::move(words);
+  }
   for (const Merge& m : merges) v.add_merge(m.left, m.right);
-  if (units) units->ids = std::move(words);
   if (report) {
     report->word_types = n_types;
     report->word_units = total_units;
     report->characters = total_chars;
     report->distinct_characters = by_freq.size();
     report->merges = merges.size();
-    report->stopped_early = merges.size() < lo.max_merges;
+    report->stopped_early = merges.size() < o.size - fixed;
     report->count_seconds = std::chrono::duration<double>(t1 - t0).count();
-    report->merge_seconds = std::chrono::duration<double>(t3 - t2).count();
+    report->merge_seconds = merge_seconds;
   }
   return v;
 }

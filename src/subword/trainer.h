@@ -14,6 +14,7 @@
 #pragma once
 
 #include <array>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -54,8 +55,16 @@ struct TrainReport {
 struct LearnedUnits {
   std::string bytes;           // the units back to back
   std::vector<uint64_t> ends;  // unit k is bytes[ends[k-1], ends[k]), ends[-1] = 0
-  WordList ids;                // word k: the ids of unit k
+  NarrowWordList narrow;       // word k: the ids of unit k, when the vocabulary has at most 65,536 tokens
+  WordList wide;               // the same for a larger vocabulary (one of the two is empty)
   size_t size() const { return ends.size(); }
+  // The ids of unit k (copied into `scratch` from 16 bits).
+  std::span<const uint32_t> ids(size_t k, std::vector<uint32_t>& scratch) const {
+    if (wide.size() != 0) return wide.word(k);
+    auto s = narrow.word(k);
+    scratch.assign(s.begin(), s.end());
+    return scratch;
+  }
   std::string_view unit(size_t k) const {
     size_t b = k == 0 ? 0 : ends[k - 1];
     return std::string_view(bytes).substr(b, ends[k] - b);

@@ -220,6 +220,57 @@ TEST(MergeLearner, ThreadsGiveTheSameMerges) {
   }
 }
 
+// Words kept in 16 bits (any vocabulary of at most 65,536 tokens) learn the
+// merges, counts and final words of 32 bits, on one thread and on two, with
+// ids near the top of the 16-bit range; a symbol that does not fit is
+// refused, and new ids never pass 65,535.
+TEST(MergeLearner, SixteenBitWordsLearnWhatThirtyTwoBitWordsLearn) {
+  std::mt19937 rng(29);
+  for (int trial = 0; trial < 8; ++trial) {
+    WordList wide;
+    NarrowWordList narrow;
+    const uint32_t base = trial % 2 ? 65000 : 4;  // symbol ids from here
+    for (int w = 0; w < (trial < 4 ? 2000 : 40000); ++w) {
+      std::vector<uint32_t> symbols;
+      int len = 1 + static_cast<int>(rng() % 12);
+      for (int i = 0; i < len; ++i) symbols.push_back(base + static_cast<uint32_t>(rng() % (3 + trial)));
+      uint64_t count = trial == 7 ? (uint64_t{1} << 40) + rng() % 5 : 1 + rng() % 6;  // counts past 32 bits
+      ASSERT_TRUE(wide.add(symbols, count));
+      ASSERT_TRUE(narrow.add(symbols, count));
+    }
+    LearnOptions o;
+    o.max_merges = 400;
+    o.min_count = 1 + static_cast<uint64_t>(trial % 3);
+    o.first_new_id = base + 100;
+    o.threads = 1 + trial % 2;
+    auto a = learn_merges(wide, o);
+    auto b = learn_merges(narrow, o);
+    // From 65,100, 16 bits leave room for 436 new ids: all 400 fit.
+    ASSERT_EQ(a.size(), b.size()) << trial;
+    for (size_t i = 0; i < a.size(); ++i)
+      ASSERT_EQ(std::tuple(a[i].left, a[i].right, a[i].result, a[i].count),
+                std::tuple(b[i].left, b[i].right, b[i].result, b[i].count))
+          << trial << " " << i;
+    for (size_t w = 0; w < wide.size(); ++w) {
+      auto x = wide.word(w);
+      auto y = narrow.word(w);
+      ASSERT_TRUE(std::equal(x.begin(), x.end(), y.begin(), y.end())) << trial << " " << w;
+      ASSERT_EQ(wide.count(wide.handle(w)), narrow.count(narrow.handle(w)));
+    }
+  }
+  NarrowWordList n;
+  EXPECT_FALSE(n.add(std::vector<uint32_t>{1, 65536}, 1));
+  EXPECT_EQ(n.size(), 0u);
+  EXPECT_TRUE(n.add(std::vector<uint32_t>{65535, 65535, 65535, 65535}, 9));
+  LearnOptions o;
+  o.max_merges = 100;
+  o.min_count = 1;
+  o.first_new_id = 65534;
+  auto m = learn_merges(n, o);
+  ASSERT_EQ(m.size(), 2u);  // ids 65534 and 65535, then no room
+  EXPECT_EQ(m[1].result, 65535u);
+}
+
 TEST(Units, AreLosslessAndCarryTheirSpace) {
   std::vector<std::string> u;
   auto cut = [&](const std::string& s, bool digits) {
@@ -512,14 +563,16 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
     ASSERT_EQ(units.size(), r.word_types);
     Encoder fresh(*v);
     for (size_t k = 0; k < units.size(); ++k) {
-      auto ids = units.ids.word(k);
+      std::vector<uint32_t> scratch;
+      auto ids = units.ids(k, scratch);
       ASSERT_EQ(fresh.encode(units.unit(k)), std::vector<uint32_t>(ids.begin(), ids.end())) << units.unit(k);
     }
     // An encoder that starts from them, on four threads, encodes every line
     // as a fresh one does. Plain threads, not oneTBB's parallel_for, so that
     // ThreadSanitizer sees every edge (docs/reliability.md).
     Encoder seeded(*v, SIZE_MAX, text.size());
-    for (size_t k = 0; k < units.size(); ++k) seeded.remember(units.unit(k), units.ids.word(k));
+    std::vector<uint32_t> scratch;
+    for (size_t k = 0; k < units.size(); ++k) seeded.remember(units.unit(k), units.ids(k, scratch));
     std::vector<std::string_view> lines;
     for_each_line(text, [&](std::string_view l) { lines.push_back(l); });
     std::vector<std::vector<uint32_t>> got(lines.size());

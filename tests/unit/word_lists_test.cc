@@ -56,9 +56,9 @@ TEST(WordLists, DictionariesAreFoundByLanguageCode) {
 
 TEST(WordLists, AcceptsTheLanguagesOwnWords) {
   NEED_DICTIONARIES();
-  const WordList* es = find_word_list(kDir, "es");
-  const WordList* pt = find_word_list(kDir, "pt-BR");
-  const WordList* pl = find_word_list(kDir, "pl");
+  const SpellingDictionary* es = find_word_list(kDir, "es");
+  const SpellingDictionary* pt = find_word_list(kDir, "pt-BR");
+  const SpellingDictionary* pl = find_word_list(kDir, "pl");
   // dpkg: "en el nombre del paquete en la línea" / "no nome do pacote na linha".
   EXPECT_TRUE(word_list_accepts(es, "línea"));
   EXPECT_FALSE(word_list_accepts(es, "linha"));
@@ -74,7 +74,7 @@ TEST(WordLists, AcceptsTheLanguagesOwnWords) {
   EXPECT_FALSE(word_list_accepts(pl, "directorio"));
   EXPECT_FALSE(word_list_accepts(pl, "日本"));  // not writable in the dictionary's encoding
   // The cache answers per list (bit i: lists[i]) what the lists answer.
-  std::vector<const WordList*> lists = {es, pt};
+  std::vector<const SpellingDictionary*> lists = {es, pt};
   WordCache cache(64);  // small: words are evicted and asked again
   auto ws = dictionary_words("fim de linha inesperado no nome do pacote na linha", 32);
   ASSERT_EQ(ws.size(), 10u);
