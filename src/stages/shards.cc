@@ -98,10 +98,12 @@ static Status run_shards(const StepContext& in, const StageSpec& spec,
   for (size_t f = 0; f < std::min(units.size(), size_t{2}); ++f) {
     const LearnedUnits& u = units[f];
     const Encoder& enc = f == 0 ? enc_s : enc_t;
+    const Vocabulary& v = f == 0 ? vs : vt;
     arena.execute([&] {
       tbb::parallel_for(tbb::blocked_range<size_t>(0, u.size(), 1 << 14), [&](const tbb::blocked_range<size_t>& r) {
-        std::vector<uint32_t> scratch;
-        for (size_t k = r.begin(); k < r.end(); ++k) enc.remember(u.unit(k), u.ids(k, scratch));
+        std::string text;
+        for (size_t k = r.begin(); k < r.end(); ++k)
+          if (u.text_of(k, v, text)) enc.remember(text, u.ids_of(k));
       });
     });
   }

@@ -38,6 +38,12 @@ class UnitCounter {
   // Adds one occurrence of each unit of `text`.
   void add(std::string_view text, std::span<const HashedUnit> units);
   size_t size() const { return size_; }
+  // Frees the table: the counter is empty and holds no memory.
+  void release() {
+    HugeVector<Slot>().swap(slots_);
+    std::string().swap(arena_);
+    size_ = 0;
+  }
   // Calls fn(unit, count) for every distinct unit, in no particular order.
   template <typename Fn>
   void each(Fn&& fn) const {

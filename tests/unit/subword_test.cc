@@ -546,33 +546,44 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
   std::string text;
   std::mt19937 rng(11);
   for (int i = 0; i < 5000; ++i)
-    text += "w" + std::to_string(rng() % 700) + "ab x" + std::to_string(rng() % 90) + "\u00e9\tcc" +
-            std::to_string(rng() % 300) + "\n";
+    text += "w" + std::to_string(rng() % 700) + "ab x" + std::to_string(rng() % 90) + "\u00e9" +
+            (i % 97 == 0 ? " z\u00f8" : "") + "\tcc" + std::to_string(rng() % 300) + "\n";  // rare: outside the alphabet
   test::write_file(t / "train.tsv", text);
-  for (bool single_digits : {false, true}) {
+  for (int mode = 0; mode < 3; ++mode) {
+    bool single_digits = mode == 1, bytes = mode != 2;
     TrainOptions o;
     o.size = 700;
     o.specials = {"a", "b", "c", "d"};
     o.threads = 2;
     o.single_digits = single_digits;
-    o.alphabet_coverage = 0.99;  // some characters go through byte tokens
+    o.unknown_as_bytes = bytes;
+    o.alphabet_coverage = 0.99;  // some characters go through byte tokens (or the unknown token)
     TrainReport r;
     LearnedUnits units;
     auto v = train_vocabulary({t / "train.tsv"}, {0, 1}, o, &r, &units);
     ASSERT_TRUE(v.ok());
     ASSERT_EQ(units.size(), r.word_types);
     Encoder fresh(*v);
+    // A unit's text is its tokens' bytes, unless it holds the unknown token.
+    std::string unit;
+    size_t lost = 0;
     for (size_t k = 0; k < units.size(); ++k) {
-      std::vector<uint32_t> scratch;
-      auto ids = units.ids(k, scratch);
-      ASSERT_EQ(fresh.encode(units.unit(k)), std::vector<uint32_t>(ids.begin(), ids.end())) << units.unit(k);
+      auto ids = units.ids_of(k);
+      if (!units.text_of(k, *v, unit)) {
+        ASSERT_FALSE(bytes) << k;
+        ASSERT_NE(std::find(ids.begin(), ids.end(), v->special(kUnk)), ids.end());
+        ++lost;
+        continue;
+      }
+      ASSERT_EQ(fresh.encode(unit), std::vector<uint32_t>(ids.begin(), ids.end())) << unit;
     }
+    EXPECT_EQ(lost > 0, !bytes);
     // An encoder that starts from them, on four threads, encodes every line
     // as a fresh one does. Plain threads, not oneTBB's parallel_for, so that
     // ThreadSanitizer sees every edge (docs/reliability.md).
     Encoder seeded(*v, SIZE_MAX, text.size());
-    std::vector<uint32_t> scratch;
-    for (size_t k = 0; k < units.size(); ++k) seeded.remember(units.unit(k), units.ids(k, scratch));
+    for (size_t k = 0; k < units.size(); ++k)
+      if (units.text_of(k, *v, unit)) seeded.remember(unit, units.ids_of(k));
     std::vector<std::string_view> lines;
     for_each_line(text, [&](std::string_view l) { lines.push_back(l); });
     std::vector<std::vector<uint32_t>> got(lines.size());
