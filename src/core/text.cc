@@ -209,6 +209,19 @@ const WordAutomaton& word_automaton() {
   return a;
 }
 
+inline uint64_t load8(const uint8_t* p) {
+  uint64_t w;
+  std::memcpy(&w, p, 8);
+  return w;
+}
+// True when all eight bytes of `w` are ASCII letters (A-Z, a-z): ASCII,
+// and with bit 0x20 set each in 0x61-0x7A (text.h's exact byte tests).
+inline bool ascii_letters8(uint64_t w) {
+  if (w & kHighBits) return false;
+  uint64_t l = w | (kEachByte * 0x20);
+  return (ascii_bytes_at_least(l, 0x61) & ascii_bytes_below(l, 0x7B)) == kHighBits;
+}
+
 // Walks `s` through the automaton: on_break(offset) for every boundary
 // inside the text (in order), on_count() for every word, one call a
 // character. False as soon as a character needs ICU (what was reported
@@ -218,6 +231,8 @@ bool walk_words(std::string_view s, OnBreak&& on_break, OnCount&& on_count) {
   const uint8_t* table = word_classes();
   const WordAutomaton& a = word_automaton();
   Utf8Cursor u(s);
+  const uint8_t* p = reinterpret_cast<const uint8_t*>(s.data());
+  const size_t n = s.size();
   size_t mid = 0;
   uint8_t st = kOut;
   while (!u.done()) {
@@ -230,6 +245,15 @@ bool walk_words(std::string_view s, OnBreak&& on_break, OnCount&& on_count) {
     if ((r & kCount) != 0) on_count();
     st = r & kStateBits;
     if (st == kAfterLetterMid || st == kAfterDigitMid) mid = at;
+    if (st == kInLetter) {
+      // Inside a word, a letter changes nothing (next[kInLetter][kLetter]
+      // is kInLetter without flags): skip the run of ASCII letters, eight
+      // bytes at a time while all eight are A-Z or a-z, then by the table.
+      size_t i = u.pos();
+      while (i + 8 <= n && ascii_letters8(load8(p + i))) i += 8;
+      while (i < n && p[i] < 0x80 && table[p[i]] == kLetter) ++i;
+      u.seek(i);
+    }
   }
   // Text that ends on a waiting mid-word character: it is a segment of its own.
   if (st == kAfterLetterMid || st == kAfterDigitMid) on_break(static_cast<uint32_t>(mid));

@@ -100,6 +100,26 @@ TEST(WordBoundaries, FastPathAgreesWithIcuOnGeneratedText) {
   EXPECT_GT(fast, 10000u);
 }
 
+// Inside a word the walk skips runs of ASCII letters eight bytes at a time:
+// long runs beside the bytes just outside A-Z and a-z ('@' is a letter to
+// ICU, '[', '`', '{' are not), held to ICU (Unicode's WordBreakProperty via
+// ICU's root rules).
+TEST(WordBoundaries, LongLetterRunsAgreeWithIcu) {
+  const std::vector<std::string> parts = {"abcdefgh", "ABCDEFGHIJKLMNOP", "xyzXYZ", "Zz", "a", "@", "[", "`",
+                                          "{",        "_",                "'",      ".",  " ", "\u00e9", "1", "Q"};
+  std::mt19937 rng(808);
+  for (int trial = 0; trial < 5000; ++trial) {
+    std::string s;
+    for (int i = 1 + static_cast<int>(rng() % 14); i > 0; --i) s += parts[rng() % parts.size()];
+    std::vector<std::tuple<size_t, size_t, bool>> b;
+    cut_words_reference(s, [&](size_t x, size_t y, bool w) { b.emplace_back(x, y, w); });
+    std::vector<uint32_t> ends;
+    word_segment_ends(s, ends);
+    ASSERT_EQ(ends.size(), b.size()) << s;
+    for (size_t k = 0; k < ends.size(); ++k) ASSERT_EQ(ends[k], std::get<1>(b[k])) << s;
+  }
+}
+
 TEST(WordBoundaries, CountsWordsNotSpacesOrPunctuation) {
   // "9:30" is two numbers (the colon is not MidNum), "doesn't" one word.
   EXPECT_EQ(count_words("The garden opens at 9:30, doesn't it?"), 8u);
