@@ -15,13 +15,20 @@ namespace {
 
 // True when `text` holds `atom` (ASCII, lowercase) in any ASCII case. The
 // search runs memchr on the atom's first byte that is not a letter, or on
-// both cases of its first letter.
+// both cases of its first letter. Also true once it has compared 8 bytes a
+// byte of text (hostile text such as a long run of one letter against a long
+// atom of it): the caller then runs the full search, so the answer stays
+// exact and the cost linear.
 bool holds_atom(std::string_view text, std::string_view atom) {
   auto lower = [](char c) { return static_cast<char>(c >= 'A' && c <= 'Z' ? c | 0x20 : c); };
+  size_t budget = 8 * text.size() + 64;
   auto at = [&](size_t begin) {
     if (begin + atom.size() > text.size()) return false;
-    for (size_t i = 0; i < atom.size(); ++i)
+    for (size_t i = 0; i < atom.size(); ++i) {
+      if (budget == 0) return true;
+      --budget;
       if (lower(text[begin + i]) != atom[i]) return false;
+    }
     return true;
   };
   auto scan = [&](char c, size_t k) {  // c sits at atom[k]
@@ -53,14 +60,16 @@ struct Rule {
   bool may_match(std::string_view text) const {
     if (!filter) return true;
     // The prefilter reads U+017F and U+212A as 's' and 'k' (the only code
-    // points it relates to ASCII: tests/unit/pattern_test.cc asks RE2 about
-    // every one), which a byte search would not see.
+    // points it relates to ASCII: Pattern.PrefilterDropsExactlyWhatRe2Matches
+    // in tests/unit/filters_test.cc asks RE2 about every one), which a byte
+    // search would not see.
     if (folds && (text.find("\xC5\xBF") != std::string_view::npos || text.find("\xE2\x84\xAA") != std::string_view::npos))
       return true;
     thread_local std::vector<int> found, passed;
     found.clear();
     for (size_t i = 0; i < atoms.size(); ++i)
       if (holds_atom(text, atoms[i])) found.push_back(static_cast<int>(i));
+    if (found.empty()) return false;  // a filtered pattern needs at least one of its strings
     filter->AllPotentials(found, &passed);
     return !passed.empty();
   }

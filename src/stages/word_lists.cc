@@ -21,8 +21,8 @@ namespace sheaf {
 
 class SpellingDictionary {
  public:
-  // Nothing is read until the first word is asked about: a stage names
-  // every dictionary it might consult, and most runs consult few.
+  // Nothing is read until load_word_lists() or the first word asked about
+  // (the language stage loads its set when its first batches arrive).
   SpellingDictionary(std::string name, std::string aff, std::string dic)
       : name_(std::move(name)), aff_(std::move(aff)), dic_(std::move(dic)) {}
   ~SpellingDictionary() {
@@ -58,11 +58,21 @@ class SpellingDictionary {
 
  private:
   void load() {
-    dict_ = std::make_unique<Hunspell>(aff_.c_str(), dic_.c_str());
+    // libhunspell 1.7 fills a process-wide case table, without a lock, when
+    // the first UTF-8 dictionary is built (and publishes it before it is
+    // full). Dictionaries load side by side, so until one UTF-8 dictionary
+    // is built, builds take turns.
+    static std::mutex first_mu;
+    static std::atomic<bool> table_ready{false};
+    if (table_ready.load(std::memory_order_acquire)) {
+      dict_ = std::make_unique<Hunspell>(aff_.c_str(), dic_.c_str());
+    } else {
+      std::lock_guard<std::mutex> first(first_mu);
+      dict_ = std::make_unique<Hunspell>(aff_.c_str(), dic_.c_str());
+      if (is_utf8(dict_->get_dict_encoding())) table_ready.store(true, std::memory_order_release);
+    }
     std::string enc = dict_->get_dict_encoding();
-    std::string upper = enc;
-    for (char& c : upper) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
-    if (upper != "UTF-8" && upper != "UTF8") {
+    if (!is_utf8(enc)) {
       UErrorCode st = U_ZERO_ERROR;
       conv_ = ucnv_open(enc.c_str(), &st);
       if (U_FAILURE(st)) {
@@ -73,6 +83,11 @@ class SpellingDictionary {
       }
     }
     ready_.store(true, std::memory_order_release);
+  }
+
+  static bool is_utf8(std::string enc) {
+    for (char& c : enc) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+    return enc == "UTF-8" || enc == "UTF8";
   }
 
   std::string name_, aff_, dic_;

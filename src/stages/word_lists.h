@@ -9,7 +9,7 @@
 //
 // Dictionaries are found by language code in a directory (Debian installs
 // them in /usr/share/hunspell as LL_CC.aff/.dic), loaded once per process
-// when first consulted and shared by all threads. A language without an installed
+// (by load_word_lists, or when first consulted) and shared by all threads. A language without an installed
 // dictionary has none, and callers fall back to what they did without.
 #pragma once
 

@@ -79,6 +79,11 @@ class Learner {
   }
 
   std::vector<Merge> run() {
+    // A symbol at or above first_new_id could make a merge's new pair join
+    // a list out of handle order, which the gaps cannot hold.
+    for (size_t i = 0; i < words_.size(); ++i)
+      for (uint32_t s : words_.word(i))
+        if (s >= o_.first_new_id) return {};
     count_initial_pairs();
     std::vector<Merge> merges;
     uint32_t next_id = o_.first_new_id;

@@ -112,7 +112,8 @@ struct LearnOptions {
 
 // Learns merges; `words` is rewritten in place to the merged symbols. With
 // 16-bit symbols at most 65,536 - first_new_id merges are learned (new ids
-// must fit).
+// must fit). Every symbol of `words` must be below first_new_id (the
+// holder lists count on it); when one is not, nothing is learned.
 std::vector<Merge> learn_merges(WordList& words, const LearnOptions& o);
 std::vector<Merge> learn_merges(NarrowWordList& words, const LearnOptions& o);
 

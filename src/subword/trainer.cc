@@ -4,7 +4,9 @@
 #include <oneapi/tbb/parallel_pipeline.h>
 #include <oneapi/tbb/task_arena.h>
 #include <unicode/utf8.h>
-#include <malloc.h>
+#ifdef __GLIBC__
+#include <malloc.h>  // malloc_trim
+#endif
 
 #include <algorithm>
 #include <chrono>

@@ -47,7 +47,7 @@ void UnitCounter::add_hashed(std::string_view unit, uint64_t hash, uint64_t n) {
 }
 
 void UnitCounter::grow() {
-  HugeVector<Slot> old(std::max<size_t>(slots_.size() * 2, 1 << 16));  // from nothing after release()
+  HugeVector<Slot> old(slots_.size() * 2);
   old.swap(slots_);
   size_t mask = slots_.size() - 1;
   for (const Slot& s : old) {

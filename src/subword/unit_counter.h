@@ -38,7 +38,7 @@ class UnitCounter {
   // Adds one occurrence of each unit of `text`.
   void add(std::string_view text, std::span<const HashedUnit> units);
   size_t size() const { return size_; }
-  // Frees the table: the counter is empty and holds no memory.
+  // Frees the table: the counter holds no memory and is not used again.
   void release() {
     HugeVector<Slot>().swap(slots_);
     std::string().swap(arena_);

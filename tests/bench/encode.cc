@@ -65,7 +65,9 @@ int main(int argc, char** argv) {
   auto start = std::chrono::steady_clock::now();
   arena.execute([&] {
     tbb::parallel_for(tbb::blocked_range<size_t>(0, units.size(), 1 << 14), [&](const tbb::blocked_range<size_t>& r) {
-      for (size_t k = r.begin(); k < r.end(); ++k) enc.remember(units.unit(k), units.ids.word(k));
+      std::string unit;
+      for (size_t k = r.begin(); k < r.end(); ++k)
+        if (units.text_of(k, *v, unit)) enc.remember(unit, units.ids_of(k));
     });
   });
   auto t0 = std::chrono::steady_clock::now();

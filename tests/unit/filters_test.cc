@@ -350,6 +350,21 @@ TEST(Pattern, PrefilterDropsExactlyWhatRe2Matches) {
   }
 }
 
+// Hostile text for the prefilter's byte search: a long run of one letter
+// against a rule whose required string is a long run of it. The search gives
+// up after a bounded number of comparisons and leaves the answer to RE2.
+TEST(Pattern, PrefilterOnALongRunOfOneLetterGivesRe2sAnswer) {
+  test::StageHarness miss("kind = \"pattern\"\nmarkup = \"keep\"\nrules = [{ name = \"r\", pattern = \"a{300}b\" }]");
+  test::StageHarness hit("kind = \"pattern\"\nmarkup = \"keep\"\nrules = [{ name = \"r\", pattern = \"a{300}\" }]");
+  ASSERT_TRUE(miss.ok()) << miss.error();
+  ASSERT_TRUE(hit.ok()) << hit.error();
+  std::string run(200000, 'a');
+  EXPECT_EQ(miss.reason(run, "x"), "");
+  EXPECT_EQ(miss.reason(run + "b", "x"), "r");
+  EXPECT_EQ(hit.reason(run, "x"), "r");
+  EXPECT_EQ(hit.reason(std::string(299, 'a'), "x"), "");
+}
+
 TEST(Pattern, RewriteThatEmptiesASideDrops) {
   test::StageHarness h(R"(kind = "pattern"
 markup = "keep"

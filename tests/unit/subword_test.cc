@@ -8,6 +8,7 @@
 #include <cstdio>
 #include <map>
 #include <random>
+#include <set>
 #include <sstream>
 #include <thread>
 #include <tuple>
@@ -261,14 +262,28 @@ TEST(MergeLearner, SixteenBitWordsLearnWhatThirtyTwoBitWordsLearn) {
   NarrowWordList n;
   EXPECT_FALSE(n.add(std::vector<uint32_t>{1, 65536}, 1));
   EXPECT_EQ(n.size(), 0u);
-  EXPECT_TRUE(n.add(std::vector<uint32_t>{65535, 65535, 65535, 65535}, 9));
+  // Eight 65533s: 32 bits learn three merges (65534, 65535, 65536); 16 bits
+  // stop after two with a pair still open.
+  const std::vector<uint32_t> eight(8, 65533);
+  WordList w32;
+  ASSERT_TRUE(n.add(eight, 9));
+  ASSERT_TRUE(w32.add(eight, 9));
   LearnOptions o;
   o.max_merges = 100;
   o.min_count = 1;
   o.first_new_id = 65534;
+  EXPECT_EQ(learn_merges(w32, o).size(), 3u);
   auto m = learn_merges(n, o);
-  ASSERT_EQ(m.size(), 2u);  // ids 65534 and 65535, then no room
+  ASSERT_EQ(m.size(), 2u);
   EXPECT_EQ(m[1].result, 65535u);
+  auto last = n.word(0);
+  EXPECT_EQ(std::vector<uint32_t>(last.begin(), last.end()), (std::vector<uint32_t>{65535, 65535}));
+  // A symbol at or above first_new_id: nothing is learned.
+  NarrowWordList bad;
+  ASSERT_TRUE(bad.add(std::vector<uint32_t>{8, 8, 6}, 3));
+  ASSERT_TRUE(bad.add(std::vector<uint32_t>{5, 6}, 3));
+  o.first_new_id = 5;
+  EXPECT_TRUE(learn_merges(bad, o).empty());
 }
 
 TEST(Units, AreLosslessAndCarryTheirSpace) {
@@ -549,10 +564,12 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
     text += "w" + std::to_string(rng() % 700) + "ab x" + std::to_string(rng() % 90) + "\u00e9" +
             (i % 97 == 0 ? " z\u00f8" : "") + "\tcc" + std::to_string(rng() % 300) + "\n";  // rare: outside the alphabet
   test::write_file(t / "train.tsv", text);
-  for (int mode = 0; mode < 3; ++mode) {
+  // Modes: plain; single digits; the unknown token instead of byte tokens;
+  // a vocabulary over 65,536 tokens (32-bit words; learning stops early).
+  for (int mode = 0; mode < 4; ++mode) {
     bool single_digits = mode == 1, bytes = mode != 2;
     TrainOptions o;
-    o.size = 700;
+    o.size = mode == 3 ? 70000 : 700;
     o.specials = {"a", "b", "c", "d"};
     o.threads = 2;
     o.single_digits = single_digits;
@@ -567,6 +584,7 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
     // A unit's text is its tokens' bytes, unless it holds the unknown token.
     std::string unit;
     size_t lost = 0;
+    std::set<std::string> rebuilt;
     for (size_t k = 0; k < units.size(); ++k) {
       auto ids = units.ids_of(k);
       if (!units.text_of(k, *v, unit)) {
@@ -576,8 +594,19 @@ TEST(Trainer, LearnedUnitsAreWhatTheEncoderGives) {
         continue;
       }
       ASSERT_EQ(fresh.encode(unit), std::vector<uint32_t>(ids.begin(), ids.end())) << unit;
+      rebuilt.insert(unit);
     }
     EXPECT_EQ(lost > 0, !bytes);
+    // The rebuilt texts are the distinct units of the training text: all of
+    // them with byte tokens, those without a character outside the alphabet
+    // otherwise.
+    std::set<std::string> distinct;
+    for_each_line(text, [&](std::string_view l) {
+      for (std::string_view side : tsv_sides(l))
+        cut_units(side, single_digits, [&](std::string_view x) { distinct.emplace(x); });
+    });
+    EXPECT_EQ(rebuilt.size() + lost, distinct.size());
+    for (const std::string& x : rebuilt) ASSERT_TRUE(distinct.count(x)) << x;
     // An encoder that starts from them, on four threads, encodes every line
     // as a fresh one does. Plain threads, not oneTBB's parallel_for, so that
     // ThreadSanitizer sees every edge (docs/reliability.md).
