@@ -180,7 +180,8 @@ Result<std::vector<Merge>> learn_on(Store& words, Counts& counts, const Vocabula
     // Every 1000 merges, give the memory of freed holder lists back: glibc
     // keeps it for reuse, which the next lists' other sizes seldom fit, and
     // the learner's RSS grew by about 90 MiB over 31,667 merges on the 200 MB
-    // benchmark corpus (docs/performance.md). A trim is about a millisecond.
+    // benchmark corpus (docs/performance.md). The 31 trims there cost no
+    // time that the same-minutes runs could tell from their noise.
     malloc_trim(0);
 #endif
     if (o.progress)
